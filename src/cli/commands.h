@@ -1,0 +1,19 @@
+/* commands.h -- every command's entry point and description.
+ *
+ * Each command lives in src/cli/cmd_NAME.c and defines
+ *     const struct cli_cmd cmd_NAME_info;   its name, synopsis, options
+ *     int cmd_NAME(int argc, char **argv);  argv[0] is the command name;
+ *                                           returns the exit status
+ */
+#ifndef VECSIFT_COMMANDS_H
+#define VECSIFT_COMMANDS_H
+
+#include "cli.h"
+
+#define VECSIFT_COMMAND(x) \
+    extern const struct cli_cmd cmd_##x##_info; \
+    int cmd_##x(int argc, char **argv)
+
+/* Keep alphabetical, like the table in main.c. */
+
+#endif
