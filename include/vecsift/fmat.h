@@ -1,0 +1,40 @@
+/* fmat.h -- a feature matrix, dense or sparse: what a classifier sees.
+ *
+ * N rows (texts) by D columns (features), doubles.  Dense: one row-major
+ * slab.  Sparse: compressed rows (CSR) with sorted column indices, so the
+ * bag-of-words baseline stays sparse end to end.  Plain struct: its fields
+ * are the interface (STYLE C3).
+ */
+#ifndef VECSIFT_FMAT_H
+#define VECSIFT_FMAT_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+struct fmat {
+    size_t n, d;
+    int sparse;
+    double *x;        /* dense: (n, d) row-major */
+    size_t *rowptr;   /* sparse: (n+1) */
+    uint32_t *col;    /* sparse: (rowptr[n]) ascending within a row */
+    double *val;      /* sparse: (rowptr[n]) */
+    size_t nnz_cap;
+};
+#define FMAT_INIT { 0, 0, 0, NULL, NULL, NULL, NULL, 0 }
+
+/* Allocate a zeroed dense n x d matrix (previous contents released). */
+void fmat_dense(struct fmat *m, size_t n, size_t d);
+/* Start an empty sparse matrix with d columns; add rows with fmat_push_row. */
+void fmat_sparse(struct fmat *m, size_t d);
+/* Append a sparse row (cols ascending). */
+void fmat_push_row(struct fmat *m, const uint32_t *cols, const double *vals, size_t nnz);
+void fmat_release(struct fmat *m);
+
+/* Row i dotted with w (length d). */
+double fmat_dot(const struct fmat *m, size_t i, const double *w);
+/* y += a * row i (y has length d). */
+void fmat_axpy(const struct fmat *m, size_t i, double a, double *y);
+/* A new matrix holding rows[0..k) of 'src', in that order. */
+void fmat_select(struct fmat *dst, const struct fmat *src, const size_t *rows, size_t k);
+
+#endif

@@ -1,0 +1,70 @@
+/* text.h -- Unicode normalisation and tokenising (utf8proc).
+ *
+ * The one place where text becomes tokens, used identically by vector import,
+ * vector learning, features and prediction, so all of them see the same
+ * tokens.  Steps: NFKC, Unicode case folding, removal of combining marks from
+ * Latin-script letters (unless keep_accents), masking of e-mail addresses,
+ * URLs and (optionally) numbers into placeholder tokens, then splitting by
+ * general category: letters, marks and digits form tokens; an apostrophe or
+ * hyphen between two word characters stays inside the word; everything else
+ * (punctuation, symbols, spaces, U+2028/U+2029) separates.
+ * It does not read files; see csv.h.
+ */
+#ifndef VECSIFT_TEXT_H
+#define VECSIFT_TEXT_H
+
+#include <stddef.h>
+
+struct err;
+
+struct text_options {
+    int keep_accents;   /* 1: keep combining marks on Latin letters */
+    int mask_email;     /* 1: an e-mail address becomes TEXT_MASK_EMAIL */
+    int mask_url;       /* 1: a URL becomes TEXT_MASK_URL */
+    int mask_number;    /* 1: a token of digits becomes TEXT_MASK_NUMBER */
+};
+/* Defaults: e-mails and URLs masked (personal data must not reach vectors or
+ * models), numbers kept (ticket numbers and error codes often carry the route). */
+#define TEXT_OPTIONS_INIT { 0, 1, 1, 0 }
+
+/* Placeholders.  They contain '_' which the tokeniser never leaves in a
+ * token, so no real word can collide with them. */
+#define TEXT_MASK_EMAIL "_email_"
+#define TEXT_MASK_URL "_link_"
+#define TEXT_MASK_NUMBER "_number_"
+
+/* A growing list of tokens, owned by the caller.  Tokens are NUL-terminated
+ * and stored back to back in 'buf'; tok i starts at buf + off[i]. */
+struct text_tokens {
+    char *buf;
+    size_t len, cap;
+    size_t *off;
+    size_t n, ncap;
+};
+#define TEXT_TOKENS_INIT { NULL, 0, 0, NULL, 0, 0 }
+
+static inline const char *text_token(const struct text_tokens *t, size_t i)
+{
+    return t->buf + t->off[i];
+}
+
+/* Forget the tokens, keep the memory. */
+void text_tokens_clear(struct text_tokens *t);
+void text_tokens_release(struct text_tokens *t);
+
+/* Tokenise s[0..len) (UTF-8) and APPEND the tokens to 't'.  Returns the
+ * number of tokens appended, or -1 when 's' is not valid UTF-8 ('e' set with
+ * the byte offset; the caller adds file and line).  Thread-safe. */
+long text_tokenize(const char *s, size_t len, const struct text_options *o, struct text_tokens *t, struct err *e);
+
+/* Normalise one vocabulary entry (a token from a vector file) exactly as a
+ * token in running text would be.  Returns a new string (caller frees) when
+ * the entry becomes exactly one token, or NULL when it becomes none or
+ * several (such an entry can never match a token of running text). */
+char *text_normalize_token(const char *s, size_t len, const struct text_options *o);
+
+/* Short description of the settings, e.g. "nfkc,casefold,strip-latin-marks,
+ * mask=email+url", stored in models so predict refuses a mismatch. */
+void text_options_describe(const struct text_options *o, char *buf, size_t n);
+
+#endif

@@ -1,0 +1,83 @@
+/* vecset.h -- vector sets: text import, the packed store (.vecs), lookup,
+ * neighbours.
+ *
+ * A packed store is opened with mmap in constant time: nothing is built at
+ * open, lookups go through the stored hash index, and only the rows touched
+ * cost memory.  The format is documented in docs/vecs-format.md.  Tokens in
+ * a store are already normalised by text.h, so a token of running text is
+ * looked up as it is.
+ */
+#ifndef VECSIFT_VECSET_H
+#define VECSIFT_VECSET_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+struct err;
+struct text_options;
+typedef struct vecset vecset;
+
+/* ---- open and look up ---- */
+
+/* Map 'path'.  Checks magic, version and every size against the file length
+ * before touching anything else; a truncated or foreign file is an
+ * ERR_INPUT error naming the file.  Returns a handle owned by the caller. */
+vecset *vecset_open(const char *path, struct err *e);
+void vecset_close(vecset *v); /* NULL-safe */
+
+size_t vecset_count(const vecset *v);
+size_t vecset_dim(const vecset *v);
+/* Content fingerprint (dimension, tokens and every float, in order). */
+uint64_t vecset_fingerprint(const vecset *v);
+/* As 16 lowercase hex digits plus NUL. */
+void vecset_fingerprint_hex(uint64_t fp, char out[17]);
+const char *vecset_path(const vecset *v);
+
+/* Row index of 'tok' or -1. */
+long vecset_find(const vecset *v, const char *tok);
+/* Borrowed pointers into the mapping, valid until vecset_close. */
+const float *vecset_row(const vecset *v, size_t i);   /* (D) as imported */
+float vecset_norm(const vecset *v, size_t i);         /* Euclidean norm of row i */
+const char *vecset_word(const vecset *v, size_t i);
+
+/* ---- writing ---- */
+
+struct vecset_pack_stats {
+    size_t lines;       /* lines read (header line included) */
+    size_t rows;        /* rows written */
+    size_t merged;      /* entries dropped because their normalised token came earlier */
+    size_t unusable;    /* entries that normalise to no token or to several */
+};
+
+/* Import a text vector file (token then D numbers per line; spaces or tabs;
+ * optional first line "COUNT DIM"; CRLF tolerated) into a packed store at
+ * 'out' (written through ofile: all or nothing).  Tokens are normalised
+ * with 'to'.  'threads' >= 1.  Returns 0 or -1 with 'e' set to
+ * "FILE:LINE: ...". */
+int vecset_pack_text(const char *in, const char *out, const struct text_options *to, int threads,
+                     struct vecset_pack_stats *st, struct err *e);
+
+/* Write a packed store from memory: 'words' (n distinct normalised tokens)
+ * and 'rows' (n x dim, row-major).  Used by vector learning. */
+int vecset_write(const char *out, const char *const *words, const float *rows, size_t n, size_t dim,
+                 struct err *e);
+
+/* Write the text form ("COUNT DIM" first line, then token and %.9g numbers). */
+int vecset_export_text(const vecset *v, const char *out, struct err *e);
+
+/* ---- neighbours ---- */
+
+struct vecset_hit {
+    size_t row;
+    double cos;
+};
+
+/* The k rows most cosine-similar to 'query' (D floats), best first, ties by
+ * row; rows in 'exclude' (nexclude of them) are skipped; zero rows never
+ * match.  Exact scan over 'threads' threads; the result does not depend on
+ * the thread count.  'hits' must hold k entries; returns how many were
+ * filled. */
+size_t vecset_nearest(const vecset *v, const float *query, size_t k, const size_t *exclude,
+                      size_t nexclude, int threads, struct vecset_hit *hits);
+
+#endif
