@@ -153,6 +153,9 @@ CORE = {
         'Please refund the [extra|duplicate|double] charge of {amount}.',
         'I was billed for a {product} I never [ordered|received].',
         'How do I pay by [bank transfer|PayPal-style wallet|instalments]?',
+        'The [annual|yearly|monthly] Porch Plus fee was taken [early|twice|after I downgraded].',
+        'My [receipt|invoice] shows the [wrong|old] address and my [accountant|employer] needs it fixed.',
+        'Your [checkout|payment page] [took|charged] {amount} [for shipping|in fees] that was not shown before.',
     ],
     'access': [
         'I [cannot|can\'t|am unable to] [log in|sign in|login] to the Porch '
@@ -179,6 +182,9 @@ CORE = {
         'After the update the {product} no longer shows because I am logged '
         'out of my account.',
         'Sign-in with my email {email} fails with error {code}.',
+        'The [verification|confirmation] email for my new account never came, so I cannot [finish signing up|activate it].',
+        'The app [rejects|does not accept] my [password|passcode] since I [reset|changed] it.',
+        'I am stuck in a [login loop|sign-in loop]: it asks for the code, then for the password, then the code again.',
     ],
     'delivery': [
         'My parcel [has not arrived|never arrived|is late] and it was due '
@@ -201,6 +207,8 @@ CORE = {
         'week.',
         'The delivery slot was changed [without asking|twice] and I was not '
         'home.',
+        '{courier} [says|said] the [address|postcode] is [incomplete|wrong] and [sent|is sending] the parcel back.',
+        'The [parcel|package|order] has been [stuck|sitting] at the [depot|sorting centre|local hub] since {date}.',
     ],
     'fault': [
         'The {product} [will not|won\'t|does not] [turn on|power on|start] '
@@ -223,6 +231,8 @@ CORE = {
         'Since the update the {product} [restarts|reboots] [randomly|every '
         'hour].',
         'It worked for [a week|two days|a month] and then [died|stopped].',
+        'The {part} [came loose|cracked|leaks] after [normal|light|daily] use.',
+        'The {product} [does not|will not|won\'t] {does} and the light [blinks|flashes] {code}.',
     ],
     'returns': [
         'I would like to [return|send back] the {product}, it is not what I '
@@ -244,6 +254,8 @@ CORE = {
         'not confirmed it.',
         'I [changed my mind|do not need it] and want to [cancel and '
         'return|send back] the {product}.',
+        'The replacement {product} [also|again] [has the same problem|does not suit me], I want a [refund|full refund] this time.',
+        'Where do I [drop off|post|take] the [return|parcel] and how long until I get my money back?',
     ],
     'ideas': [
         'It would be [great|lovely|really useful] if the {product} had '
@@ -262,6 +274,8 @@ CORE = {
         'Will you ever [release|make] a {product} with a bigger {part}?',
         'Small [idea|wish]: let me [rename|group|reorder] devices in the '
         'app.',
+        'It would [help|be nice] to [share|link] the {product} with [a second phone|my family|guests] without sharing my password.',
+        'Please [bring back|keep] the [old|classic] [layout|home screen] as an option, the new one is [confusing|harder to use].',
     ],
     'privacy': [
         'Please [delete|erase|remove] [my account and all my data|all data '
@@ -282,6 +296,8 @@ CORE = {
         '{product}?',
         'Please [correct|update] the personal details you hold, my name is '
         'spelled wrong.',
+        'Is the [data|voice data|camera data] from the {product} [sold|passed] to [advertisers|third parties]?',
+        'I [withdraw|take back] my consent for [data processing|analytics|personalised ads] on my account {email}.',
     ],
 }
 
@@ -395,12 +411,18 @@ class Ctx:
         if name == 'email':
             return self.cust['email']
         if name == 'url':
-            return r.choice([
+            urls = [
                 'https://www.example.com/orders/%s' % self.order,
                 'https://help.example.com/returns',
                 'https://status.example.net/porch',
                 'http://example.org/track?id=%d' % r.randrange(1000, 9999),
-                'https://www.example.com/account/reset'])
+                'https://www.example.com/account/reset',
+                'https://www.example.com/privacy#cookies',
+                'https://community.example.org/ideas']
+            # Mostly the page that fits the queue, sometimes any page.
+            fit = {'billing': 0, 'access': 4, 'delivery': 3, 'fault': 2,
+                   'returns': 1, 'ideas': 6, 'privacy': 5}[self.queue]
+            return urls[fit] if r.random() < 0.7 else r.choice(urls)
         if name == 'phone':
             return '555-01%02d' % r.randrange(0, 100)
         if name == 'promo':
