@@ -64,6 +64,7 @@ struct csv_reader {
     size_t ncols;
     long row;
     size_t replaced;
+    struct err failed;          /* first error; later calls repeat it */
 };
 
 /* ---- encodings ---- */
@@ -163,7 +164,7 @@ static int fill(csv_reader *r, struct err *e)
     if (r->blen == 0) {
         r->eof = 1;
         if (ferror(r->fp))
-            return err_io(e, r->path, 0, "read error");
+            return err_io(e, r->path, 0, "read error: %s", strerror(errno));
         return 0;
     }
     return 1;
@@ -524,14 +525,24 @@ long csv_require_col(const csv_reader *r, const char *name, struct err *e)
 
 int csv_next(csv_reader *r, struct err *e)
 {
-    int k = next_record(r, e);
+    /* after an error the stream position means nothing: repeat the error */
+    if (r->failed.code != ERR_OK) {
+        if (e && e->code == ERR_OK)
+            *e = r->failed;
+        return -1;
+    }
+    int k = next_record(r, &r->failed);
+    if (k > 0 && r->nf != r->ncols) {
+        err_set(&r->failed, r->path, r->rec_line, "row has %zu field%s, header has %zu", r->nf,
+                r->nf == 1 ? "" : "s", r->ncols);
+        k = -1;
+    }
     if (k <= 0) {
         r->nf = 0;
+        if (k < 0 && e && e->code == ERR_OK)
+            *e = r->failed;
         return k;
     }
-    if (r->nf != r->ncols)
-        return err_set(e, r->path, r->rec_line, "row has %zu field%s, header has %zu", r->nf,
-                       r->nf == 1 ? "" : "s", r->ncols);
     r->row++;
     return 1;
 }
