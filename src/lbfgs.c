@@ -27,6 +27,8 @@
 #define LS_MAX_EVALS 40
 /* Largest step Algorithm 3.5 may try (alpha_max). */
 #define ALPHA_MAX 1e20
+/* Relative size of rounding noise in f: see approx_wolfe(). */
+#define F_NOISE 1e-12
 
 static double dot(size_t n, const double *a, const double *b)
 {
@@ -55,11 +57,32 @@ struct line {
     lbfgs_eval fn;
     void *ctx;
     int evals;
+    int approx;    /* the accepted step met only approx_wolfe() */
 };
 
 struct pt {
     double a, f, df;    /* step, phi(a), phi'(a) */
 };
+
+static int strong_wolfe(struct pt p0, struct pt t)
+{
+    return t.f <= p0.f + C1 * t.a * p0.df && fabs(t.df) <= -C2 * p0.df;
+}
+
+/* Near a minimum, phi(a) - phi(0) falls below the rounding noise of f and
+ * the sufficient decrease test becomes a coin toss, so no step would ever
+ * be accepted.  The remedy of W. W. Hager and H. Zhang (2005), "A new
+ * conjugate gradient method with guaranteed descent and an efficient line
+ * search" (SIAM J. Optim. 16(1)), is to accept a step that meets the
+ * curvature condition while f has not risen beyond that noise; their
+ * gradient form of sufficient decrease, phi'(a) <= (1 - 2 c1) |phi'(0)|,
+ * is implied by |phi'(a)| <= c2 |phi'(0)| for c2 = 0.9.  Only tried after the
+ * strong Wolfe test fails; such steps are flagged to the watcher, and the
+ * ftol test then usually ends the run. */
+static int approx_wolfe(struct pt p0, struct pt t)
+{
+    return t.f <= p0.f + F_NOISE * fabs(p0.f) && fabs(t.df) <= -C2 * p0.df;
+}
 
 static struct pt phi(struct line *l, double a)
 {
@@ -118,6 +141,11 @@ static int zoom(struct line *l, struct pt p0, struct pt lo, struct pt hi, struct
         if (a == lo.a || a == hi.a)
             return 0;   /* bracket below rounding */
         struct pt t = phi(l, a);
+        if (approx_wolfe(p0, t) && !strong_wolfe(p0, t)) {
+            l->approx = 1;
+            *out = t;
+            return 1;
+        }
         if (t.f > p0.f + C1 * a * p0.df || t.f >= lo.f) {
             hi = t;
         } else {
@@ -141,6 +169,11 @@ static int wolfe_search(struct line *l, struct pt p0, double a1, struct pt *out)
     double a = a1;
     for (int i = 1; l->evals < LS_MAX_EVALS; i++) {
         struct pt t = phi(l, a);
+        if (approx_wolfe(p0, t) && !strong_wolfe(p0, t)) {
+            l->approx = 1;
+            *out = t;
+            return 1;
+        }
         if (t.f > p0.f + C1 * a * p0.df || (i > 1 && t.f >= prev.f))
             return zoom(l, p0, prev, t, out);
         if (fabs(t.df) <= -C2 * p0.df) {
@@ -246,7 +279,7 @@ int lbfgs_minimize(size_t n, double *x, lbfgs_eval fn, void *ctx,
     double *xt = xcalloc(n, sizeof *xt);
     double *gt = xcalloc(n, sizeof *gt);
 
-    struct line l = { n, x, d, xt, gt, fn, ctx, 0 };
+    struct line l = { n, x, d, xt, gt, fn, ctx, 0, 0 };
     double f = fn(ctx, x, g);
     int evals = 1, iters = 0, status;
     double gnorm = norm_inf(n, g);
@@ -277,6 +310,7 @@ int lbfgs_minimize(size_t n, double *x, lbfgs_eval fn, void *ctx,
         double a1 = M.count ? 1.0 : fmin(1.0, 1.0 / sqrt(-dphi0));
         struct pt p0 = { 0, f, dphi0 }, acc;
         l.evals = 0;
+        l.approx = 0;
         int ok = wolfe_search(&l, p0, a1, &acc);
         evals += l.evals;
         if (!ok) {
@@ -295,7 +329,7 @@ int lbfgs_minimize(size_t n, double *x, lbfgs_eval fn, void *ctx,
         memcpy(g, gt, n * sizeof *g);
         gnorm = norm_inf(n, g);
         if (p->watch) {
-            struct lbfgs_step st = { iters, acc.a, p0.f, p0.df, acc.f, acc.df, gnorm };
+            struct lbfgs_step st = { iters, acc.a, p0.f, p0.df, acc.f, acc.df, gnorm, l.approx };
             p->watch(p->watch_ctx, &st);
         }
         if (gnorm <= p->gtol) {
@@ -303,7 +337,7 @@ int lbfgs_minimize(size_t n, double *x, lbfgs_eval fn, void *ctx,
             break;
         }
         double scale = fmax(fmax(fabs(fprev), fabs(f)), 1.0);
-        if ((fprev - f) / scale <= p->ftol) {
+        if (p->ftol > 0 && (fprev - f) / scale <= p->ftol) {
             status = LBFGS_DECREASE;
             break;
         }

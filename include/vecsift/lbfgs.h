@@ -3,7 +3,9 @@
  * L-BFGS as in Nocedal and Wright, "Numerical Optimization", 2nd ed.
  * (Springer, 2006): the two-loop recursion (Algorithm 7.4) inside
  * Algorithm 7.5, with a line search that enforces the strong Wolfe
- * conditions (Algorithms 3.5 and 3.6).  Unconstrained, dense, double
+ * conditions (Algorithms 3.5 and 3.6; near the minimum, where rounding
+ * hides any decrease of f, the approximate Wolfe conditions of Hager and
+ * Zhang, 2005).  Unconstrained, dense, double
  * precision, single-threaded; the caller supplies f and its gradient.
  * It knows nothing about models: see linear.h for a user.
  */
@@ -24,6 +26,10 @@ struct lbfgs_step {
     double f0, dphi0;  /* phi(0), phi'(0) (< 0) */
     double f1, dphi1;  /* phi(alpha), phi'(alpha) */
     double gnorm;    /* infinity norm of the gradient at x_{k+1} */
+    int approx;      /* 1: phi(alpha) - phi(0) was within rounding noise, and
+                      * the step met the curvature condition and
+                      * phi(alpha) <= phi(0) + 1e-12 |phi(0)| instead of the
+                      * sufficient decrease condition (see lbfgs.c) */
 };
 typedef void (*lbfgs_watch)(void *ctx, const struct lbfgs_step *s);
 
