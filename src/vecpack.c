@@ -415,12 +415,12 @@ int vecset_pack_text(const char *in, const char *out, const struct text_options 
         p += win;
     }
     st->lines = line;
-    if (has_header && entries != hcount) {
-        err_set(e, name, (long)first_line, "header line says %llu vectors but the file has %zu", hcount, entries);
-        goto out;
-    }
     if (entries == 0) {
         err_set(e, name, 0, "empty file: a header line but no vectors");
+        goto out;
+    }
+    if (has_header && entries != hcount) {
+        err_set(e, name, (long)first_line, "header line says %llu vectors but the file has %zu", hcount, entries);
         goto out;
     }
     if (vecset_writer_count(w) == 0) {
