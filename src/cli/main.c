@@ -28,6 +28,7 @@ struct cmd_entry {
 };
 
 static const struct cmd_entry cmds[] = {
+    { &cmd_vectors_info, cmd_vectors },
     { NULL, NULL }
 };
 
