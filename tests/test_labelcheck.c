@@ -98,3 +98,23 @@ Test(labelcheck, bad_input_names_the_row)
         cr_assert_neq(r.suspect[s].suggested, 2);
     labelcheck_release(&r);
 }
+
+/* Worked by hand: t0 = (0.9 + 0.9 + 0.6)/3 = 0.8, t1 = (0.3 + 0.2)/2 = 0.25.
+ *   row 2 (given 0, p = 0.6 0.4): p0 < t0, p1 >= t1 -> suggested 1, margin -0.2
+ *   row 4 (given 1, p = 0.8 0.2): p0 >= t0, p1 < t1 -> suggested 0, margin 0.6
+ *   row 3 (given 1, p = 0.7 0.3): only p1 >= t1     -> diagonal
+ * The negative margin ranks last. */
+Test(labelcheck, margin_can_be_negative_and_ranks_last)
+{
+    double Q[5][2] = { { 0.9, 0.1 }, { 0.9, 0.1 }, { 0.6, 0.4 }, { 0.7, 0.3 }, { 0.8, 0.2 } };
+    int g[5] = { 0, 0, 0, 1, 1 };
+    struct labelcheck_result r = LABELCHECK_RESULT_INIT;
+    struct err e = ERR_INIT;
+    cr_assert_eq(labelcheck_run(&Q[0][0], g, 5, 2, &r, &e), 0);
+    cr_assert_eq(r.n_suspects, 2);
+    cr_assert_eq(r.suspect[0].row, 4);
+    cr_assert_float_eq(r.suspect[0].score, 0.6, 1e-15);
+    cr_assert_eq(r.suspect[1].row, 2);
+    cr_assert_float_eq(r.suspect[1].score, -0.2, 1e-15);
+    labelcheck_release(&r);
+}

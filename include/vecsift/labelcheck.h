@@ -29,8 +29,9 @@ struct labelcheck_suspect {
     size_t row;         /* index into the N rows */
     int given;          /* the label in the data */
     int suggested;      /* the confident-joint column it was counted in */
-    double score;       /* P[row][suggested] - P[row][given], in (0, 1] for a suspect
-                           (>= 0 in general; ties with the given label are possible) */
+    double score;       /* P[row][suggested] - P[row][given], in [-1, 1]: usually
+                           > 0; negative when the given label has the higher
+                           probability but falls short of its own threshold */
 };
 
 struct labelcheck_result {

@@ -6,7 +6,8 @@ probabilities (numpy), writes them as CSV, runs tests/tools/metrics_dump
 python3-sklearn): precision_recall_fscore_support, f1_score (macro,
 weighted), confusion_matrix, accuracy_score, log_loss (eps=1e-15 passed
 explicitly, see metrics.h) and the multiclass Brier score computed from its
-formula with numpy.  The confidence cut-off table is checked against a plain
+formula with numpy.  Per-fold mean and sample sd (ddof=1) of the same scores
+are checked against scikit-learn's per-fold values.  The confidence cut-off table is checked against a plain
 numpy computation of the same definition.  Every value must agree within 1e-12.
 Ends with "N passed, N failed".
 """
@@ -110,6 +111,40 @@ assert not np.any(q == 3)
 lab = run_case("never-predicted", g, q, p)
 check("never-predicted label has precision 0 (zero_division=0)", lab[3]["precision"], 0.0)
 run_case("zero-probabilities", *make_case(3, 120, hard_zero=True))
+
+
+
+def run_folds(name, gold, pred, p, k):
+    """Rows dealt to k folds at random; compare mean and sd over folds."""
+    fold = np.random.default_rng(99).integers(0, k, len(gold))
+    with tempfile.NamedTemporaryFile("w", suffix=".csv", delete=False) as f:
+        for q, g, r, row in zip(fold, gold, pred, p):
+            f.write(f"{q},{g},{r}," + ",".join(repr(float(x)) for x in row) + "\n")
+        path = f.name
+    tool = os.path.join(os.environ.get("BUILDDIR", "build"), "tests", "metrics_dump")
+    out = subprocess.run([tool, str(K), path, "folds"], check=True, capture_output=True, text=True).stdout
+    os.unlink(path)
+    got = json.loads(out)["per_fold"]
+    labels = list(range(K))
+    per = {"accuracy": [], "macro_f1": [], "weighted_f1": [], "log_loss": [], "brier": []}
+    f1s = []
+    for q in range(k):
+        s = fold == q
+        g, r, pp = gold[s], pred[s], p[s]
+        per["accuracy"].append(accuracy_score(g, r))
+        per["macro_f1"].append(f1_score(g, r, labels=labels, average="macro", zero_division=0))
+        per["weighted_f1"].append(f1_score(g, r, labels=labels, average="weighted", zero_division=0))
+        per["log_loss"].append(log_loss(g, pp, labels=labels, eps=1e-15))
+        per["brier"].append(np.mean(np.sum((pp - np.eye(K)[g]) ** 2, axis=1)))
+        f1s.append(precision_recall_fscore_support(g, r, labels=labels, zero_division=0)[2])
+    for key, vals in per.items():
+        check(f"{name} per-fold {key}", got[key], [np.mean(vals), np.std(vals, ddof=1)])
+    f1s = np.array(f1s)
+    check(f"{name} per-fold label f1", got["f1"],
+          np.stack([f1s.mean(axis=0), f1s.std(axis=0, ddof=1)], axis=1))
+
+
+run_folds("folds-5", *make_case(4, 250, never_predicted=4), 5)
 
 print(f"max abs difference against scikit-learn/numpy: {maxdiff:.3g}")
 print(f"{passed} passed, {failed} failed")

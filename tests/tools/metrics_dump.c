@@ -2,7 +2,9 @@
  * header, label indices, K from argv) and print every pooled score as JSON,
  * for tests/ext/metrics_vs_sklearn.py.  Not installed.
  *
- *   metrics_dump K FILE
+ *   metrics_dump K FILE          pooled scores
+ *   metrics_dump K FILE folds    rows start with a fold number (0..63): also
+ *                                the mean and sd over folds ("per_fold")
  */
 #include <math.h>
 #include <stdio.h>
@@ -23,8 +25,9 @@ static void num(const char *key, double v, const char *sep)
 
 int main(int argc, char **argv)
 {
-    if (argc != 3) {
-        fprintf(stderr, "usage: metrics_dump K FILE\n");
+    int by_fold = argc == 4 && !strcmp(argv[3], "folds");
+    if (argc != 3 && !by_fold) {
+        fprintf(stderr, "usage: metrics_dump K FILE [folds]\n");
         return 2;
     }
     int K = (int)strtol(argv[1], NULL, 10);
@@ -34,6 +37,9 @@ int main(int argc, char **argv)
         return 2;
     }
     metrics *m = metrics_new(K);
+    enum { MAX_FOLDS = 64 };
+    metrics *fm[MAX_FOLDS] = { NULL };
+    int n_folds = 0;
     double *p = xmalloc((size_t)K * sizeof *p);
     char *line = NULL;
     size_t cap = 0;
@@ -42,6 +48,17 @@ int main(int argc, char **argv)
     while (getline(&line, &cap, fp) != -1) {
         ln++;
         char *s = line, *end;
+        int fold = 0;
+        if (by_fold) {
+            fold = (int)strtol(s, &end, 10);
+            if (*end != ',' || fold < 0 || fold >= MAX_FOLDS)
+                goto bad;
+            s = end + 1;
+            if (fold >= n_folds)
+                n_folds = fold + 1;
+            if (!fm[fold])
+                fm[fold] = metrics_new(K);
+        }
         int gold = (int)strtol(s, &end, 10);
         if (*end != ',')
             goto bad;
@@ -51,7 +68,8 @@ int main(int argc, char **argv)
                 goto bad;
             p[j] = strtod(end + 1, &end);
         }
-        if (metrics_add(m, gold, pred, p, &e) < 0) {
+        if (metrics_add(m, gold, pred, p, &e) < 0 ||
+            (by_fold && metrics_add(fm[fold], gold, pred, p, &e) < 0)) {
             fprintf(stderr, "metrics_dump: %s:%ld: %s\n", argv[2], ln, e.msg);
             return 2;
         }
@@ -85,7 +103,39 @@ int main(int argc, char **argv)
         printf("[%.17g, %.17g, %.17g]%s", c[t].threshold, c[t].precision, c[t].coverage,
                t + 1 < nc ? ", " : "");
     long at = metrics_cutoff_for_precision(c, nc, 0.9);
-    printf("], \"cutoff_for_0.9\": %ld}\n", at);
+    printf("], \"cutoff_for_0.9\": %ld", at);
+    if (by_fold) {
+        struct metrics_report *fr = xcalloc((size_t)n_folds, sizeof *fr);
+        for (int q = 0; q < n_folds; q++) {
+            if (!fm[q]) {
+                fprintf(stderr, "metrics_dump: fold %d has no rows\n", q);
+                return 2;
+            }
+            metrics_compute(fm[q], &fr[q]);
+        }
+        struct metrics_fold_summary sm;
+        if (metrics_summarize(fr, (size_t)n_folds, &sm, &e) < 0) {
+            fprintf(stderr, "metrics_dump: %s\n", e.msg);
+            return 2;
+        }
+        printf(", \"per_fold\": {");
+        const struct metrics_spread *sp[5] = { &sm.accuracy, &sm.macro_f1, &sm.weighted_f1,
+                                               &sm.log_loss, &sm.brier };
+        const char *key[5] = { "accuracy", "macro_f1", "weighted_f1", "log_loss", "brier" };
+        for (int t = 0; t < 5; t++)
+            printf("\"%s\": [%.17g, %.17g], ", key[t], sp[t]->mean, sp[t]->sd);
+        printf("\"f1\": [");
+        for (int j = 0; j < K; j++)
+            printf("[%.17g, %.17g]%s", sm.f1[j].mean, sm.f1[j].sd, j + 1 < K ? ", " : "");
+        printf("]}");
+        metrics_fold_summary_release(&sm);
+        for (int q = 0; q < n_folds; q++) {
+            metrics_report_release(&fr[q]);
+            metrics_free(fm[q]);
+        }
+        free(fr);
+    }
+    printf("}\n");
     free(c);
     free(p);
     free(line);
