@@ -59,6 +59,15 @@ static int is_latin_base(int32_t c)
         || (c >= 0x1DF00 && c <= 0x1DFFF);
 }
 
+/* Default_Ignorable_Code_Point (DerivedCoreProperties.txt, Unicode 15.0)
+ * holds whole blocks reserved for future format characters; their
+ * unassigned members lie in 2060..206F, FFF0..FFFB and E0000..E0FFF.
+ * Only called for unassigned (Cn) code points. */
+static int is_reserved_ignorable(int32_t c)
+{
+    return (c >= 0x2060 && c <= 0x206F) || (c >= 0xFFF0 && c <= 0xFFFB) || (c >= 0xE0000 && c <= 0xE0FFF);
+}
+
 static int is_mark_category(utf8proc_category_t k)
 {
     return k == UTF8PROC_CATEGORY_MN || k == UTF8PROC_CATEGORY_MC || k == UTF8PROC_CATEGORY_ME;
@@ -132,18 +141,22 @@ static long normalise(const char *s, size_t len, int flags, void **buf, size_t *
         scratch_reserve(buf, cap, xmul((size_t)n + 1, sizeof(int32_t)));
     }
     int32_t *cp = *buf;
-    if (flags & N_STRIP) {
+    if (flags & (N_STRIP | N_FOLD)) {
         /* Drop a nonspacing mark when the last non-mark before it is a
-         * Latin base.  Canonical ordering has already put all marks of one
-         * base right after it. */
+         * Latin base (canonical ordering has already put all marks of one
+         * base right after it), and, when folding, the unassigned code points
+         * that Unicode reserves as default-ignorable, which utf8proc's
+         * IGNORE leaves in place. */
         int latin = 0;
         utf8proc_ssize_t w = 0;
         for (utf8proc_ssize_t r = 0; r < n; r++) {
             utf8proc_category_t k = utf8proc_category(cp[r]);
             if (is_mark_category(k)) {
-                if (latin && k == UTF8PROC_CATEGORY_MN)
+                if (latin && k == UTF8PROC_CATEGORY_MN && (flags & N_STRIP))
                     continue;
             } else {
+                if (k == UTF8PROC_CATEGORY_CN && (flags & N_FOLD) && is_reserved_ignorable(cp[r]))
+                    continue;
                 latin = is_latin_base(cp[r]);
             }
             cp[w++] = cp[r];
