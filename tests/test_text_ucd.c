@@ -309,3 +309,143 @@ Test(text_ucd, normalisation_matches_nfkc_casefold, .timeout = 300)
     free(pool);
     cr_assert_eq(failed, 0);
 }
+
+/* ---- Scripts.txt: which marks are removed ---- */
+
+/* Script of every code point, as an index into 'names' (0 = Unknown). */
+static unsigned short *load_scripts(char names[][64], int *nnames)
+{
+    FILE *f = fopen(UCD "Scripts.txt", "r");
+    cr_assert_not_null(f, "cannot open " UCD "Scripts.txt");
+    unsigned short *sc = calloc(NCP, sizeof *sc);
+    strcpy(names[0], "Unknown");
+    *nnames = 1;
+    char line[512], *fv[3];
+    while (fgets(line, sizeof line, f)) {
+        if (line[0] == '#' || line[0] == '\n')
+            continue;
+        cr_assert_eq(fields(line, fv, 3), 2);
+        long lo, hi;
+        cr_assert_eq(parse_range(fv[0], &lo, &hi), 0);
+        char name[64];
+        cr_assert_eq(sscanf(fv[1], " %63s", name), 1);
+        int id = 0;
+        while (id < *nnames && strcmp(names[id], name) != 0)
+            id++;
+        if (id == *nnames) {
+            cr_assert_lt(id, 256);
+            strcpy(names[(*nnames)++], name);
+        }
+        for (long c = lo; c <= hi; c++)
+            sc[c] = (unsigned short)id;
+    }
+    fclose(f);
+    return sc;
+}
+
+static int has_mn(const char *s)
+{
+    size_t len = strlen(s), i = 0;
+    while (i < len) {
+        int32_t c;
+        utf8proc_ssize_t k = utf8proc_iterate((const utf8proc_uint8_t *)s + i, (utf8proc_ssize_t)(len - i), &c);
+        if (k <= 0)
+            return 1;
+        if (utf8proc_category(c) == UTF8PROC_CATEGORY_MN)
+            return 1;
+        i += (size_t)k;
+    }
+    return 0;
+}
+
+/* Normalise base+mark with marks stripped and with marks kept; 1 when equal. */
+static int mark_survives(int32_t base, int32_t mark)
+{
+    char s[16];
+    int n = utf8proc_encode_char(base, (utf8proc_uint8_t *)s);
+    n += utf8proc_encode_char(mark, (utf8proc_uint8_t *)s + n);
+    struct text_options keep = TEXT_OPTIONS_INIT;
+    keep.keep_accents = 1;
+    char *a = text_normalize(s, (size_t)n, NULL, NULL);
+    char *b = text_normalize(s, (size_t)n, &keep, NULL);
+    int same = strcmp(a, b) == 0;
+    free(a);
+    free(b);
+    return same;
+}
+
+static int is_letter(int32_t c)
+{
+    utf8proc_category_t k = utf8proc_category(c);
+    return k >= UTF8PROC_CATEGORY_LU && k <= UTF8PROC_CATEGORY_LO;
+}
+
+/* (1) No letter of Script=Latin keeps a nonspacing mark after
+ * normalisation (the point of the step: "café" meets "cafe").
+ * (2) Every mark (Mn or Mc) of a script other than Latin, Common and
+ * Inherited survives on the first letter of its own script: vowel signs of
+ * Devanagari, Bengali, Thai... are never removed.
+ * (3) Inherited nonspacing marks (U+0300 etc.) vanish after "a" and survive
+ * after U+0915 DEVANAGARI LETTER KA. */
+Test(text_ucd, latin_marks_removed_other_scripts_kept)
+{
+    static char names[256][64];
+    int nnames;
+    unsigned short *sc = load_scripts(names, &nnames);
+    int latin = -1, common = -1, inherited = -1;
+    for (int i = 0; i < nnames; i++) {
+        if (strcmp(names[i], "Latin") == 0)
+            latin = i;
+        if (strcmp(names[i], "Common") == 0)
+            common = i;
+        if (strcmp(names[i], "Inherited") == 0)
+            inherited = i;
+    }
+    cr_assert(latin > 0 && common > 0 && inherited > 0);
+    int32_t first_letter[256];
+    for (int i = 0; i < 256; i++)
+        first_letter[i] = -1;
+    for (long c = NCP - 1; c >= 0; c--)
+        if (is_letter((int32_t)c))
+            first_letter[sc[c]] = (int32_t)c;
+
+    long latin_checked = 0, latin_failed = 0, other_checked = 0, other_failed = 0, inh_checked = 0,
+         inh_failed = 0;
+    char one[8];
+    for (long c = 0; c < NCP; c++) {
+        if (is_surrogate(c))
+            continue;
+        utf8proc_category_t k = utf8proc_category((int32_t)c);
+        if (sc[c] == latin && is_letter((int32_t)c)) {
+            int n = utf8proc_encode_char((int32_t)c, (utf8proc_uint8_t *)one);
+            char *got = text_normalize(one, (size_t)n, NULL, NULL);
+            if (has_mn(got) && latin_failed++ < 10)
+                fprintf(stderr, "Latin letter U+%04lX keeps a mark\n", c);
+            free(got);
+            latin_checked++;
+        } else if ((k == UTF8PROC_CATEGORY_MN || k == UTF8PROC_CATEGORY_MC) && sc[c] != latin
+                   && sc[c] != common && sc[c] != inherited && first_letter[sc[c]] >= 0) {
+            if (!mark_survives(first_letter[sc[c]], (int32_t)c) && other_failed++ < 10)
+                fprintf(stderr, "mark U+%04lX (%s) removed after U+%04X\n", c, names[sc[c]],
+                        (unsigned)first_letter[sc[c]]);
+            other_checked++;
+        } else if (k == UTF8PROC_CATEGORY_MN && sc[c] == inherited) {
+            int n = utf8proc_encode_char('a', (utf8proc_uint8_t *)one);
+            n += utf8proc_encode_char((int32_t)c, (utf8proc_uint8_t *)one + n);
+            char *got = text_normalize(one, (size_t)n, NULL, NULL);
+            int bad = has_mn(got) || !mark_survives(0x0915, (int32_t)c);
+            if (bad && inh_failed++ < 10)
+                fprintf(stderr, "inherited mark U+%04lX handled wrongly\n", c);
+            free(got);
+            inh_checked++;
+        }
+    }
+    free(sc);
+    fprintf(stderr, "Scripts.txt (Unicode 15.0.0): %ld Latin letters checked for marks (%ld failures), %ld marks "
+                    "of scripts other than Latin, Common and Inherited checked kept (%ld failures), %ld inherited "
+                    "marks checked (%ld failures)\n",
+            latin_checked, latin_failed, other_checked, other_failed, inh_checked, inh_failed);
+    cr_assert_gt(latin_checked, 1400);
+    cr_assert_gt(other_checked, 1500);
+    cr_assert_eq(latin_failed + other_failed + inh_failed, 0);
+}
