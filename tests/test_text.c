@@ -14,6 +14,7 @@
 #include <utf8proc.h>
 
 #include "vecsift/err.h"
+#include "vecsift/rng.h"
 #include "vecsift/text.h"
 
 /* Tokenise 's' with 'o' and compare with the NULL-terminated list of
@@ -278,4 +279,51 @@ Test(text, long_dotted_run)
     cr_assert_eq(text_tokenize(s, n + 2, NULL, &t, &e), (long)(n / 2 + 1));
     text_tokens_release(&t);
     free(s);
+}
+
+/* The stretch-wise normalisation (ASCII fast path between utf8proc calls)
+ * must equal utf8proc_map() on the whole string.  Random strings from a pool
+ * of code points that interact across stretch boundaries: ASCII bases and
+ * combining marks (composition and canonical reordering), Hangul jamo
+ * (L+V+T composition), compatibility forms, case pairs whose folding expands,
+ * ignorables.  Reference: utf8proc_map with NFKC + CASEFOLD + IGNORE for
+ * text_normalize() with marks kept, and NFKC alone for text_nfkc(). */
+Test(text, stretchwise_normalisation_matches_utf8proc_on_whole_strings)
+{
+    static const int32_t pool[] = {
+        'a', 'A', 'e', 'D', 'i', 'I', 's', 'K', ' ', '-', '\'', '1',
+        0x0301, 0x0307, 0x0323, 0x0345, 0x0308, 0x031B, 0x0334, /* marks, various classes */
+        0x00C5, 0x00E9, 0x1E0A, 0x0130, 0x00DF, 0x1E9E, 0x212B, 0x212A, /* precomposed, singletons */
+        0x1100, 0x1161, 0x11A8, 0xAC00, /* Hangul L, V, T, LV */
+        0xFB01, 0xFF21, 0x2460, 0x00BD, 0x3392, /* compatibility */
+        0x00AD, 0x200B, 0x200D, 0x034F, /* default-ignorable */
+        0x0915, 0x093F, 0x094D, 0x093C, 0x0958, /* Devanagari, nukta composition exclusion */
+        0x03A3, 0x03C2, 0x0399, 0x0390, /* Greek */
+        0x1F00, 0x1F80, 0x0CCB, 0x0CC6, 0x0CC2, 0x0CD5, /* more composition */
+    };
+    struct rng r;
+    rng_seed(&r, 20261201);
+    char s[256];
+    struct text_options keep = TEXT_OPTIONS_INIT;
+    keep.keep_accents = 1;
+    const utf8proc_option_t base = UTF8PROC_STABLE | UTF8PROC_COMPOSE | UTF8PROC_COMPAT;
+    for (int it = 0; it < 20000; it++) {
+        size_t n = 0, k = 1 + rng_below(&r, 12);
+        for (size_t j = 0; j < k; j++)
+            n += (size_t)utf8proc_encode_char(pool[rng_below(&r, sizeof pool / sizeof pool[0])],
+                                              (utf8proc_uint8_t *)s + n);
+        for (int mode = 0; mode < 2; mode++) {
+            utf8proc_uint8_t *ref = NULL;
+            utf8proc_ssize_t rn = utf8proc_map((const utf8proc_uint8_t *)s, (utf8proc_ssize_t)n, &ref,
+                                               mode ? base | UTF8PROC_CASEFOLD | UTF8PROC_IGNORE : base);
+            cr_assert_geq(rn, 0);
+            size_t gn = 0;
+            char *got = mode ? text_normalize(s, n, &keep, &gn) : text_nfkc(s, n, &gn);
+            cr_assert_not_null(got);
+            cr_assert(gn == (size_t)rn && memcmp(got, ref, gn) == 0, "iteration %d mode %d: '%.*s'", it, mode,
+                      (int)n, s);
+            free(got);
+            free(ref);
+        }
+    }
 }
