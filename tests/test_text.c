@@ -8,7 +8,10 @@
  * in tests/test_text_ucd.c.
  */
 #include <criterion/criterion.h>
+#include <pthread.h>
 #include <stdarg.h>
+#include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <utf8proc.h>
@@ -325,5 +328,64 @@ Test(text, stretchwise_normalisation_matches_utf8proc_on_whole_strings)
             free(got);
             free(ref);
         }
+    }
+}
+
+/* Thread safety: four threads tokenising the same mixed rows at once, each
+ * with its own text_tokens, give exactly the single-threaded tokens. */
+
+static const char *const mt_rows[] = {
+    "Caf\xC3\xA9 terminal error E42, contact anna.k@example.com",
+    "\xE0\xA4\xB9\xE0\xA4\xBF\xE0\xA4\x82\xE0\xA4\xA6\xE0\xA5\x80 keyboard missing",
+    "Reset via https://portal.example.org/r?x=1 didn\xE2\x80\x99t work",
+    "STRASSE Stra\xC3\x9F" "e \xEF\xAC\x81le wi-fi",
+};
+
+static void join_tokens(const struct text_tokens *t, char *out, size_t cap)
+{
+    size_t n = 0;
+    for (size_t i = 0; i < t->n && n + 1 < cap; i++)
+        n += (size_t)snprintf(out + n, cap - n, "%s|", text_token(t, i));
+}
+
+static void *mt_worker(void *arg)
+{
+    const char *const *want = arg;
+    struct text_tokens t = TEXT_TOKENS_INIT;
+    struct err e = ERR_INIT;
+    char got[512];
+    long bad = 0;
+    for (int it = 0; it < 2000; it++) {
+        size_t k = (size_t)it % 4;
+        text_tokens_clear(&t);
+        if (text_tokenize(mt_rows[k], strlen(mt_rows[k]), NULL, &t, &e) < 0)
+            bad++;
+        join_tokens(&t, got, sizeof got);
+        bad += strcmp(got, want[k]) != 0;
+    }
+    text_tokens_release(&t);
+    return (void *)(intptr_t)bad;
+}
+
+Test(text, concurrent_tokenising_matches_serial)
+{
+    static char want[4][512];
+    static const char *wantp[4];
+    for (int k = 0; k < 4; k++) {
+        struct text_tokens t = TEXT_TOKENS_INIT;
+        struct err e = ERR_INIT;
+        cr_assert_gt(text_tokenize(mt_rows[k], strlen(mt_rows[k]), NULL, &t, &e), 0);
+        join_tokens(&t, want[k], sizeof want[k]);
+        wantp[k] = want[k];
+        text_tokens_release(&t);
+    }
+    cr_assert_str_eq(want[1], "\xE0\xA4\xB9\xE0\xA4\xBF\xE0\xA4\x82\xE0\xA4\xA6\xE0\xA5\x80|keyboard|missing|");
+    pthread_t th[4];
+    for (int i = 0; i < 4; i++)
+        cr_assert_eq(pthread_create(&th[i], NULL, mt_worker, wantp), 0);
+    for (int i = 0; i < 4; i++) {
+        void *r;
+        pthread_join(th[i], &r);
+        cr_assert_eq((intptr_t)r, 0, "thread %d: %ld mismatches", i, (long)(intptr_t)r);
     }
 }
