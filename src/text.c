@@ -267,6 +267,9 @@ static int decode(const unsigned char *p, const unsigned char *e, int32_t *c)
  * MARK and U+02BC MODIFIER LETTER APOSTROPHE count as U+0027, U+2010 HYPHEN
  * and U+2011 NON-BREAKING HYPHEN as U+002D.  Everything else separates,
  * including '_' (Pc) and U+2028/U+2029 (Zl, Zp). */
+/* NEEDSWORK: scripts written without spaces (Chinese, Japanese, Thai) come
+ * out as one token per run of letters; splitting them needs a dictionary or
+ * per-character tokens, which utf8proc does not provide. */
 static enum cls classify(int32_t c)
 {
     if (c < 0x80) {

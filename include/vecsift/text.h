@@ -21,7 +21,9 @@ struct text_options {
     int keep_accents;   /* 1: keep combining marks on Latin letters */
     int mask_email;     /* 1: an e-mail address becomes TEXT_MASK_EMAIL */
     int mask_url;       /* 1: a URL becomes TEXT_MASK_URL */
-    int mask_number;    /* 1: a token of digits becomes TEXT_MASK_NUMBER */
+    int mask_number;    /* 1: a token of digits (any Unicode N*, possibly joined
+                           by hyphens or apostrophes: "2024-05-01") becomes
+                           TEXT_MASK_NUMBER */
 };
 /* Defaults: e-mails and URLs masked (personal data must not reach vectors or
  * models), numbers kept (ticket numbers and error codes often carry the route). */
