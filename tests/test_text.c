@@ -389,3 +389,65 @@ Test(text, concurrent_tokenising_matches_serial)
         cr_assert_eq((intptr_t)r, 0, "thread %d: %ld mismatches", i, (long)(intptr_t)r);
     }
 }
+
+/* 1 when s is entirely valid UTF-8. */
+static int all_valid_utf8(const char *s)
+{
+    size_t len = strlen(s), i = 0;
+    while (i < len) {
+        int32_t c;
+        utf8proc_ssize_t k = utf8proc_iterate((const utf8proc_uint8_t *)s + i, (utf8proc_ssize_t)(len - i), &c);
+        if (k < 0)
+            return 0;
+        i += (size_t)k;
+    }
+    return 1;
+}
+
+/* Random bytes (mostly ASCII with UTF-8 lead and continuation bytes mixed
+ * in): no crash, -1 exactly when the text is invalid, the reported offset is
+ * the length of the longest valid prefix (RFC 3629: a decoder stops at the
+ * first ill-formed sequence), and every token is non-empty valid UTF-8. */
+Test(text, random_bytes_are_handled)
+{
+    static const unsigned char bytes[] = { 'a', 'Z', ' ', '@', '.', '-', '\'', '_', '1', 0x00, 0x80, 0xBF, 0xC3,
+                                           0xA9, 0xE2, 0x80, 0x99, 0xED, 0xF0, 0x9F, 0xF4, 0x90, 0xFF, 0xC0 };
+    struct rng r;
+    rng_seed(&r, 7);
+    struct text_tokens t = TEXT_TOKENS_INIT;
+    char s[64];
+    long invalid = 0;
+    for (int it = 0; it < 50000; it++) {
+        size_t n = rng_below(&r, sizeof s);
+        for (size_t j = 0; j < n; j++)
+            s[j] = (char)bytes[rng_below(&r, sizeof bytes)];
+        /* longest valid prefix, by utf8proc_iterate called directly */
+        size_t ok = 0;
+        while (ok < n) {
+            int32_t c;
+            utf8proc_ssize_t k = utf8proc_iterate((const utf8proc_uint8_t *)s + ok, (utf8proc_ssize_t)(n - ok), &c);
+            if (k < 0)
+                break;
+            ok += (size_t)k;
+        }
+        struct err e = ERR_INIT;
+        text_tokens_clear(&t);
+        long got = text_tokenize(s, n, &dflt, &t, &e);
+        if (ok < n) {
+            char want[64];
+            snprintf(want, sizeof want, "invalid UTF-8 at byte %zu", ok);
+            cr_assert_eq(got, -1);
+            cr_assert_str_eq(e.msg, want);
+            invalid++;
+        } else {
+            cr_assert_geq(got, 0);
+            for (size_t i = 0; i < t.n; i++) {
+                const char *tok = text_token(&t, i);
+                cr_assert_gt(strlen(tok), 0);
+                cr_assert_eq(all_valid_utf8(tok), 1);
+            }
+        }
+    }
+    cr_assert_gt(invalid, 1000);
+    text_tokens_release(&t);
+}
