@@ -208,7 +208,7 @@ svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const s
     free(tmp);
     struct svm_problem prob = { (int)X->n, ys, xs };
 
-    double gamma = p->gamma > 0 ? p->gamma : default_gamma(X);
+    double gamma = p->gamma > 0 ? p->gamma : (p->gamma < 0 ? -p->gamma : 1.0) * default_gamma(X);
     struct svm_parameter par;
     memset(&par, 0, sizeof par);
     par.svm_type = C_SVC;

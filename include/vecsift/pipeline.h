@@ -26,7 +26,8 @@ struct pipeline_spec {
     struct features_params feat;
     enum pipeline_classifier clf;
     double C;           /* inverse regularisation strength, > 0 (default 1) */
-    double gamma;       /* svm-rbf kernel width; <= 0: 1 / (D * variance) */
+    double gamma;       /* svm-rbf width: > 0 this value; 0: 1 / (D * variance);
+                         * < 0: |gamma| times that default */
     int balanced;       /* class weights n / (K * n_label) */
     int max_iter;       /* logreg: L-BFGS iteration cap */
     double tol;         /* logreg: gradient tolerance */

@@ -29,7 +29,8 @@ enum svmfit_kernel { SVMFIT_LINEAR = 0, SVMFIT_RBF = 1 };
 struct svmfit_params {
     enum svmfit_kernel kernel;
     double C;           /* > 0 */
-    double gamma;       /* RBF width; <= 0 means 1 / (D * variance of X) */
+    double gamma;       /* RBF width: > 0 this value; 0 the default 1 / (D * variance
+                         * of X); < 0 |gamma| times that default (for searches) */
     int balanced;       /* class weights n / (K * n_label) */
     uint64_t seed;      /* seeds libsvm's rand() for its probability estimate */
     double eps;         /* stopping tolerance (libsvm's -e), default 1e-3 */
