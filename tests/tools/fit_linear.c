@@ -8,7 +8,8 @@
  * 0..K-1.  --sparse stores only the nonzero features (CSR).  Prints to
  * stdout "objective V", "iterations N", "converged 0|1", "seconds S", then
  * K lines "b_k w_k1 ... w_kD" (the model), then one line of K
- * probabilities per row.
+ * probabilities per row.  The time spent computing the probabilities goes
+ * to stderr as "predict_seconds S".
  */
 #include <errno.h>
 #include <math.h>
@@ -136,13 +137,16 @@ int main(int argc, char **argv)
             printf(" %.17g", m.W[c * d + j]);
         putchar('\n');
     }
-    double *pr = xcalloc(k, sizeof *pr);
-    for (size_t i = 0; i < n; i++) {
-        linear_proba(&m, &X, i, pr);
+    double *pr = xcalloc(xmul(n, k), sizeof *pr);
+    clock_gettime(CLOCK_MONOTONIC, &t0);
+    for (size_t i = 0; i < n; i++)
+        linear_proba(&m, &X, i, pr + i * k);
+    clock_gettime(CLOCK_MONOTONIC, &t1);
+    fprintf(stderr, "predict_seconds %.6f\n",
+            (double)(t1.tv_sec - t0.tv_sec) + 1e-9 * (double)(t1.tv_nsec - t0.tv_nsec));
+    for (size_t i = 0; i < n; i++)
         for (size_t c = 0; c < k; c++)
-            printf(c ? " %.17g" : "%.17g", pr[c]);
-        putchar('\n');
-    }
+            printf(c + 1 < k ? "%.17g " : "%.17g\n", pr[i * k + c]);
     free(pr);
     free(y);
     linear_release(&m);
