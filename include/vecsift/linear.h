@@ -17,6 +17,10 @@
  * the fit equals a binary (sigmoid) logistic regression on delta = w_1 - w_0
  * with C doubled: 0.5 (|w_0|^2 + |w_1|^2) = 0.25 |delta|^2.
  *
+ * A class in [0, K) with no rows has no finite optimum (its intercept falls
+ * without bound); the fit still ends, by L-BFGS's relative-decrease test,
+ * with that class's probabilities near 0 (about 1e-10 in a measured case).
+ *
  * This module does not choose C or build features; see folds.h and
  * features.h.
  */
