@@ -244,17 +244,20 @@ static void remember(struct memory *M, const double *x, const double *xt,
                      const double *g, const double *gt)
 {
     size_t n = M->n;
-    int slot = M->count < M->m ? (M->head + M->count) % M->m : M->head;
-    double *s = M->s + (size_t)slot * n, *y = M->y + (size_t)slot * n;
     double sy = 0, yy = 0;
     for (size_t j = 0; j < n; j++) {
-        s[j] = xt[j] - x[j];
-        y[j] = gt[j] - g[j];
-        sy += s[j] * y[j];
-        yy += y[j] * y[j];
+        double sj = xt[j] - x[j], yj = gt[j] - g[j];
+        sy += sj * yj;
+        yy += yj * yj;
     }
     if (!(sy > 1e-300 && yy > 0))
         return;
+    int slot = M->count < M->m ? (M->head + M->count) % M->m : M->head;
+    double *s = M->s + (size_t)slot * n, *y = M->y + (size_t)slot * n;
+    for (size_t j = 0; j < n; j++) {
+        s[j] = xt[j] - x[j];
+        y[j] = gt[j] - g[j];
+    }
     M->rho[slot] = 1.0 / sy;
     if (M->count < M->m)
         M->count++;

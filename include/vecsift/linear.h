@@ -17,6 +17,10 @@
  * the fit equals a binary (sigmoid) logistic regression on delta = w_1 - w_0
  * with C doubled: 0.5 (|w_0|^2 + |w_1|^2) = 0.25 |delta|^2.
  *
+ * A class in [0, K) with no rows has no finite optimum (its intercept falls
+ * without bound); the fit still ends, by L-BFGS's relative-decrease test,
+ * with that class's probabilities near 0 (about 1e-10 in a measured case).
+ *
  * This module does not choose C or build features; see folds.h and
  * features.h.
  */
@@ -32,7 +36,9 @@ struct linear_params {
     double C;         /* inverse penalty strength, > 0 (default 1) */
     int max_iter;     /* L-BFGS iterations at most (default 1000) */
     double tol;       /* stop when the largest gradient entry of J / (C sum_i s_i)
-                       * is <= tol (the scale scikit-learn's tol uses) (default 1e-6) */
+                       * is <= tol: a scale that does not grow with N or C
+                       * (default 1e-6); the fit also stops once J no longer
+                       * falls by more than 64 ulps relative per step */
     int balanced;     /* 1: class weights N / (K_present N_c) (default 0) */
 };
 #define LINEAR_PARAMS_INIT { 1.0, 1000, 1e-6, 0 }
