@@ -280,12 +280,21 @@ int embed_corpus_read(struct embed_corpus *c, const struct embed_source *src, st
 
 /* ---- noise distribution and subsampling ---- */
 
+/* The paper (section 2.3) discards with probability 1 - sqrt(t/f), i.e.
+ * keeps sqrt(t/f).  We keep sqrt(t/f) + t/f instead: the variant Levy,
+ * Goldberg and Dagan (2015, "Improving Distributional Similarity with
+ * Lessons Learned from Word Embeddings", TACL) report in the authors'
+ * released implementation (from memory).  Tried the paper's form first: on
+ * a 190,000-token corpus it keeps only 61% of a word seen 50 times, and the
+ * pairwise similarities of the 300 most frequent words agreed with gensim's
+ * (which uses the variant) at Spearman 0.57, against 0.82 between two gensim
+ * seeds.  Team corpora are that small, so the gentler form is the default. */
 double embed_keep_prob(uint64_t count, uint64_t total, double t)
 {
     if (t <= 0 || count == 0)
         return 1.0;
-    double f = (double)count / (double)total;
-    double keep = sqrt(t / f);
+    double r = t / ((double)count / (double)total);
+    double keep = sqrt(r) + r;
     return keep < 1.0 ? keep : 1.0;
 }
 

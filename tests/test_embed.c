@@ -6,6 +6,8 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/wait.h>
+#include <unistd.h>
 
 #include "vecsift/embed.h"
 #include "vecsift/err.h"
@@ -33,17 +35,18 @@ Test(embed, params_reject_bad_dimensions_and_window)
     cr_assert(strstr(e.msg, "--window"), "%s", e.msg);
 }
 
-/* ---- subsampling: the paper, section 2.3, discards a word with
- * probability 1 - sqrt(t / f(w)); we keep it with sqrt(t / f(w)), capped at 1 ---- */
+/* ---- subsampling: keep probability sqrt(t/f) + t/f, capped at 1 (the
+ * paper's sqrt(t/f), section 2.3, plus the t/f term Levy, Goldberg and Dagan
+ * 2015 describe in the authors' code; from memory) ---- */
 
-Test(embed, keep_probability_follows_the_paper)
+Test(embed, keep_probability_formula)
 {
     /* f = t: kept */
     cr_assert_float_eq(embed_keep_prob(100, 10000, 1e-2), 1.0, 1e-12);
-    /* f = 100 t: keep sqrt(1/100) = 0.1 */
-    cr_assert_float_eq(embed_keep_prob(1000, 100000, 1e-4), 0.1, 1e-12);
-    /* f = 4 t: keep 0.5 */
-    cr_assert_float_eq(embed_keep_prob(4, 10000, 1e-4), 0.5, 1e-12);
+    /* f = 100 t: sqrt(1/100) + 1/100 = 0.11 */
+    cr_assert_float_eq(embed_keep_prob(1000, 100000, 1e-4), 0.11, 1e-12);
+    /* f = 4 t: 0.5 + 0.25 */
+    cr_assert_float_eq(embed_keep_prob(4, 10000, 1e-4), 0.75, 1e-12);
     /* rarer than t: always kept; t = 0: subsampling off */
     cr_assert_float_eq(embed_keep_prob(1, 1000000, 1e-4), 1.0, 1e-12);
     cr_assert_float_eq(embed_keep_prob(900, 1000, 0), 1.0, 1e-12);
@@ -269,4 +272,116 @@ Test(embed, known_rows_are_the_starting_point)
     free(vec);
     free(known);
     embed_corpus_release(&c);
+}
+
+/* ---- the command (vecsift vectors learn), run as a program ---- */
+
+static char dir[64];
+
+static void make_dir(void)
+{
+    strcpy(dir, "/tmp/test_embed_XXXXXX");
+    cr_assert_not_null(mkdtemp(dir));
+}
+
+static void remove_dir(void)
+{
+    char cmd[128];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
+    cr_assert_eq(system(cmd), 0);
+}
+
+/* Run "vecsift vectors learn ARGS" in 'dir'; returns the exit status and
+ * leaves stderr in dir/err. */
+static int learn(const char *args)
+{
+    const char *bin = getenv("VECSIFT");
+    cr_assert_not_null(bin, "VECSIFT is not set");
+    char cmd[2048];
+    snprintf(cmd, sizeof cmd, "cd '%s' && '%s' vectors learn %s 2>err >/dev/null", dir, bin, args);
+    int st = system(cmd);
+    cr_assert(WIFEXITED(st));
+    return WEXITSTATUS(st);
+}
+
+static void write_file(const char *name, const char *text)
+{
+    char path[128];
+    snprintf(path, sizeof path, "%s/%s", dir, name);
+    FILE *fp = fopen(path, "w");
+    cr_assert_not_null(fp);
+    fputs(text, fp);
+    fclose(fp);
+}
+
+static int exists(const char *name)
+{
+    char path[128];
+    snprintf(path, sizeof path, "%s/%s", dir, name);
+    return access(path, F_OK) == 0;
+}
+
+static int err_has(const char *s)
+{
+    char path[128], buf[4096] = "";
+    snprintf(path, sizeof path, "%s/err", dir);
+    FILE *fp = fopen(path, "r");
+    cr_assert_not_null(fp);
+    size_t n = fread(buf, 1, sizeof buf - 1, fp);
+    buf[n] = 0;
+    fclose(fp);
+    return strstr(buf, s) != NULL;
+}
+
+/* Invented support-inbox lines: two kinds of ticket. */
+static void write_inbox(const char *name)
+{
+    static const char *a[] = { "printer", "toner", "paper", "tray", "jam" };
+    static const char *b[] = { "password", "login", "account", "reset", "locked" };
+    struct rng r;
+    rng_seed(&r, 4);
+    char path[128];
+    snprintf(path, sizeof path, "%s/%s", dir, name);
+    FILE *fp = fopen(path, "w");
+    cr_assert_not_null(fp);
+    for (int i = 0; i < 300; i++) {
+        const char **w = i % 2 ? a : b;
+        fprintf(fp, "Ticket: the %s and the %s again, %s %s please\n", w[rng_below(&r, 5)],
+                w[rng_below(&r, 5)], w[rng_below(&r, 5)], w[rng_below(&r, 5)]);
+    }
+    fclose(fp);
+}
+
+Test(embed_cli, one_thread_and_a_seed_give_identical_files, .init = make_dir, .fini = remove_dir)
+{
+    write_inbox("inbox.txt");
+    cr_assert_eq(learn("inbox.txt -o a.vecs --dimensions 12 --threads 1 --seed 3 --quiet"), 0);
+    cr_assert_eq(learn("inbox.txt -o b.vecs --dimensions 12 --threads 1 --seed 3 --quiet"), 0);
+    cr_assert_eq(learn("inbox.txt -o c.vecs --dimensions 12 --threads 1 --seed 4 --quiet"), 0);
+    char cmd[256];
+    snprintf(cmd, sizeof cmd, "cmp -s '%s/a.vecs' '%s/b.vecs'", dir, dir);
+    cr_assert_eq(system(cmd), 0, "same seed, different files");
+    snprintf(cmd, sizeof cmd, "cmp -s '%s/a.vecs' '%s/c.vecs'", dir, dir);
+    cr_assert_neq(system(cmd), 0, "another seed, same file");
+}
+
+Test(embed_cli, bad_input_exits_2_without_output, .init = make_dir, .fini = remove_dir)
+{
+    write_inbox("inbox.txt");
+    write_file("empty.txt", "\n\n  \n");
+    cr_assert_eq(learn("empty.txt -o out.vecs"), 2);
+    cr_assert(err_has("vecsift: empty.txt: no words"));
+    cr_assert_eq(learn("inbox.txt -o out.vecs --min-freq 1000"), 2);
+    cr_assert(err_has("vecsift: inbox.txt: no word occurs 1000 times"));
+    cr_assert(err_has("hint: lower --min-freq"));
+    cr_assert_eq(learn("inbox.txt -o out.vecs --dimensions 0"), 2);
+    cr_assert(err_has("dimensions"));
+    cr_assert_eq(learn("inbox.txt -o out.vecs --dimensions 10001"), 2);
+    cr_assert_eq(learn("inbox.txt -o out.vecs --window 0"), 2);
+    cr_assert(err_has("window"));
+    cr_assert_eq(learn("missing.txt -o out.vecs"), 1);
+    cr_assert(err_has("vecsift: missing.txt: cannot open"));
+    cr_assert_eq(learn("inbox.txt"), 2);
+    cr_assert_eq(learn("inbox.txt -o inbox.txt"), 2);
+    cr_assert(!exists("out.vecs"));
 }

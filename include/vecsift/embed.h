@@ -101,8 +101,9 @@ long embed_start_from(const struct embed_corpus *c, const vecset *from, size_t d
 /* ---- pieces, exposed for tests ---- */
 
 /* Probability of keeping one occurrence of a word seen 'count' times among
- * 'total' tokens, threshold 't': min(1, sqrt(t / f)) with f = count/total,
- * the formula printed in the paper (section 2.3).  1 when t is 0. */
+ * 'total' tokens, threshold 't': min(1, sqrt(t/f) + t/f) with
+ * f = count/total (the paper's sqrt(t/f) plus the t/f term of the authors'
+ * released code; embed.c says why).  1 when t is 0. */
 double embed_keep_prob(uint64_t count, uint64_t total, double t);
 
 /* The noise distribution: P(w) proportional to count(w)^power (the paper

@@ -15,5 +15,6 @@
     int cmd_##x(int argc, char **argv)
 
 /* Keep alphabetical, like the table in main.c. */
+VECSIFT_COMMAND(vectors_learn);
 
 #endif
