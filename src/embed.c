@@ -406,25 +406,66 @@ static inline float sigmoid(float x)
     return 1.0f / (1.0f + expf(-x));
 }
 
+/* Hand-blocked by four floats with GCC/Clang vector extensions: the build
+ * uses -O2, where GCC 12 leaves these loops scalar (measured: 4 packed
+ * instructions in the whole loop); blocks of v4 turn into SSE on any
+ * x86-64 and into NEON on arm64 without extra flags.  Each block keeps
+ * its own partial sums, so the dot product's rounding differs from a plain
+ * loop but is fixed for a given D: runs still repeat exactly. */
+typedef float v4 __attribute__((vector_size(16)));
+
+static inline v4 load4(const float *p)
+{
+    v4 v;
+    memcpy(&v, p, sizeof v);
+    return v;
+}
+
+static inline void store4(float *p, v4 v)
+{
+    memcpy(p, &v, sizeof v);
+}
+
 static inline float dot(const float *restrict a, const float *restrict b, size_t D)
 {
-    /* eight partial sums so the compiler can keep them in vector registers
-     * without reassociating one running sum */
-    float s[8] = { 0 };
+    v4 s0 = { 0, 0, 0, 0 }, s1 = s0;
     size_t i = 0;
-    for (; i + 8 <= D; i += 8)
-        for (int k = 0; k < 8; k++)
-            s[k] += a[i + k] * b[i + k];
-    float r = ((s[0] + s[1]) + (s[2] + s[3])) + ((s[4] + s[5]) + (s[6] + s[7]));
+    for (; i + 8 <= D; i += 8) {
+        s0 += load4(a + i) * load4(b + i);
+        s1 += load4(a + i + 4) * load4(b + i + 4);
+    }
+    s0 += s1;
+    float r = (s0[0] + s0[1]) + (s0[2] + s0[3]);
     for (; i < D; i++)
         r += a[i] * b[i];
     return r;
 }
 
-static inline void axpy(float g, const float *restrict x, float *restrict y, size_t D)
+/* grad += g l2 and l2 += g l1 in one pass (grad takes l2 before its update). */
+static inline void update_pair(float g, const float *restrict l1, float *restrict l2,
+                               float *restrict grad, size_t D)
 {
-    for (size_t i = 0; i < D; i++)
-        y[i] += g * x[i];
+    v4 g4 = { g, g, g, g };
+    size_t i = 0;
+    for (; i + 4 <= D; i += 4) {
+        v4 o = load4(l2 + i);
+        store4(grad + i, load4(grad + i) + g4 * o);
+        store4(l2 + i, o + g4 * load4(l1 + i));
+    }
+    for (; i < D; i++) {
+        float o = l2[i];
+        grad[i] += g * o;
+        l2[i] = o + g * l1[i];
+    }
+}
+
+static inline void add_to(const float *restrict x, float *restrict y, size_t D)
+{
+    size_t i = 0;
+    for (; i + 4 <= D; i += 4)
+        store4(y + i, load4(y + i) + load4(x + i));
+    for (; i < D; i++)
+        y[i] += x[i];
 }
 
 static void *work(void *arg)
@@ -490,10 +531,9 @@ static void *work(void *arg)
                         }
                         float *l2 = s->out + (size_t)target * D;
                         float g = (label - sigmoid(dot(l1, l2, D))) * lr;
-                        axpy(g, l2, grad, D);
-                        axpy(g, l1, l2, D);
+                        update_pair(g, l1, l2, grad, D);
                     }
-                    axpy(1.0f, grad, l1, D);
+                    add_to(grad, l1, D);
                 }
             }
         }
