@@ -64,7 +64,7 @@ def ours(path, *opts):
 
 def json_lines(out):
     # split on "\n" only: str.splitlines() would also split at U+0085, U+2028
-    return [json.loads(line) for line in out.decode("utf-8").split("\n") if line]
+    return [json.loads(line) for line in out.decode("utf-8", "replace").split("\n") if line]
 
 
 def our_rows(path, *opts):
