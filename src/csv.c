@@ -173,6 +173,8 @@ static int fill(csv_reader *r, struct err *e)
 
 static void raw_add(csv_reader *r, const unsigned char *p, size_t n)
 {
+    if (n == 0)
+        return;     /* raw may still be NULL: memcpy(NULL, p, 0) is undefined */
     if (r->rlen + n > r->rcap)
         r->raw = xgrow(r->raw, &r->rcap, r->rlen + n, 1);
     memcpy(r->raw + r->rlen, p, n);
