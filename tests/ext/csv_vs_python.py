@@ -109,6 +109,14 @@ def main():
     for n in names:
         compare_file(os.path.join(DATA, n), n)
 
+    # standard input ("-") reads the same as the file
+    path = os.path.join(DATA, "04_embedded_crlf.csv")
+    with open(path, "rb") as f:
+        data = f.read()
+    p = subprocess.run([TOOL, "-"], input=data, capture_output=True)
+    check(p.returncode == 0 and json_lines(p.stdout) == python_rows(data),
+          "04_embedded_crlf.csv through standard input equal to csv.reader", p.stderr.decode())
+
     with tempfile.TemporaryDirectory() as tmp:
         # a very long field: 3 MB with quotes, commas and line breaks inside
         chunk = 'word, "quoted" and\r\nmore\n'
