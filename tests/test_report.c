@@ -253,3 +253,27 @@ Test(report, heatmap_writes_counts_and_shades_by_row)
     cr_assert_eq(count(s, "<rect"), 15);
     free(s);
 }
+
+/* Empty and all-missing inputs still give one well-formed chart each. */
+Test(report, charts_accept_empty_and_missing_input)
+{
+    double nan3[3] = { NAN, NAN, NAN };
+    const char *lab[3] = { "a", "b", "c" };
+    struct chart_group g = { "F1", nan3, NULL };
+    struct chart_mark mk = { NAN, NAN, "nowhere" };
+    struct mem m;
+    mem_open(&m);
+    chart_heatmap(m.fp, "empty", NULL, NULL, 0, NULL, NULL, NULL);
+    chart_bars(m.fp, NULL, NULL, 0, NULL, 0, NULL);
+    chart_curve(m.fp, NULL, nan3, nan3, 3, "x", "y", NULL, NULL, &mk);
+    chart_intervals(m.fp, NULL, lab, 3, nan3, nan3, nan3, CHART_NO_BEST, NULL, NULL);
+    chart_bars(m.fp, NULL, lab, 3, &g, 1, NULL);
+    char *s = mem_done(&m);
+    cr_assert_eq(count(s, "<svg "), 5);
+    cr_assert_eq(count(s, "</svg>"), 5);
+    cr_assert_null(strstr(s, "nan"));
+    cr_assert_null(strstr(s, "inf"));
+    cr_assert_null(strstr(s, "nowhere"), "a mark without coordinates is not drawn");
+    cr_assert_eq(count(s, ">n/a<"), 6, "three missing bars, three missing intervals");
+    free(s);
+}

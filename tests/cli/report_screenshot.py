@@ -78,13 +78,15 @@ def main():
         page, shot = os.path.join(tmp, 'page.html'), os.path.join(tmp, 'shot.png')
         check(subprocess.run([DEMO, page], capture_output=True).returncode == 0,
               'report_demo writes the page')
-        run = subprocess.run(
-            [browser, '--headless', '--no-sandbox', '--disable-gpu', '--disable-quic',
-             '--no-first-run', '--disable-background-networking', '--disable-component-update',
-             '--disable-sync', '--user-data-dir=' + os.path.join(tmp, 'profile'),
-             '--screenshot=' + shot, '--window-size=1200,%d' % height, 'file://' + page],
-            capture_output=True, text=True, timeout=150)
-        check(run.returncode == 0, 'chromium exits 0')
+        cmd = [browser, '--headless', '--no-sandbox', '--disable-gpu', '--disable-quic',
+               '--no-first-run', '--disable-background-networking', '--disable-component-update',
+               '--disable-sync', '--user-data-dir=' + os.path.join(tmp, 'profile'),
+               '--screenshot=' + shot, '--window-size=1200,%d' % height, 'file://' + page]
+        try:
+            status = subprocess.run(cmd, capture_output=True, timeout=150).returncode
+        except subprocess.TimeoutExpired:
+            status = 'timeout after 150 s'
+        check(status == 0, 'chromium exits 0 (%s)' % status)
         size = os.path.getsize(shot) if os.path.exists(shot) else 0
         check(size > 10000, 'screenshot is larger than 10 kB (%d bytes)' % size)
         if size:
