@@ -38,8 +38,15 @@ static const char *const palette[] = {
 #define PALETTE_N (sizeof palette / sizeof palette[0])
 #define ACCENT "#D55E00"   /* vermillion: marked points */
 
+#define TITLE_COLS 90
+
+/* Open the <svg> element, widened when needed so the title fits. */
 static void svg_open(FILE *fp, double w, double h, const char *title)
 {
+    if (title) {
+        size_t tw = report_text_width(title);
+        w = fmax(w, 24 + 8.8 * (double)(tw < TITLE_COLS ? tw : TITLE_COLS));
+    }
     fprintf(fp, "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%.0f\" height=\"%.0f\" "
                 "viewBox=\"0 0 %.0f %.0f\" role=\"img\" font-family=\"system-ui,sans-serif\" "
                 "font-size=\"%d\" fill=\"" INK "\">\n",
@@ -49,7 +56,7 @@ static void svg_open(FILE *fp, double w, double h, const char *title)
         report_escape(fp, title, 0);
         fputs("</title>\n", fp);
         fputs("<text x=\"8\" y=\"20\" font-size=\"15\" font-weight=\"600\">", fp);
-        report_escape(fp, title, 90);
+        report_escape(fp, title, TITLE_COLS);
         fputs("</text>\n", fp);
     }
 }

@@ -191,8 +191,8 @@ static void print_row(FILE *fp, const char *const *row, size_t ncols, const size
     fputc('\n', fp);
 }
 
-void report_table_print(FILE *fp, const char *const *header, const char *const *cells,
-                        size_t ncols, size_t nrows, const char *align)
+void report_table_print(FILE *fp, const char *const *header, size_t ncols,
+                        const char *const *cells, size_t nrows, const char *align)
 {
     size_t *width = xcalloc(ncols ? ncols : 1, sizeof *width), total = 0;
     for (size_t j = 0; j < ncols; j++) {

@@ -154,7 +154,7 @@ Test(report, table_aligns_accented_and_wide_text)
     };
     struct mem m;
     mem_open(&m);
-    report_table_print(m.fp, head, cells, 2, 3, "lr");
+    report_table_print(m.fp, head, 2, cells, 3, "lr");
     char *s = mem_done(&m);
     /* Worked by hand: column widths 6 and 5, two spaces apart. */
     cr_assert_str_eq(s,
@@ -172,7 +172,7 @@ Test(report, table_default_alignment_and_no_escape_codes)
     const char *cells[] = { "x\x1b[2J", NULL, "yy" };
     struct mem m;
     mem_open(&m);
-    report_table_print(m.fp, head, cells, 3, 1, NULL);
+    report_table_print(m.fp, head, 3, cells, 1, NULL);
     char *s = mem_done(&m);
     cr_assert_null(strchr(s, 0x1b), "ESC must never reach the terminal");
     cr_assert_str_eq(s, "a     b   c\n-----------\nx[2J     yy\n");

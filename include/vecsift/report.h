@@ -50,14 +50,15 @@ void report_escape(FILE *fp, const char *s, size_t max_cols);
 /* ---- terminal tables ---- */
 
 /* Print a table: a header line, a rule of '-', then 'nrows' rows.
- * 'cells' holds nrows*ncols strings row-major (NULL prints as empty).
+ * 'header' has ncols strings, 'cells' nrows*ncols row-major (NULL prints as
+ * empty); the argument order matches report_html_table.
  * 'align' has one letter per column, 'l' left or 'r' right; NULL means the
  * first column left and the rest right.  Columns are padded by display
  * width (report_text_width), two spaces apart, with no trailing blanks.
  * Control characters in cells are not printed (a label cannot move the
  * cursor or recolour the terminal). */
-void report_table_print(FILE *fp, const char *const *header, const char *const *cells,
-                        size_t ncols, size_t nrows, const char *align);
+void report_table_print(FILE *fp, const char *const *header, size_t ncols,
+                        const char *const *cells, size_t nrows, const char *align);
 
 /* ---- HTML page ---- */
 

@@ -73,7 +73,7 @@ static void write_page(FILE *fp)
     static const char *const head[4] = { "queue", "precision", "recall", "F1" };
     static const int numeric[4] = { 0, 1, 1, 1 };
     report_html_table(fp, head, 4, rows, K, numeric);
-    report_table_print(stdout, head, rows, 4, K, "lrrr");
+    report_table_print(stdout, head, 4, rows, K, "lrrr");
 
     report_html_section(fp, "Confidence cut-off",
                         "Tickets below the cut-off go to a person. Higher cut-offs route "
