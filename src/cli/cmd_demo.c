@@ -161,7 +161,7 @@ int cmd_demo(int argc, char **argv)
         return cli_fail(&e);
 
     char labelled[4096], unlabelled[4096], incoming[4096], vecs[4096], report[4096], json[4096], oof[4096],
-        routed[4096], model[4096], threads[16], seed[32], cutarg[32];
+        routed[4096], model[4096], threads[16], seed[32];
     snprintf(labelled, sizeof labelled, "%s/labelled.csv", data);
     snprintf(unlabelled, sizeof unlabelled, "%s/unlabelled.csv", data);
     snprintf(incoming, sizeof incoming, "%s/incoming.csv", data);
@@ -194,9 +194,8 @@ int cmd_demo(int argc, char **argv)
               "queue", "--pool", "bow", "--threads", threads, "--seed", seed, "--quiet", NULL);
     if (rc)
         return rc;
-    snprintf(cutarg, sizeof cutarg, "%.3f", cut >= 0 ? cut : 1.0);
     rc = step(cmd_train, "train", labelled, "--text-col", "subject", "--text-col", "body", "--label-col", "queue",
-              "--vectors", vecs, "--pool", "tfidf", "--review-below", cutarg, "-o", model, "--seed", seed, NULL);
+              "--vectors", vecs, "--pool", "tfidf", "--evaluation", json, "-o", model, "--seed", seed, NULL);
     if (rc)
         return rc;
     rc = step(cmd_predict, "predict", model, incoming, "-o", routed, "--top", "2", "--explain", "3", "--threads",
