@@ -386,70 +386,86 @@ static void qtree_build(struct qtree *t, const double *Y, size_t n)
         }
 }
 
-/* Add to (*z, *fx, *fy) the repulsion on point i from the points below node
- * 'at': z += sum w, f += sum w^2 (y_i - y_j), w = 1 / (1 + |y_i - y_j|^2).
- * A cell is summarised by its centre of mass when width / distance < theta
- * (2014 paper, section 4.2). */
-static void qt_repulse(const struct qtree *t, size_t at, const double *Y, size_t i,
-                       double theta, double *z, double *fx, double *fy)
+/* Add to (*z, *fx, *fy) the repulsion on point i from all other points:
+ * z += sum w, f += sum w^2 (y_i - y_j), w = 1 / (1 + |y_i - y_j|^2).  A cell
+ * is summarised by its centre of mass when width / distance < theta (2014
+ * paper, section 4.2).  Depth-first with an explicit stack, children in a
+ * fixed order, so the sums add up in the same order on every run. */
+static void qt_repulse(const struct qtree *t, const double *Y, size_t i, double theta,
+                       double *z, double *fx, double *fy)
 {
-    const struct qnode *q = &t->node[at];
-    if (q->count == 0)
-        return;
-    double xi = Y[2 * i], yi = Y[2 * i + 1];
-    if (!q->child) {
-        for (size_t j = q->first; j != SIZE_MAX; j = t->next[j]) {
-            if (j == i)
-                continue;
-            double dx = xi - Y[2 * j], dy = yi - Y[2 * j + 1];
-            double w = 1.0 / (1.0 + dx * dx + dy * dy);
-            *z += w;
-            *fx += w * w * dx;
-            *fy += w * w * dy;
+    size_t stack[4 * (QT_MAX_DEPTH + 2)];
+    size_t top = 0;
+    const double xi = Y[2 * i], yi = Y[2 * i + 1], theta2 = theta * theta;
+    double zs = 0, fxs = 0, fys = 0;
+    stack[top++] = 0;
+    while (top) {
+        const struct qnode *q = &t->node[stack[--top]];
+        if (!q->child) {
+            for (size_t j = q->first; j != SIZE_MAX; j = t->next[j]) {
+                if (j == i)
+                    continue;
+                double dx = xi - Y[2 * j], dy = yi - Y[2 * j + 1];
+                double w = 1.0 / (1.0 + dx * dx + dy * dy);
+                zs += w;
+                fxs += w * w * dx;
+                fys += w * w * dy;
+            }
+            continue;
         }
-        return;
+        double dx = xi - q->mx, dy = yi - q->my, d2 = dx * dx + dy * dy;
+        double width = 2 * q->hw;
+        if (width * width < theta2 * d2) {
+            double w = 1.0 / (1.0 + d2), c = (double)q->count;
+            zs += c * w;
+            fxs += c * w * w * dx;
+            fys += c * w * w * dy;
+            continue;
+        }
+        for (size_t k = 4; k-- > 0;) /* pushed in reverse: visited 0, 1, 2, 3 */
+            if (t->node[q->child + k].count)
+                stack[top++] = q->child + k;
     }
-    double dx = xi - q->mx, dy = yi - q->my, d2 = dx * dx + dy * dy;
-    double width = 2 * q->hw;
-    if (width * width < theta * theta * d2) {
-        double w = 1.0 / (1.0 + d2), c = (double)q->count;
-        *z += c * w;
-        *fx += c * w * w * dx;
-        *fy += c * w * w * dy;
-        return;
-    }
-    for (size_t k = 0; k < 4; k++)
-        qt_repulse(t, q->child + k, Y, i, theta, z, fx, fy);
+    *z += zs;
+    *fx += fxs;
+    *fy += fys;
 }
 
 /* ---- gradients ---- */
 
 /* dC/dY for the joint P (N, N) and exaggeration 'ex' (2008 paper, eq. 5):
- * G_i = 4 sum_j (ex p_ij - q_ij) w_ij (y_i - y_j).  W is (N, N) scratch. */
+ * G_i = 4 sum_j (ex p_ij - q_ij) w_ij (y_i - y_j), q_ij = w_ij / Z.  Each
+ * pair is visited once per pass (the force on j is minus the force on i);
+ * W is (N, N) scratch of which the upper triangle is used. */
 static void grad_exact(const double *P, const double *Y, size_t n, double ex,
                        double *W, double *G)
 {
     double z = 0;
-    for (size_t i = 0; i < n; i++) {
-        W[i * n + i] = 0;
+    for (size_t i = 0; i < n; i++)
         for (size_t j = i + 1; j < n; j++) {
             double dx = Y[2 * i] - Y[2 * j], dy = Y[2 * i + 1] - Y[2 * j + 1];
             double w = 1.0 / (1.0 + dx * dx + dy * dy);
-            W[i * n + j] = W[j * n + i] = w;
-            z += 2 * w;
+            W[i * n + j] = w;
+            z += w;
         }
-    }
+    z *= 2; /* Z sums over ordered pairs */
+    memset(G, 0, 2 * n * sizeof *G);
     for (size_t i = 0; i < n; i++) {
         double gx = 0, gy = 0;
-        for (size_t j = 0; j < n; j++) {
+        for (size_t j = i + 1; j < n; j++) {
             double w = W[i * n + j];
             double m = (ex * P[i * n + j] - w / z) * w;
-            gx += m * (Y[2 * i] - Y[2 * j]);
-            gy += m * (Y[2 * i + 1] - Y[2 * j + 1]);
+            double fx = m * (Y[2 * i] - Y[2 * j]), fy = m * (Y[2 * i + 1] - Y[2 * j + 1]);
+            gx += fx;
+            gy += fy;
+            G[2 * j] -= fx;
+            G[2 * j + 1] -= fy;
         }
-        G[2 * i] = 4 * gx;
-        G[2 * i + 1] = 4 * gy;
+        G[2 * i] += gx;
+        G[2 * i + 1] += gy;
     }
+    for (size_t k = 0; k < 2 * n; k++)
+        G[k] *= 4;
 }
 
 /* The same gradient split as in the 2014 paper, eq. 8: attraction over the
@@ -461,7 +477,7 @@ static void grad_bh(const struct sparse *S, const double *Y, size_t n, double ex
     double z = 0;
     for (size_t i = 0; i < n; i++) {
         double zi = 0, rx = 0, ry = 0;
-        qt_repulse(t, 0, Y, i, theta, &zi, &rx, &ry);
+        qt_repulse(t, Y, i, theta, &zi, &rx, &ry);
         z += zi;
         G[2 * i] = rx; /* repulsion, divided by z below */
         G[2 * i + 1] = ry;
