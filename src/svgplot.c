@@ -32,9 +32,11 @@ enum { NCOLOURS = sizeof PALETTE / sizeof PALETTE[0], NSHAPES = 4 };
 static const char *const UNLABELLED_COLOUR = "#999999";
 
 /* Geometry, in SVG user units (pixels). */
-static const double PLOT = 600, MARGIN = 20, LEGEND_W = 260, RADIUS = 3.5;
+static const double PLOT = 600, MARGIN = 20, LEGEND_MIN_W = 200, RADIUS = 3.5;
 static const double LINE_H = 18, LEGEND_ROW = 20;
-enum { CAPTION_WRAP = 100 }; /* bytes per caption line */
+/* Width of one character at font-size 13 in a sans-serif face, generous
+ * (about 0.55 em is typical; common practice, no font is measured). */
+static const double CHAR_W = 7.5;
 
 /* ---- XML text ---- */
 
@@ -155,10 +157,10 @@ static void marker_open(FILE *fp, int k, double x, double y)
     }
 }
 
-/* Split 'text' at spaces into lines of at most CAPTION_WRAP bytes (a longer
+/* Split 'text' at spaces into lines of at most 'wrap' bytes (a longer
  * word gets a line of its own) and write each as a <text> element; with
  * 'fp' NULL only count them.  Returns the number of lines. */
-static size_t caption_lines(FILE *fp, const char *text, double x, double y)
+static size_t caption_lines(FILE *fp, const char *text, size_t wrap, double x, double y)
 {
     const char *s = text;
     size_t lines = 0;
@@ -168,7 +170,7 @@ static size_t caption_lines(FILE *fp, const char *text, double x, double y)
         if (!*s)
             break;
         const char *end = s, *cut = NULL;
-        while (*end && (size_t)(end - s) <= CAPTION_WRAP) {
+        while (*end && (size_t)(end - s) <= wrap) {
             if (*end == ' ')
                 cut = end;
             end++;
@@ -230,8 +232,15 @@ int svgplot_scatter(FILE *fp, const double *Y, size_t n, const int *label,
 
     double legend_h = MARGIN + (double)legend_rows * LEGEND_ROW;
     double top_h = fmax(PLOT, legend_h);
-    size_t ncap = caption ? caption_lines(NULL, caption, 0, 0) : 0;
-    double width = PLOT + (label ? LEGEND_W : 0);
+    /* The legend is as wide as its longest row: marker, name, " (count)". */
+    size_t longest = 0;
+    for (size_t k = 0; label && k < nlabels; k++)
+        if (strlen(labels[k]) > longest)
+            longest = strlen(labels[k]);
+    double legend_w = fmax(LEGEND_MIN_W, 6 * RADIUS + CHAR_W * (double)(longest + 12) + MARGIN);
+    double width = PLOT + (label ? legend_w : 0);
+    size_t wrap = (size_t)((width - 2 * MARGIN) / CHAR_W);
+    size_t ncap = caption ? caption_lines(NULL, caption, wrap, 0, 0) : 0;
     double height = top_h + (double)ncap * LINE_H + (ncap ? MARGIN : 0);
 
     fprintf(fp, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
@@ -288,7 +297,7 @@ int svgplot_scatter(FILE *fp, const double *Y, size_t n, const int *label,
     }
     if (caption) {
         fputs("<g class=\"caption\" fill=\"#333333\">\n", fp);
-        caption_lines(fp, caption, MARGIN, top_h + LINE_H);
+        caption_lines(fp, caption, wrap, MARGIN, top_h + LINE_H);
         fputs("</g>\n", fp);
     }
     fputs("</svg>\n", fp);

@@ -44,7 +44,8 @@ static int check_input(const double *X, size_t n, size_t d, double perplexity,
         return err_set(e, NULL, 0, "t-SNE needs at least 4 points, got %zu", n);
     if (d == 0)
         return err_set(e, NULL, 0, "t-SNE input has no dimensions");
-    for (size_t k = 0; k < xmul(n, d); k++)
+    size_t nd = xmul(n, d);
+    for (size_t k = 0; k < nd; k++)
         if (!isfinite(X[k]))
             return err_set(e, NULL, 0, "t-SNE input point %zu, dimension %zu is not a finite number",
                            k / d + 1, k % d + 1);
