@@ -593,13 +593,34 @@ static void init_pca(const double *X, size_t n, size_t d, struct rng *r, double 
 
 /* ---- API ---- */
 
+/* X itself, or a new scaled copy (*copy set, caller frees) when its values
+ * are so large that squared distances overflow or so small that they
+ * underflow.  P is unchanged by scaling X (the bandwidth search absorbs the
+ * scale) and the PCA start is rescaled anyway, so the map is the same. */
+static const double *tame_scale(const double *X, size_t n, size_t d, double **copy)
+{
+    size_t nd = n * d; /* checked by check_input */
+    double big = 0;
+    *copy = NULL;
+    for (size_t k = 0; k < nd; k++)
+        big = fmax(big, fabs(X[k]));
+    if (big == 0 || (big < 1e100 && big > 1e-100))
+        return X;
+    *copy = xmalloc(xmul(nd, sizeof **copy));
+    for (size_t k = 0; k < nd; k++)
+        (*copy)[k] = X[k] / big;
+    return *copy;
+}
+
 int tsne_affinities(const double *X, size_t n, size_t d, double perplexity,
                     double *P, struct err *e)
 {
     double perp;
     if (check_input(X, n, d, perplexity, &perp, e) < 0)
         return -1;
-    dense_conditional(X, n, d, perp, P);
+    double *copy;
+    dense_conditional(tame_scale(X, n, d, &copy), n, d, perp, P);
+    free(copy);
     return 0;
 }
 
@@ -621,6 +642,8 @@ int tsne_run(const double *X, size_t n, size_t d, const struct tsne_params *p,
     if (p->init != TSNE_INIT_PCA && p->init != TSNE_INIT_RANDOM)
         return err_set(e, NULL, 0, "unknown t-SNE initialisation %d", p->init);
     int exact = p->exact == -1 ? n <= TSNE_EXACT_MAX : p->exact;
+    double *copy;
+    X = tame_scale(X, n, d, &copy);
 
     struct rng r;
     rng_seed(&r, p->seed);
@@ -696,5 +719,9 @@ int tsne_run(const double *X, size_t n, size_t d, const struct tsne_params *p,
     sparse_release(&S);
     free(t.node);
     free(t.next);
+    free(copy);
+    for (size_t k = 0; k < 2 * n; k++)
+        if (!isfinite(Y[k]))
+            return err_io(e, NULL, 0, "t-SNE optimisation diverged (coordinate %zu is not finite)", k / 2 + 1);
     return 0;
 }

@@ -230,6 +230,34 @@ Test(tsne, one_dimensional_input)
     cr_assert(a <= 1 && b >= n - 2, "farthest pair is %zu and %zu", a, b);
 }
 
+/* Values whose squares overflow (or underflow) a double: P does not depend
+ * on the scale of X (the bandwidth search absorbs it; 2008 paper, section
+ * 2), so the map of 1e200 * X is the map of X up to rounding. */
+Test(tsne, extreme_scales_give_the_same_map)
+{
+    const size_t n = 60, d = 5;
+    double *X = clusters(3, 20, d, 8, 13);
+    double *Xb = malloc(n * d * sizeof *Xb), *Xs = malloc(n * d * sizeof *Xs);
+    double A[120], B[120], C[120];
+    for (size_t k = 0; k < n * d; k++) {
+        Xb[k] = X[k] * 1e200;
+        Xs[k] = X[k] * 1e-200;
+    }
+    struct tsne_params p = TSNE_PARAMS_INIT;
+    p.perplexity = 10;
+    p.iters = 10; /* short: rounding differences grow in the early phase */
+    run_ok(X, n, d, &p, A);
+    run_ok(Xb, n, d, &p, B);
+    run_ok(Xs, n, d, &p, C);
+    for (size_t k = 0; k < 2 * n; k++) {
+        cr_assert_float_eq(A[k], B[k], 1e-6 * fabs(A[k]) + 1e-9, "large: %zu %g %g", k, A[k], B[k]);
+        cr_assert_float_eq(A[k], C[k], 1e-6 * fabs(A[k]) + 1e-9, "small: %zu %g %g", k, A[k], C[k]);
+    }
+    free(X);
+    free(Xb);
+    free(Xs);
+}
+
 Test(tsne, bad_input_is_reported)
 {
     double X[12] = { 0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11 }, Y[12];
