@@ -40,8 +40,11 @@ struct text_tokens {
     size_t len, cap;
     size_t *off;
     size_t n, ncap;
+    /* Working memory reused by every call (normalised text); private. */
+    void *scratch;
+    size_t scratch_cap;
 };
-#define TEXT_TOKENS_INIT { NULL, 0, 0, NULL, 0, 0 }
+#define TEXT_TOKENS_INIT { NULL, 0, 0, NULL, 0, 0, NULL, 0 }
 
 static inline const char *text_token(const struct text_tokens *t, size_t i)
 {
@@ -53,8 +56,10 @@ void text_tokens_clear(struct text_tokens *t);
 void text_tokens_release(struct text_tokens *t);
 
 /* Tokenise s[0..len) (UTF-8) and APPEND the tokens to 't'.  Returns the
- * number of tokens appended, or -1 when 's' is not valid UTF-8 ('e' set with
- * the byte offset; the caller adds file and line).  Thread-safe. */
+ * number of tokens appended, or -1 when 's' is not valid UTF-8 ('e' set to
+ * "invalid UTF-8 at byte N", N the 0-based offset of the first bad byte; the
+ * caller adds file and line).  Thread-safe: two threads may tokenise at once
+ * as long as each uses its own 't'. */
 long text_tokenize(const char *s, size_t len, const struct text_options *o, struct text_tokens *t, struct err *e);
 
 /* Normalise one vocabulary entry (a token from a vector file) exactly as a
@@ -62,6 +67,21 @@ long text_tokenize(const char *s, size_t len, const struct text_options *o, stru
  * the entry becomes exactly one token, or NULL when it becomes none or
  * several (such an entry can never match a token of running text). */
 char *text_normalize_token(const char *s, size_t len, const struct text_options *o);
+
+/* The normalisation step alone: NFKC, Unicode full case folding, removal of
+ * default-ignorable code points and (unless o->keep_accents) of nonspacing
+ * marks on Latin-script letters; no masking, no splitting.  'o' may be NULL
+ * (TEXT_OPTIONS_INIT).  Returns a new NUL-terminated string (caller frees)
+ * and its length in '*outlen' (when not NULL), or NULL when 's' is not valid
+ * UTF-8. */
+char *text_normalize(const char *s, size_t len, const struct text_options *o, size_t *outlen);
+
+/* Plain NFKC (Unicode Standard Annex #15) through the same code path as
+ * text_normalize(), with folding, ignorable removal and mark removal off.
+ * It exists so tests can check the normalisation core against the Unicode
+ * conformance file.  Returns a new string (caller frees) or NULL on invalid
+ * UTF-8. */
+char *text_nfkc(const char *s, size_t len, size_t *outlen);
 
 /* Short description of the settings, e.g. "nfkc,casefold,strip-latin-marks,
  * mask=email+url", stored in models so predict refuses a mismatch. */
