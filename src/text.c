@@ -59,6 +59,15 @@ static int is_latin_base(int32_t c)
         || (c >= 0x1DF00 && c <= 0x1DFFF);
 }
 
+/* Default_Ignorable_Code_Point (DerivedCoreProperties.txt, Unicode 15.0)
+ * holds whole blocks reserved for future format characters; their
+ * unassigned members lie in 2060..206F, FFF0..FFFB and E0000..E0FFF.
+ * Only called for unassigned (Cn) code points. */
+static int is_reserved_ignorable(int32_t c)
+{
+    return (c >= 0x2060 && c <= 0x206F) || (c >= 0xFFF0 && c <= 0xFFFB) || (c >= 0xE0000 && c <= 0xE0FFF);
+}
+
 static int is_mark_category(utf8proc_category_t k)
 {
     return k == UTF8PROC_CATEGORY_MN || k == UTF8PROC_CATEGORY_MC || k == UTF8PROC_CATEGORY_ME;
@@ -79,39 +88,38 @@ static long bad_utf8_offset(const char *s, size_t len)
     return -1;
 }
 
-static void scratch_reserve(void **buf, size_t *cap, size_t need)
+/* Working memory of normalise(): 'out' receives the UTF-8 result, 'work'
+ * holds the code points of one non-ASCII stretch. */
+struct nbuf {
+    void **out;
+    size_t *out_cap;
+    void **work;
+    size_t *work_cap;
+};
+
+static void reserve(void **buf, size_t *cap, size_t need)
 {
     if (need > *cap)
         *buf = xgrow(*buf, cap, need, 1);
 }
 
-/* Normalise s[0..len) into '*buf' (grown as needed, capacity in bytes in
- * '*cap').  Returns the byte length of the NUL-terminated UTF-8 result at
- * (char *)*buf, or -1 when 's' is not valid UTF-8. */
-static long normalise(const char *s, size_t len, int flags, void **buf, size_t *cap)
+/* Copy ASCII s[0..n) to d, folding A-Z when 'fold'. */
+static void copy_ascii(char *d, const char *s, size_t n, int fold)
 {
-    /* Fast path for ASCII, by far the commonest input: NFKC leaves ASCII
-     * unchanged, full case folding of ASCII is A-Z -> a-z (CaseFolding.txt),
-     * and ASCII holds no default-ignorable code point and no mark.
-     * tests/test_text.c checks this path against utf8proc_map. */
-    size_t i = 0;
-    while (i < len && !((unsigned char)s[i] & 0x80))
-        i++;
-    if (i == len) {
-        scratch_reserve(buf, cap, len + 1);
-        char *d = *buf;
-        if (flags & N_FOLD) {
-            for (i = 0; i < len; i++) {
-                char ch = s[i];
-                d[i] = ch >= 'A' && ch <= 'Z' ? (char)(ch + ('a' - 'A')) : ch;
-            }
-        } else {
-            memcpy(d, s, len);
-        }
-        d[len] = '\0';
-        return (long)len;
+    if (!fold) {
+        memcpy(d, s, n);
+        return;
     }
+    for (size_t i = 0; i < n; i++) {
+        char ch = s[i];
+        d[i] = ch >= 'A' && ch <= 'Z' ? (char)(ch + ('a' - 'A')) : ch;
+    }
+}
 
+/* Normalise one stretch s[0..len) with utf8proc and append the UTF-8 to
+ * b->out at offset *o.  Returns 0, or -1 on invalid UTF-8. */
+static int normalise_stretch(const char *s, size_t len, int flags, struct nbuf *b, size_t *o)
+{
     utf8proc_option_t opt = UTF8PROC_STABLE | UTF8PROC_COMPAT | UTF8PROC_DECOMPOSE;
     if (flags & N_FOLD)
         opt |= UTF8PROC_CASEFOLD | UTF8PROC_IGNORE;
@@ -120,30 +128,34 @@ static long normalise(const char *s, size_t len, int flags, void **buf, size_t *
      * slot is kept spare because utf8proc_reencode needs it. */
     utf8proc_ssize_t n;
     for (;;) {
-        size_t slots = *cap / sizeof(int32_t);
+        size_t slots = *b->work_cap / sizeof(int32_t);
         n = utf8proc_decompose((const utf8proc_uint8_t *)s, (utf8proc_ssize_t)len,
-                               *buf, slots ? (utf8proc_ssize_t)slots - 1 : 0, opt);
+                               *b->work, slots ? (utf8proc_ssize_t)slots - 1 : 0, opt);
         if (n == UTF8PROC_ERROR_INVALIDUTF8)
             return -1;
         if (n < 0)
             abort(); /* only INVALIDUTF8 can come from these options, or a length past SSIZE_MAX */
         if ((size_t)n + 1 <= slots)
             break;
-        scratch_reserve(buf, cap, xmul((size_t)n + 1, sizeof(int32_t)));
+        reserve(b->work, b->work_cap, xmul((size_t)n + 1, sizeof(int32_t)));
     }
-    int32_t *cp = *buf;
-    if (flags & N_STRIP) {
+    int32_t *cp = *b->work;
+    if (flags & (N_STRIP | N_FOLD)) {
         /* Drop a nonspacing mark when the last non-mark before it is a
-         * Latin base.  Canonical ordering has already put all marks of one
-         * base right after it. */
+         * Latin base (canonical ordering has already put all marks of one
+         * base right after it), and, when folding, the unassigned code points
+         * that Unicode reserves as default-ignorable, which utf8proc's
+         * IGNORE leaves in place. */
         int latin = 0;
         utf8proc_ssize_t w = 0;
         for (utf8proc_ssize_t r = 0; r < n; r++) {
             utf8proc_category_t k = utf8proc_category(cp[r]);
             if (is_mark_category(k)) {
-                if (latin && k == UTF8PROC_CATEGORY_MN)
+                if (latin && k == UTF8PROC_CATEGORY_MN && (flags & N_STRIP))
                     continue;
             } else {
+                if (k == UTF8PROC_CATEGORY_CN && (flags & N_FOLD) && is_reserved_ignorable(cp[r]))
+                    continue;
                 latin = is_latin_base(cp[r]);
             }
             cp[w++] = cp[r];
@@ -155,14 +167,58 @@ static long normalise(const char *s, size_t len, int flags, void **buf, size_t *
     utf8proc_ssize_t m = utf8proc_reencode(cp, n, UTF8PROC_STABLE | UTF8PROC_COMPOSE);
     if (m < 0)
         abort(); /* cannot happen: the code points came from utf8proc itself */
-    return (long)m;
+    reserve(b->out, b->out_cap, *o + (size_t)m + 1);
+    memcpy((char *)*b->out + *o, cp, (size_t)m);
+    *o += (size_t)m;
+    return 0;
+}
+
+/* Normalise s[0..len) into *b->out.  Returns the byte length of the
+ * NUL-terminated UTF-8 result, or -1 when 's' is not valid UTF-8.
+ *
+ * ASCII, by far the commonest input, takes a fast path: NFKC leaves ASCII
+ * unchanged, full case folding of ASCII is A-Z -> a-z (CaseFolding.txt), and
+ * ASCII holds no default-ignorable code point and no mark.  Only the
+ * non-ASCII stretches go through utf8proc, each together with the ASCII
+ * character just before it, which a following combining mark may compose
+ * with or (being Latin) lose.  Cutting before an ASCII character is safe:
+ * no canonical composition has an ASCII second element, ASCII is a starter
+ * (canonical combining class 0), and folding, compatibility mapping and
+ * ignorable removal act on each code point alone.  tests/test_text.c checks
+ * the result against utf8proc_map() on whole strings. */
+static long normalise(const char *s, size_t len, int flags, struct nbuf *b)
+{
+    int fold = flags & N_FOLD;
+    size_t o = 0, i = 0;
+    reserve(b->out, b->out_cap, len + 1);
+    while (i < len) {
+        size_t j = i;
+        while (j < len && !((unsigned char)s[j] & 0x80))
+            j++;
+        size_t a_end = j < len && j > i ? j - 1 : j; /* keep the base of a following mark */
+        reserve(b->out, b->out_cap, o + (a_end - i) + 1);
+        copy_ascii((char *)*b->out + o, s + i, a_end - i, fold);
+        o += a_end - i;
+        if (j == len)
+            break;
+        size_t k = j;
+        while (k < len && ((unsigned char)s[k] & 0x80))
+            k++;
+        if (normalise_stretch(s + a_end, k - a_end, flags, b, &o) < 0)
+            return -1;
+        i = k;
+    }
+    ((char *)*b->out)[o] = '\0';
+    return (long)o;
 }
 
 static char *normalise_dup(const char *s, size_t len, int flags, size_t *outlen)
 {
-    void *buf = NULL;
-    size_t cap = 0;
-    long m = normalise(s, len, flags, &buf, &cap);
+    void *buf = NULL, *work = NULL;
+    size_t cap = 0, work_cap = 0;
+    struct nbuf b = { &buf, &cap, &work, &work_cap };
+    long m = normalise(s, len, flags, &b);
+    free(work);
     if (m < 0) {
         free(buf);
         return NULL;
@@ -211,6 +267,9 @@ static int decode(const unsigned char *p, const unsigned char *e, int32_t *c)
  * MARK and U+02BC MODIFIER LETTER APOSTROPHE count as U+0027, U+2010 HYPHEN
  * and U+2011 NON-BREAKING HYPHEN as U+002D.  Everything else separates,
  * including '_' (Pc) and U+2028/U+2029 (Zl, Zp). */
+/* NEEDSWORK: scripts written without spaces (Chinese, Japanese, Thai) come
+ * out as one token per run of letters; splitting them needs a dictionary or
+ * per-character tokens, which utf8proc does not provide. */
 static enum cls classify(int32_t c)
 {
     if (c < 0x80) {
@@ -355,6 +414,7 @@ void text_tokens_release(struct text_tokens *t)
     free(t->buf);
     free(t->off);
     free(t->scratch);
+    free(t->work);
     memset(t, 0, sizeof *t);
 }
 
@@ -451,7 +511,8 @@ long text_tokenize(const char *s, size_t len, const struct text_options *o, stru
     static const struct text_options defaults = TEXT_OPTIONS_INIT;
     if (!o)
         o = &defaults;
-    long m = normalise(s, len, flags_of(o), &t->scratch, &t->scratch_cap);
+    struct nbuf b = { &t->scratch, &t->scratch_cap, &t->work, &t->work_cap };
+    long m = normalise(s, len, flags_of(o), &b);
     if (m < 0)
         return err_set(e, NULL, 0, "invalid UTF-8 at byte %ld", bad_utf8_offset(s, len));
     return split(t, t->scratch, (size_t)m, o);

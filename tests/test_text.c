@@ -8,12 +8,16 @@
  * in tests/test_text_ucd.c.
  */
 #include <criterion/criterion.h>
+#include <pthread.h>
 #include <stdarg.h>
+#include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <utf8proc.h>
 
 #include "vecsift/err.h"
+#include "vecsift/rng.h"
 #include "vecsift/text.h"
 
 /* Tokenise 's' with 'o' and compare with the NULL-terminated list of
@@ -278,4 +282,172 @@ Test(text, long_dotted_run)
     cr_assert_eq(text_tokenize(s, n + 2, NULL, &t, &e), (long)(n / 2 + 1));
     text_tokens_release(&t);
     free(s);
+}
+
+/* The stretch-wise normalisation (ASCII fast path between utf8proc calls)
+ * must equal utf8proc_map() on the whole string.  Random strings from a pool
+ * of code points that interact across stretch boundaries: ASCII bases and
+ * combining marks (composition and canonical reordering), Hangul jamo
+ * (L+V+T composition), compatibility forms, case pairs whose folding expands,
+ * ignorables.  Reference: utf8proc_map with NFKC + CASEFOLD + IGNORE for
+ * text_normalize() with marks kept, and NFKC alone for text_nfkc(). */
+Test(text, stretchwise_normalisation_matches_utf8proc_on_whole_strings)
+{
+    static const int32_t pool[] = {
+        'a', 'A', 'e', 'D', 'i', 'I', 's', 'K', ' ', '-', '\'', '1',
+        0x0301, 0x0307, 0x0323, 0x0345, 0x0308, 0x031B, 0x0334, /* marks, various classes */
+        0x00C5, 0x00E9, 0x1E0A, 0x0130, 0x00DF, 0x1E9E, 0x212B, 0x212A, /* precomposed, singletons */
+        0x1100, 0x1161, 0x11A8, 0xAC00, /* Hangul L, V, T, LV */
+        0xFB01, 0xFF21, 0x2460, 0x00BD, 0x3392, /* compatibility */
+        0x00AD, 0x200B, 0x200D, 0x034F, /* default-ignorable */
+        0x0915, 0x093F, 0x094D, 0x093C, 0x0958, /* Devanagari, nukta composition exclusion */
+        0x03A3, 0x03C2, 0x0399, 0x0390, /* Greek */
+        0x1F00, 0x1F80, 0x0CCB, 0x0CC6, 0x0CC2, 0x0CD5, /* more composition */
+    };
+    struct rng r;
+    rng_seed(&r, 20261201);
+    char s[256];
+    struct text_options keep = TEXT_OPTIONS_INIT;
+    keep.keep_accents = 1;
+    const utf8proc_option_t base = UTF8PROC_STABLE | UTF8PROC_COMPOSE | UTF8PROC_COMPAT;
+    for (int it = 0; it < 20000; it++) {
+        size_t n = 0, k = 1 + rng_below(&r, 12);
+        for (size_t j = 0; j < k; j++)
+            n += (size_t)utf8proc_encode_char(pool[rng_below(&r, sizeof pool / sizeof pool[0])],
+                                              (utf8proc_uint8_t *)s + n);
+        for (int mode = 0; mode < 2; mode++) {
+            utf8proc_uint8_t *ref = NULL;
+            utf8proc_ssize_t rn = utf8proc_map((const utf8proc_uint8_t *)s, (utf8proc_ssize_t)n, &ref,
+                                               mode ? base | UTF8PROC_CASEFOLD | UTF8PROC_IGNORE : base);
+            cr_assert_geq(rn, 0);
+            size_t gn = 0;
+            char *got = mode ? text_normalize(s, n, &keep, &gn) : text_nfkc(s, n, &gn);
+            cr_assert_not_null(got);
+            cr_assert(gn == (size_t)rn && memcmp(got, ref, gn) == 0, "iteration %d mode %d: '%.*s'", it, mode,
+                      (int)n, s);
+            free(got);
+            free(ref);
+        }
+    }
+}
+
+/* Thread safety: four threads tokenising the same mixed rows at once, each
+ * with its own text_tokens, give exactly the single-threaded tokens. */
+
+static const char *const mt_rows[] = {
+    "Caf\xC3\xA9 terminal error E42, contact anna.k@example.com",
+    "\xE0\xA4\xB9\xE0\xA4\xBF\xE0\xA4\x82\xE0\xA4\xA6\xE0\xA5\x80 keyboard missing",
+    "Reset via https://portal.example.org/r?x=1 didn\xE2\x80\x99t work",
+    "STRASSE Stra\xC3\x9F" "e \xEF\xAC\x81le wi-fi",
+};
+
+static void join_tokens(const struct text_tokens *t, char *out, size_t cap)
+{
+    size_t n = 0;
+    for (size_t i = 0; i < t->n && n + 1 < cap; i++)
+        n += (size_t)snprintf(out + n, cap - n, "%s|", text_token(t, i));
+}
+
+static void *mt_worker(void *arg)
+{
+    const char *const *want = arg;
+    struct text_tokens t = TEXT_TOKENS_INIT;
+    struct err e = ERR_INIT;
+    char got[512];
+    long bad = 0;
+    for (int it = 0; it < 2000; it++) {
+        size_t k = (size_t)it % 4;
+        text_tokens_clear(&t);
+        if (text_tokenize(mt_rows[k], strlen(mt_rows[k]), NULL, &t, &e) < 0)
+            bad++;
+        join_tokens(&t, got, sizeof got);
+        bad += strcmp(got, want[k]) != 0;
+    }
+    text_tokens_release(&t);
+    return (void *)(intptr_t)bad;
+}
+
+Test(text, concurrent_tokenising_matches_serial)
+{
+    static char want[4][512];
+    static const char *wantp[4];
+    for (int k = 0; k < 4; k++) {
+        struct text_tokens t = TEXT_TOKENS_INIT;
+        struct err e = ERR_INIT;
+        cr_assert_gt(text_tokenize(mt_rows[k], strlen(mt_rows[k]), NULL, &t, &e), 0);
+        join_tokens(&t, want[k], sizeof want[k]);
+        wantp[k] = want[k];
+        text_tokens_release(&t);
+    }
+    cr_assert_str_eq(want[1], "\xE0\xA4\xB9\xE0\xA4\xBF\xE0\xA4\x82\xE0\xA4\xA6\xE0\xA5\x80|keyboard|missing|");
+    pthread_t th[4];
+    for (int i = 0; i < 4; i++)
+        cr_assert_eq(pthread_create(&th[i], NULL, mt_worker, wantp), 0);
+    for (int i = 0; i < 4; i++) {
+        void *r;
+        pthread_join(th[i], &r);
+        cr_assert_eq((intptr_t)r, 0, "thread %d: %ld mismatches", i, (long)(intptr_t)r);
+    }
+}
+
+/* 1 when s is entirely valid UTF-8. */
+static int all_valid_utf8(const char *s)
+{
+    size_t len = strlen(s), i = 0;
+    while (i < len) {
+        int32_t c;
+        utf8proc_ssize_t k = utf8proc_iterate((const utf8proc_uint8_t *)s + i, (utf8proc_ssize_t)(len - i), &c);
+        if (k < 0)
+            return 0;
+        i += (size_t)k;
+    }
+    return 1;
+}
+
+/* Random bytes (mostly ASCII with UTF-8 lead and continuation bytes mixed
+ * in): no crash, -1 exactly when the text is invalid, the reported offset is
+ * the length of the longest valid prefix (RFC 3629: a decoder stops at the
+ * first ill-formed sequence), and every token is non-empty valid UTF-8. */
+Test(text, random_bytes_are_handled)
+{
+    static const unsigned char bytes[] = { 'a', 'Z', ' ', '@', '.', '-', '\'', '_', '1', 0x00, 0x80, 0xBF, 0xC3,
+                                           0xA9, 0xE2, 0x80, 0x99, 0xED, 0xF0, 0x9F, 0xF4, 0x90, 0xFF, 0xC0 };
+    struct rng r;
+    rng_seed(&r, 7);
+    struct text_tokens t = TEXT_TOKENS_INIT;
+    char s[64];
+    long invalid = 0;
+    for (int it = 0; it < 50000; it++) {
+        size_t n = rng_below(&r, sizeof s);
+        for (size_t j = 0; j < n; j++)
+            s[j] = (char)bytes[rng_below(&r, sizeof bytes)];
+        /* longest valid prefix, by utf8proc_iterate called directly */
+        size_t ok = 0;
+        while (ok < n) {
+            int32_t c;
+            utf8proc_ssize_t k = utf8proc_iterate((const utf8proc_uint8_t *)s + ok, (utf8proc_ssize_t)(n - ok), &c);
+            if (k < 0)
+                break;
+            ok += (size_t)k;
+        }
+        struct err e = ERR_INIT;
+        text_tokens_clear(&t);
+        long got = text_tokenize(s, n, &dflt, &t, &e);
+        if (ok < n) {
+            char want[64];
+            snprintf(want, sizeof want, "invalid UTF-8 at byte %zu", ok);
+            cr_assert_eq(got, -1);
+            cr_assert_str_eq(e.msg, want);
+            invalid++;
+        } else {
+            cr_assert_geq(got, 0);
+            for (size_t i = 0; i < t.n; i++) {
+                const char *tok = text_token(&t, i);
+                cr_assert_gt(strlen(tok), 0);
+                cr_assert_eq(all_valid_utf8(tok), 1);
+            }
+        }
+    }
+    cr_assert_gt(invalid, 1000);
+    text_tokens_release(&t);
 }
