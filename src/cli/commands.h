@@ -20,5 +20,6 @@ VECSIFT_COMMAND(features);
 VECSIFT_COMMAND(predict);
 VECSIFT_COMMAND(train);
 VECSIFT_COMMAND(vectors);
+VECSIFT_COMMAND(vectors_learn);
 
 #endif
