@@ -99,6 +99,24 @@ expect_status 2; expect_err 'in\.txt: not a packed vector store'
 run "$V" vectors export "$D/in.txt" -o "$D/x.txt"
 expect_status 2; expect_no_file "$D/x.txt"
 
+# ---- coverage: a worked example, counted by hand ----
+# row 1 "Printer jam" + "the printer needs toner": printer jam the printer needs toner
+# row 2 "Refund please" + "refund the invoice, printer broken":
+#       refund please refund the invoice printer broken
+# 13 tokens, 7 with a vector (printer x3, toner, refund x2, invoice): 53.8%
+# 9 distinct, 4 with a vector: 44.4%; missing: the (2), then jam, needs,
+# please, broken (1 each, in order of first appearance)
+printf 'id,subject,body\r\n1,Printer jam,the printer needs toner\r\n2,Refund please,"refund the invoice, printer broken"\r\n' >"$D/inbox.csv"
+run "$V" vectors coverage "$D/a.vecs" "$D/inbox.csv" --text-col subject --text-col body -k 3
+expect_status 0
+expect_out '^tokens +13  with a vector +7  \(53\.8%\)$'
+expect_out '^distinct tokens +9  with a vector +4  \(44\.4%\)$'
+if [ "$(sed -n '/^ *count  token$/,$p' "$D/out" | tail -n +2 | awk '{print $1 ":" $2}' | tr '\n' ' ')" = "2:the 1:jam 1:needs " ]; then ok; else bad "missing-token list: $(cat "$D/out")"; fi
+run "$V" vectors coverage "$D/a.vecs" "$D/inbox.csv" --text-col message
+expect_status 2; expect_err "inbox\.csv:1: no column 'message'"
+run "$V" vectors coverage "$D/short.vecs" "$D/inbox.csv" --text-col body
+expect_status 2; expect_err 'short\.vecs: truncated'
+
 # ---- usage ----
 run "$V" vectors
 expect_status 2
