@@ -38,6 +38,13 @@ expect_status 0; expect_err_lines 0
 run "$V" vectors info "$D/b.vecs"
 expect_out "^fingerprint +$fp$"
 
+# a UTF-8 byte-order mark before the header line is skipped
+printf '\xef\xbb\xbf' | cat - "$D/in.txt" >"$D/bom.txt"
+run "$V" vectors pack "$D/bom.txt" -o "$D/bom.vecs" --quiet
+expect_status 0
+run "$V" vectors info "$D/bom.vecs"
+expect_out "^fingerprint +$fp$"
+
 # standard input and standard output
 run_in "$D/in.txt" "$V" vectors pack - -o "$D/c.vecs" --threads 1
 expect_status 0
