@@ -8,23 +8,44 @@
 
 #include <cjson/cJSON.h>
 #include <criterion/criterion.h>
+#include <dirent.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "vecsift/err.h"
 #include "vecsift/jsonv.h"
 #include "vecsift/vecset.h"
 #include "vecsift/vocab.h"
 
-/* A fresh directory under /tmp; Criterion runs each test in its own
- * process, so one static buffer is enough. */
+static char fx_dir[64];
+
+/* Remove fx_dir and the files in it (the tests make no subdirectories). */
+static inline void fx_cleanup(void)
+{
+    DIR *d = opendir(fx_dir);
+    if (!d)
+        return;
+    char path[512];
+    for (struct dirent *de; (de = readdir(d));) {
+        if (strcmp(de->d_name, ".") == 0 || strcmp(de->d_name, "..") == 0)
+            continue;
+        snprintf(path, sizeof path, "%s/%s", fx_dir, de->d_name);
+        unlink(path);
+    }
+    closedir(d);
+    rmdir(fx_dir);
+}
+
+/* A fresh directory under /tmp, removed when the test process exits;
+ * Criterion runs each test in its own process, so one is enough. */
 static inline const char *fx_tmpdir(void)
 {
-    static char dir[64];
-    strcpy(dir, "/tmp/vecsift-test-XXXXXX");
-    cr_assert_not_null(mkdtemp(dir));
-    return dir;
+    strcpy(fx_dir, "/tmp/vecsift-test-XXXXXX");
+    cr_assert_not_null(mkdtemp(fx_dir));
+    atexit(fx_cleanup);
+    return fx_dir;
 }
 
 /* dir/name holding n words with rows (n x dim), opened. */
