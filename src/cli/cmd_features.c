@@ -134,8 +134,10 @@ int cmd_features(int argc, char **argv)
     } else {
         if (fit_args_open_vectors(&fa, &vs, &e) < 0)
             goto fail;
-        if (!(own = features_fit(&fa.spec.feat, &c.docs, rows, c.ds.n, vs, &e)))
+        if (!(own = features_fit(&fa.spec.feat, &c.docs, rows, c.ds.n, vs, &e))) {
+            err_name_file(&e, data);
             goto fail;
+        }
         f = own;
     }
     struct features_stats st = { 0, 0, 0 };
