@@ -194,4 +194,20 @@ expect_status 0
 run "$VECSIFT" predict "$D/svm.json" "$NEW" --explain 2 -o "$D/x.csv"
 expect_status 2; expect_err "needs a logreg model"; expect_clean "$D/x.csv"
 
+# SVM probabilities too are independent of --threads
+run "$VECSIFT" predict "$D/svm.json" "$NEW" -o "$D/s1.csv" --threads 1 -q; expect_status 0
+run "$VECSIFT" predict "$D/svm.json" "$NEW" -o "$D/s2.csv" --threads 2 -q; expect_status 0
+if cmp -s "$D/s1.csv" "$D/s2.csv"; then ok; else bad "svm: --threads 1 and 2 differ"; fi
+
+# a row without text, or without a single word that has a vector, goes to
+# review whatever the cut-off (its features are the zero vector)
+printf 'subject,body
+,
+zzzq,qqqz
+parcel,my parcel is late
+' >"$D/blank.csv"
+run "$VECSIFT" predict "$D/m.json" "$D/blank.csv" --review-below 0 -o "$D/b.csv"
+expect_status 0; expect_err "3 rows: 1 routed automatically, 2 to review"
+run grep -c ',review' "$D/b.csv"; expect_out '^2$'
+
 finish
