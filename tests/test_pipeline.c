@@ -15,6 +15,7 @@ static const char *const TEXTS[] = { "cat sat sat", "sat cat cat owl", "ran dog"
                                      "ran ran sat", "hen fox",         "dog owl cat" };
 static const int Y[] = { 0, 0, 1, 1, 2, 2, 2, 0, 1, 2, 1 };
 enum { N = 11, K = 3 };
+static const size_t ALL[N] = { 0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10 };
 
 static pipeline *fit(enum features_pool pool, enum pipeline_classifier clf, const struct tokdocs *d,
                      const size_t *rows, size_t n, const vecset *vs)
@@ -61,9 +62,7 @@ static void check_explanation_adds_up(enum features_pool pool)
     vecset *vs = fx_vectors(fx_tmpdir(), "v.vecs", WORDS, VECS, 6, 3);
     struct tokdocs d;
     fx_docs(&d, TEXTS, N);
-    size_t rows[N];
-    for (size_t i = 0; i < N; i++)
-        rows[i] = i;
+    const size_t *rows = ALL;
     pipeline *p = fit(pool, CLF_LOGREG, &d, rows, 8, vs);
     const featurizer *f = pipeline_featurizer(p);
     size_t D = features_dim(f);
@@ -122,9 +121,7 @@ Test(pipeline, svm_has_no_word_explanation)
 {
     struct tokdocs d;
     fx_docs(&d, TEXTS, N);
-    size_t rows[N];
-    for (size_t i = 0; i < N; i++)
-        rows[i] = i;
+    const size_t *rows = ALL;
     pipeline *p = fit(POOL_BOW, CLF_SVM_LINEAR, &d, rows, N, NULL);
     const char *toks[] = { "cat", "sat" }, *words[4];
     double prob[K] = { 0.2, 0.3, 0.5 }, push[4];
@@ -144,9 +141,7 @@ Test(pipeline, held_out_rows_do_not_leak_into_the_fit)
     struct tokdocs a, b;
     fx_docs(&a, TEXTS, N);
     fx_docs(&b, OTHER, N);
-    size_t rows[N];
-    for (size_t i = 0; i < N; i++)
-        rows[i] = i;
+    const size_t *rows = ALL;
     for (int pool = POOL_MEAN; pool <= POOL_BOW; pool++) {
         pipeline *pa = fit((enum features_pool)pool, CLF_LOGREG, &a, rows, 8, vs);
         pipeline *pb = fit((enum features_pool)pool, CLF_LOGREG, &b, rows, 8, vs);
@@ -173,9 +168,7 @@ Test(pipeline, save_and_load_give_identical_probabilities)
     vecset *vs = fx_vectors(fx_tmpdir(), "v.vecs", WORDS, VECS, 6, 3);
     struct tokdocs d;
     fx_docs(&d, TEXTS, N);
-    size_t rows[N];
-    for (size_t i = 0; i < N; i++)
-        rows[i] = i;
+    const size_t *rows = ALL;
     static const struct {
         enum features_pool pool;
         enum pipeline_classifier clf;
@@ -207,9 +200,7 @@ Test(pipeline, classifier_kind_must_match_the_kernel)
 {
     struct tokdocs d;
     fx_docs(&d, TEXTS, N);
-    size_t rows[N];
-    for (size_t i = 0; i < N; i++)
-        rows[i] = i;
+    const size_t *rows = ALL;
     pipeline *p = fit(POOL_BOW, CLF_SVM_RBF, &d, rows, N, NULL);
     cJSON *obj = cJSON_CreateObject();
     pipeline_save(p, obj);
@@ -228,9 +219,7 @@ Test(pipeline, fit_errors)
 {
     struct tokdocs d;
     fx_docs(&d, TEXTS, N);
-    size_t rows[N];
-    for (size_t i = 0; i < N; i++)
-        rows[i] = i;
+    const size_t *rows = ALL;
     struct pipeline_spec s = PIPELINE_SPEC_INIT;
     struct err e = ERR_INIT;
     s.C = 0;

@@ -29,7 +29,6 @@ Ends with "N passed, N failed"; exits non-zero on failure.
 import csv
 import json
 import os
-import subprocess
 import sys
 import tempfile
 
@@ -43,41 +42,14 @@ from scipy.optimize import minimize
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 import sotu_passages  # noqa: E402
+from vs_common import SRC, VECSIFT, Tally, read_features, run, tool  # noqa: E402
 
-VECSIFT = os.environ.get("VECSIFT", "build/vecsift")
-BUILD = os.environ.get("BUILDDIR", "build")
-SRC = os.environ.get("SRCDIR", ".")
-passed = failed = 0
+T = Tally()
 worst = {}
-
-
-def check(name, ok, detail):
-    global passed, failed
-    if ok:
-        passed += 1
-        print(f"ok   {name}: {detail}")
-    else:
-        failed += 1
-        print(f"FAIL {name}: {detail}")
 
 
 def note(kind, d):
     worst[kind] = max(worst.get(kind, 0.0), d)
-
-
-def run(*args):
-    return subprocess.run(list(args), check=True, capture_output=True, text=True).stdout
-
-
-def read_features(path):
-    with open(path, newline="", encoding="utf-8") as fp:
-        r = csv.reader(fp)
-        next(r)
-        labels, rows = [], []
-        for row in r:
-            labels.append(row[1])
-            rows.append([float(x) for x in row[2:]])
-    return labels, np.array(rows)
 
 
 def objective(W, b, X, y, C):
@@ -121,40 +93,40 @@ def logreg_case(tag, data, tmp, C, fit_args):
     common = ["--text-col", "text", "--label-col", "era", *fit_args]
     run(VECSIFT, "features", data, *common, "-q", "-o", feats)
     run(VECSIFT, "train", data, *common, "--C", repr(C), "--max-iter", "100000", "-q", "-o", model)
-    labs, X = read_features(feats)
+    _, labs, X = read_features(feats)
     m = json.load(open(model))
     labels = m["labels"]
     y = np.array([labels.index(s) for s in labs])
     K, D = len(labels), X.shape[1]
     W = np.array(m["pipeline"]["classifier"]["W"]).reshape(K, D)
     b = np.array(m["pipeline"]["classifier"]["b"])
-    got = json.loads(run(os.path.join(BUILD, "tests", "model_proba"), model, data))
+    got = json.loads(run(tool("model_proba"), model, data))
     P = np.array(got["proba"])
     Xs = sp.csr_matrix(X) if "bow" in fit_args else X
     ref = LogisticRegression(C=C, solver="lbfgs", multi_class="multinomial", tol=1e-10, max_iter=100000)
     ref.fit(Xs, y)
-    check(f"{tag}: sklearn classes are our sorted labels", list(ref.classes_) == list(range(K)),
+    T.check(f"{tag}: sklearn classes are our sorted labels", list(ref.classes_) == list(range(K)),
           f"{labels}")
     Q = ref.predict_proba(Xs)
     d = float(np.max(np.abs(P - Q)))
     note("logreg max abs prob diff", d)
-    check(f"{tag}: probabilities vs LogisticRegression", d <= 1e-4,
+    T.check(f"{tag}: probabilities vs LogisticRegression", d <= 1e-4,
           f"max abs diff {d:.3g} over {P.shape[0]}x{K} (tol 1e-4)")
     W3, b3 = polish(ref.coef_, ref.intercept_, X, y, C)
-    T = softmax_rows(W3, b3, X)
-    dt, ds = float(np.max(np.abs(P - T))), float(np.max(np.abs(Q - T)))
-    check(f"{tag}: probabilities vs the optimum polished with scipy", dt <= 1e-4,
+    R = softmax_rows(W3, b3, X)
+    dt, ds = float(np.max(np.abs(P - R))), float(np.max(np.abs(Q - R)))
+    T.check(f"{tag}: probabilities vs the optimum polished with scipy", dt <= 1e-4,
           f"ours {dt:.3g}, LogisticRegression {ds:.3g} away (tol 1e-4)")
     # our probabilities are softmax(W x + b) on the exported features
     S = softmax_rows(W, b, X)
     d2 = float(np.max(np.abs(P - S)))
-    check(f"{tag}: model file's W, b on the exported features give the tool's probabilities", d2 <= 1e-12,
+    T.check(f"{tag}: model file's W, b on the exported features give the tool's probabilities", d2 <= 1e-12,
           f"max abs diff {d2:.3g} (tol 1e-12)")
     jo = objective(W, b, X, y, C)
     js = objective(ref.coef_, ref.intercept_, X, y, C)
     rel = abs(jo - js) / abs(js)
     note("logreg objective rel diff", rel)
-    check(f"{tag}: objective vs LogisticRegression", rel <= 1e-6,
+    T.check(f"{tag}: objective vs LogisticRegression", rel <= 1e-6,
           f"ours {jo:.10g}, sklearn {js:.10g}, relative diff {rel:.3g} (tol 1e-6)")
     # vecsift predict prints 4 decimals: within half a unit of the last place
     out = os.path.join(tmp, tag + "_pred.csv")
@@ -167,15 +139,14 @@ def logreg_case(tag, data, tmp, C, fit_args):
         confs = [r["confidence"]] + [r[f"confidence_{t}"] for t in range(2, K + 1)]
         for nm, cf in zip(names, confs):
             dp = max(dp, abs(float(cf) - P[i, labels.index(nm)]))
-    check(f"{tag}: vecsift predict's printed probabilities", dp <= 5e-5 + 1e-12,
+    T.check(f"{tag}: vecsift predict's printed probabilities", dp <= 5e-5 + 1e-12,
           f"max abs diff {dp:.3g} (4 decimals: tol 5e-5)")
     return feats
 
 
 def svm_case(tag, feats, kernel, C, gamma, subset=None):
-    tool = os.path.join(BUILD, "tests", "svm_decision")
     path = feats
-    labs, X = read_features(feats)
+    _, labs, X = read_features(feats)
     if subset is not None:
         keep = [i for i, s in enumerate(labs) if s in subset]
         path = feats + ".sub.csv"
@@ -187,7 +158,7 @@ def svm_case(tag, feats, kernel, C, gamma, subset=None):
                 w.writerow(rows[1 + i])
         labs = [labs[i] for i in keep]
         X = X[keep]
-    got = json.loads(run(tool, path, kernel, repr(C), repr(gamma)))
+    got = json.loads(run(tool("svm_decision"), path, kernel, repr(C), repr(gamma)))
     labels = got["labels"]
     y = np.array([labels.index(s) for s in labs])
     K = len(labels)
@@ -200,13 +171,13 @@ def svm_case(tag, feats, kernel, C, gamma, subset=None):
         theirs = -theirs.reshape(-1, 1)   # sklearn: positive means classes_[1]
     name = f"{tag} {kernel} C={C} gamma={'scale' if gamma <= 0 else gamma} K={K}"
     if kernel == "rbf":
-        check(f"{name}: gamma used", abs(got["gamma"] - ref._gamma) <= 1e-12 * ref._gamma,
+        T.check(f"{name}: gamma used", abs(got["gamma"] - ref._gamma) <= 1e-12 * ref._gamma,
               f"ours {got['gamma']:.12g}, sklearn {ref._gamma:.12g}")
-    check(f"{name}: support vectors", got["support_vectors"] == int(ref.n_support_.sum()),
+    T.check(f"{name}: support vectors", got["support_vectors"] == int(ref.n_support_.sum()),
           f"ours {got['support_vectors']}, sklearn {int(ref.n_support_.sum())}")
     d = float(np.max(np.abs(dec - theirs)))
     note("svm max abs decision diff", d)
-    check(f"{name}: one-vs-one decision values", d <= 1e-6, f"max abs diff {d:.3g} (tol 1e-6)")
+    T.check(f"{name}: one-vs-one decision values", d <= 1e-6, f"max abs diff {d:.3g} (tol 1e-6)")
     # the label the one-vs-one votes pick (libsvm: ties to the lower index)
     votes = np.zeros((len(y), K), dtype=int)
     q = 0
@@ -217,7 +188,7 @@ def svm_case(tag, feats, kernel, C, gamma, subset=None):
             q += 1
     ours = votes.argmax(axis=1)
     same = int(np.sum(ours == ref.predict(X)))
-    check(f"{name}: voted labels equal SVC.predict", same == len(y), f"{same}/{len(y)} equal")
+    T.check(f"{name}: voted labels equal SVC.predict", same == len(y), f"{same}/{len(y)} equal")
     P = np.array([r["proba"] for r in got["rows"]])
     print(f"     (svmfit_proba's argmax agrees with the vote on {int(np.sum(P.argmax(1) == ours))}/{len(y)}"
           f" rows; libsvm's Platt probabilities are not compared: sklearn seeds its own generator)")
@@ -230,7 +201,7 @@ def main():
         data = os.path.join(tmp, "sotu.csv")
         rows = sotu_passages.write_csv(data, 75, 40, seed=7, srcdir=SRC)
         print(f"sotu: {rows} passages of 40 words, 4 eras")
-        toks = run(os.path.join(BUILD, "tests", "tokens_dump"), data, "text").split()
+        toks = run(tool("tokens_dump"), data, "text").split()
         words = sorted(set(toks))
         rng = np.random.default_rng(5)
         E = 24
@@ -254,8 +225,7 @@ def main():
         svm_case("svm", pooled, "rbf", 1.0, 0, subset={"era1790", "era1981"})
     for k, v in worst.items():
         print(f"largest {k}: {v:.3g}")
-    print(f"{passed} passed, {failed} failed")
-    return 1 if failed else 0
+    return T.finish()
 
 
 if __name__ == "__main__":

@@ -21,9 +21,7 @@ by tests/tools/tokens_dump, so the reference sees exactly what we tokenised.
    within 1e-9 (sif: 1e-7, power iteration against a full SVD).
 Ends with "N passed, N failed"; exits non-zero on failure.
 """
-import csv
 import os
-import subprocess
 import sys
 import tempfile
 
@@ -34,42 +32,14 @@ from sklearn.preprocessing import StandardScaler
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 import sotu_passages  # noqa: E402
+from vs_common import SRC, VECSIFT, Tally, identity, read_features, run, tool  # noqa: E402
 
-VECSIFT = os.environ.get("VECSIFT", "build/vecsift")
-BUILD = os.environ.get("BUILDDIR", "build")
-SRC = os.environ.get("SRCDIR", ".")
-passed = failed = 0
-
-
-def check(name, ok, detail):
-    global passed, failed
-    if ok:
-        passed += 1
-        print(f"ok   {name}: {detail}")
-    else:
-        failed += 1
-        print(f"FAIL {name}: {detail}")
-
-
-def run(*args):
-    return subprocess.run(list(args), check=True, capture_output=True, text=True).stdout
-
-
-def read_features(path):
-    with open(path, newline="", encoding="utf-8") as fp:
-        r = csv.reader(fp)
-        head = next(r)
-        rows = [[float(x) for x in row[2:]] for row in r]
-    return head[2:], np.array(rows)
+T = Tally()
 
 
 def tokens_of(data, cols):
-    out = run(os.path.join(BUILD, "tests", "tokens_dump"), data, *cols)
+    out = run(tool("tokens_dump"), data, *cols)
     return [line.split("\t") if line else [] for line in out.split("\n")[:-1]]
-
-
-def identity(x):
-    return x
 
 
 def check_bow(tag, data, cols, tmp):
@@ -79,19 +49,19 @@ def check_bow(tag, data, cols, tmp):
         out = os.path.join(tmp, "bow.csv")
         run(VECSIFT, "features", data, *textargs, "--label-col", "era" if "sotu" in tag else "queue",
             "--pool", "bow", "--term-names", "-q", "-o", out, *(["--sublinear-tf"] if sub else []))
-        terms, ours = read_features(out)
+        terms, _, ours = read_features(out)
         ref = TfidfVectorizer(tokenizer=identity, preprocessor=identity, token_pattern=None, lowercase=False,
                               smooth_idf=True, ngram_range=(1, 2), norm="l2", sublinear_tf=sub)
         M = ref.fit_transform(toks).toarray()
         vocab = ref.vocabulary_
         same_terms = sorted(terms) == sorted(vocab) and len(terms) == len(set(terms))
-        check(f"{tag} bow sublinear_tf={sub}: same {len(terms)} terms as TfidfVectorizer", same_terms,
+        T.check(f"{tag} bow sublinear_tf={sub}: same {len(terms)} terms as TfidfVectorizer", same_terms,
               f"ours {len(terms)}, sklearn {len(vocab)}")
         if not same_terms:
             continue
         theirs = M[:, [vocab[t] for t in terms]]
         d = float(np.max(np.abs(ours - theirs)))
-        check(f"{tag} bow sublinear_tf={sub}: tf-idf weights", d <= 1e-9,
+        T.check(f"{tag} bow sublinear_tf={sub}: tf-idf weights", d <= 1e-9,
               f"max abs diff {d:.3g} over {ours.shape[0]}x{ours.shape[1]} (tol 1e-9)")
 
 
@@ -145,17 +115,17 @@ def check_pooled(tag, data, cols, tmp):
         out = os.path.join(tmp, pool + ".csv")
         run(VECSIFT, "features", data, *textargs, "--label-col", "era" if "sotu" in tag else "queue",
             "--vectors", vecs, "--pool", pool, "--no-scale", "-q", "-o", out)
-        _, ours = read_features(out)
+        _, _, ours = read_features(out)
         d = float(np.max(np.abs(ours - want[pool])))
         tol = 1e-7 if pool == "sif" else 1e-9
-        check(f"{tag} pool {pool} (unscaled) vs numpy", d <= tol, f"max abs diff {d:.3g} (tol {tol:g})")
+        T.check(f"{tag} pool {pool} (unscaled) vs numpy", d <= tol, f"max abs diff {d:.3g} (tol {tol:g})")
     out = os.path.join(tmp, "scaled.csv")
     run(VECSIFT, "features", data, *textargs, "--label-col", "era" if "sotu" in tag else "queue",
         "--vectors", vecs, "--pool", "tfidf", "-q", "-o", out)
-    _, ours = read_features(out)
+    _, _, ours = read_features(out)
     ref = StandardScaler().fit_transform(want["tfidf"])
     d = float(np.max(np.abs(ours - ref)))
-    check(f"{tag} pool tfidf scaled vs StandardScaler", d <= 1e-9, f"max abs diff {d:.3g} (tol 1e-9)")
+    T.check(f"{tag} pool tfidf scaled vs StandardScaler", d <= 1e-9, f"max abs diff {d:.3g} (tol 1e-9)")
 
 
 def main():
@@ -170,8 +140,7 @@ def main():
         check_bow("inbox", inbox, ["subject", "body"], tmp)
         check_pooled("sotu", sotu, ["text"], tmp)
         check_pooled("inbox", inbox, ["subject", "body"], tmp)
-    print(f"{passed} passed, {failed} failed")
-    return 1 if failed else 0
+    return T.finish()
 
 
 if __name__ == "__main__":
