@@ -43,6 +43,17 @@ expect_status 0; expect_file "$D/m.json"
 run "$VECSIFT" train "$IN" "${TXT[@]}" --pool bow -o "$D/bow.json" -q
 expect_status 0; expect_file "$D/bow.json"
 
+# features --model applies the model's featurizer to new, unlabelled rows
+run "$VECSIFT" features "$NEW" --model "$D/m.json" -o "$D/fnew.csv" -q
+expect_status 0; expect_file "$D/fnew.csv"
+run head -c 40 "$D/fnew.csv"; expect_out '^row,x1,x2,'
+run "$VECSIFT" features "$NEW" --model "$D/m.json" --label-col queue -o "$D/x.csv"
+expect_status 2; expect_err "^vecsift: $NEW:1: no column 'queue'"; expect_clean "$D/x.csv"
+# and gives the training rows the numbers the model was fitted on
+run "$VECSIFT" features "$IN" --model "$D/m.json" -o "$D/fm.csv" -q; expect_status 0
+run "$VECSIFT" features "$IN" "${TXT[@]}" --vectors "$D/v.vecs" --pool tfidf -o "$D/ff.csv" -q; expect_status 0
+if cmp -s "$D/fm.csv" "$D/ff.csv"; then ok; else bad "features --model differs from a fresh fit on the same rows"; fi
+
 # ---- bad training input ----
 run "$VECSIFT" train "$IN" --text-col subject --label-col nope --pool bow -o "$D/x.json"
 expect_status 2; expect_err_lines 2; expect_err "^vecsift: $IN:1: no column 'nope'"; expect_clean "$D/x.json"
