@@ -184,6 +184,12 @@ int cmd_train(int argc, char **argv)
         goto fail;
     if (c.ds.replaced)
         cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", data, c.ds.replaced);
+    if (c.empty_docs == c.ds.n) {
+        err_set(&e, data, 0, "no row has a word in the text column%s ('%s'%s)", dopt.ntext > 1 ? "s" : "",
+                dopt.text_cols[0], dopt.ntext > 1 ? ", ..." : "");
+        err_hint(&e, "check --text-col: is the text in another column?");
+        goto fail;
+    }
     if (c.empty_docs)
         cli_warn("%s: %zu rows have no words in the text columns", data, c.empty_docs);
 
@@ -192,8 +198,10 @@ int cmd_train(int argc, char **argv)
         rows[r] = r;
     struct pipeline_fit_info info;
     m.pipe = pipeline_fit(&fa.spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
-    if (!m.pipe)
+    if (!m.pipe) {
+        err_name_file(&e, data);
         goto fail;
+    }
     if (!info.converged)
         cli_warn("logistic regression stopped at the iteration cap (%d) before reaching its tolerance; "
                  "raise --max-iter or lower --C", info.iters);
