@@ -148,9 +148,9 @@ int cmd_evaluate(int argc, char **argv)
         fflush(stdout);
         size_t conflicting, dup = evalout_duplicates(&c, &conflicting);
         if (dup)
-            cli_note("%zu rows repeat another row word for word after normalisation (%zu of them with another "
+            cli_note("%zu %s another row word for word after normalisation (%zu of them with another "
                      "label); duplicates split across folds flatter the scores: remove them or use --group-col",
-                     dup, conflicting);
+                     dup, dup == 1 ? "row repeats" : "rows repeat", conflicting);
         if (c.empty_docs)
             cli_warn("%s: %zu rows have no words in the text columns", data, c.empty_docs);
     }
