@@ -6,6 +6,7 @@
 
 #include "commands.h"
 #include "common.h"
+#include "vecsift/cv.h"
 #include "vecsift/err.h"
 #include "vecsift/model.h"
 #include "vecsift/ofile.h"
@@ -18,6 +19,7 @@ static const struct cli_opt opts[] = {
     PIPELINE_OPTIONS,
     DATA_OPTIONS,
     { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict (default: none)" },
+    { "search", 0, NULL, "choose C (and gamma) by 3-fold cross-validation on all rows, as evaluate --search does" },
     RUN_OPTIONS,
     { NULL, 0, NULL, NULL }
 };
@@ -62,6 +64,7 @@ int cmd_train(int argc, char **argv)
     fit_args_init(&fa);
     const char *out = NULL;
     double review = -1;
+    int search = 0;
     struct cli_parser p;
     cli_parser_init(&p, cmd, argc, argv);
     int rc = ERR_OK, i;
@@ -79,6 +82,8 @@ int cmd_train(int argc, char **argv)
             continue;
         if (strcmp(name, "output") == 0)
             out = val;
+        else if (strcmp(name, "search") == 0)
+            search = 1;
         else if (strcmp(name, "review-below") == 0 && cli_double(cmd, name, val, 0, 1, &review) < 0) {
             cli_parser_release(&p);
             return ERR_INPUT;
@@ -122,6 +127,19 @@ int cmd_train(int argc, char **argv)
     rows = xcalloc(c.ds.n, sizeof *rows);
     for (size_t r = 0; r < c.ds.n; r++)
         rows[r] = r;
+    if (search) {
+        /* The grid and inner folds of evaluate --search, on every row. */
+        struct pipeline_spec best;
+        if (cv_search(&fa.spec, &c, vs, rows, c.ds.n, 3, da.seed, &best, &e) < 0)
+            goto fail;
+        fa.spec = best;
+        if (!cli_quiet) {
+            fprintf(stderr, "parameter search (3-fold, macro F1) chose C = %g", best.C);
+            if (best.clf == CLF_SVM_RBF)
+                fprintf(stderr, ", gamma = %g x the default", best.gamma < 0 ? -best.gamma : 1.0);
+            fputc('\n', stderr);
+        }
+    }
     struct pipeline_fit_info info;
     m.pipe = pipeline_fit(&fa.spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
     if (!m.pipe)

@@ -179,6 +179,12 @@ void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *
         for (size_t t = 0; t < T; t++)
             fprintf(fp, " %g", r->chosen_C[t]);
         fprintf(fp, " (one per fold)\n");
+        if (r->chosen_gamma) {
+            fprintf(fp, "and gamma =");
+            for (size_t t = 0; t < T; t++)
+                fprintf(fp, " %g", r->chosen_gamma[t]);
+            fprintf(fp, " x the default (one per fold)\n");
+        }
     }
     struct eval_cut cut;
     evalout_cut(r, s->target, &cut);

@@ -99,4 +99,41 @@ else
   bad "chromium not installed (tools/install-deps)"
 fi
 
+# train --search: the same grid and inner folds (3) as evaluate --search, on
+# all rows with --seed.  Its choice must be the grid value with the best
+# pooled macro F1 of `evaluate --folds 3 --repeats 1` with that C and seed
+# (the same folds: both draw one repeat of stratified folds from the seed),
+# the first one on ties; and the model must store it.
+run "$VECSIFT" train "$D" "${COLS[@]}" --pool bow --search --seed 5 -o "$T_DIR/ms.json"
+expect_status 0
+expect_err '^parameter search \(3-fold, macro F1\) chose C = '
+chosen=$(sed -n 's/^parameter search (3-fold, macro F1) chose C = //p' "$T_DIR/err")
+stored=$(/usr/bin/python3 -c 'import json,sys; print("%g" % json.load(open(sys.argv[1]))["pipeline"]["classifier"]["C"])' "$T_DIR/ms.json")
+if [ "$chosen" = "$stored" ]; then ok; else bad "printed C $chosen, model holds $stored"; fi
+best=; best_f=-1
+for C in 0.01 0.1 1 10 100; do
+  "$VECSIFT" evaluate "$D" "${COLS[@]}" --pool bow --folds 3 --repeats 1 --seed 5 --C $C --quiet \
+    --json "$T_DIR/g.json" >/dev/null
+  f=$(/usr/bin/python3 -c 'import json,sys; print(repr(json.load(open(sys.argv[1]))["pooled"]["macro_f1"]))' "$T_DIR/g.json")
+  if /usr/bin/python3 -c 'import sys; sys.exit(0 if float(sys.argv[1]) > float(sys.argv[2]) + 1e-12 else 1)' "$f" "$best_f"; then
+    best=$C; best_f=$f
+  fi
+done
+if [ "$(/usr/bin/python3 -c "print('%g' % $best)")" = "$chosen" ]; then ok; else bad "search chose $chosen, grid best is $best"; fi
+# svm-rbf searches gamma too and says what it chose (on the first 120 rows,
+# to keep the 15-point grid quick).
+/usr/bin/python3 - "$D" "$T_DIR/small.csv" <<'PY'
+import csv, sys
+rows = list(csv.reader(open(sys.argv[1], newline="", encoding="utf-8")))
+csv.writer(open(sys.argv[2], "w", newline="", encoding="utf-8")).writerows(rows[:121])
+PY
+run "$VECSIFT" train "$T_DIR/small.csv" "${COLS[@]}" --pool bow --classifier svm-rbf --search -o "$T_DIR/mr.json"
+expect_status 0
+expect_err 'chose C = [0-9.e+-]+, gamma = (0\.25|1|4) x the default$'
+# evaluate --search reports one choice per fold.
+run "$VECSIFT" evaluate "$T_DIR/small.csv" "${COLS[@]}" --pool bow --classifier svm-rbf --search --folds 2 --repeats 1 --quiet
+expect_status 0
+expect_out '^Parameter search chose C =( [0-9.e+-]+){2} \(one per fold\)$'
+expect_out '^and gamma =( (0\.25|1|4)){2} x the default \(one per fold\)$'
+
 finish
