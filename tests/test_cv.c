@@ -79,16 +79,22 @@ static struct pipeline_spec bow_spec(void)
     return s;
 }
 
+/* Cross-validate the bow + logreg pipeline; the run must succeed. */
+static void run_cv(const struct corpus *c, const struct cv_params *p, struct cv_result *r)
+{
+    struct pipeline_spec s = bow_spec();
+    struct err e = ERR_INIT;
+    cr_assert_eq(cv_run(r, &s, c, NULL, p, &e), 0, "%s", e.msg);
+}
+
 Test(cv, folds_partition_and_pooled_rows)
 {
     write_set(NULL, 0);
     struct corpus c;
     load(&c);
-    struct pipeline_spec s = bow_spec();
     struct cv_params p = CV_PARAMS_INIT;
     struct cv_result r = CV_RESULT_INIT;
-    struct err e = ERR_INIT;
-    cr_assert_eq(cv_run(&r, &s, &c, NULL, &p, &e), 0, "%s", e.msg);
+    run_cv(&c, &p, &r);
     size_t N = c.ds.n, K = c.ds.nlabels;
     cr_assert_eq(r.pooled.n_rows, p.repeats * N);
     for (size_t rep = 0; rep < p.repeats; rep++) {
@@ -124,8 +130,8 @@ Test(cv, held_out_rows_do_not_inform_their_prediction)
     struct cv_params p = CV_PARAMS_INIT;
     p.repeats = 2;
     struct cv_result r = CV_RESULT_INIT;
+    run_cv(&c, &p, &r);
     struct err e = ERR_INIT;
-    cr_assert_eq(cv_run(&r, &s, &c, NULL, &p, &e), 0, "%s", e.msg);
     size_t N = c.ds.n, K = c.ds.nlabels;
     size_t *tr = calloc(N, sizeof *tr), *te = calloc(N, sizeof *te);
     double *P = calloc(N * K, sizeof *P);
@@ -156,14 +162,12 @@ Test(cv, held_out_rows_do_not_inform_their_prediction)
 
 static void run_threads(int search, int threads, struct cv_result *r, struct corpus *c)
 {
-    struct pipeline_spec s = bow_spec();
     struct cv_params p = CV_PARAMS_INIT;
     p.threads = threads;
     p.search = search;
     p.repeats = search ? 1 : 3;
     p.folds = search ? 3 : 5;
-    struct err e = ERR_INIT;
-    cr_assert_eq(cv_run(r, &s, c, NULL, &p, &e), 0, "%s", e.msg);
+    run_cv(c, &p, r);
 }
 
 Test(cv, one_and_two_threads_agree)
