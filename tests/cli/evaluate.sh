@@ -85,6 +85,12 @@ if [ "$bad_rows" = 0 ]; then ok; else bad "$bad_rows rows routed against the cut
 # The HTML report: self-contained (no external fetches), loads in headless
 # Chromium, and the screenshot is a PNG of real size.
 if grep -Eq '(src|href)="https?:' "$T_DIR/ev.html"; then bad "report fetches from the network"; else ok; fi
+# The page shows the JSON's pooled figures (3 decimals) and the 0/0 rule.
+for key in accuracy macro_f1 weighted_f1 log_loss brier; do
+  v=$(/usr/bin/python3 -c 'import json,sys; print("%.3f" % json.load(open(sys.argv[1]))["pooled"][sys.argv[2]])' "$T_DIR/ev.json" $key)
+  if grep -q ">$v ±" "$T_DIR/ev.html"; then ok; else bad "report lacks $key $v"; fi
+done
+if grep -q '0/0 counts as 0' "$T_DIR/ev.html"; then ok; else bad "report lacks the 0/0 rule"; fi
 if command -v chromium >/dev/null; then
   prof=$(mktemp -d)
   timeout 120 chromium --headless --no-sandbox --disable-gpu --disable-quic --no-first-run \
