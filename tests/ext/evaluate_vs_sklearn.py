@@ -20,7 +20,8 @@ and checks what it wrote:
    samples for each class").
 3. Threads: --threads 1 and --threads 2 give byte-identical --json and
    --predictions (DESIGN.md, Conventions), for bow + logreg and for SIF-pooled
-   random vectors + linear SVM with the nested search.
+   random vectors + linear SVM with the nested search; for bow also the
+   --report page and the terminal summary.
 4. JSON shape: the keys DESIGN.md ("Evaluate JSON") names.
 5. Leaks would be caught: (a) every row written twice: without --group-col
    the copies land in different folds and the out-of-fold macro F1 rises
@@ -124,7 +125,8 @@ def out(name):
 
 # ---- 1. metrics against scikit-learn ----
 base = COLS + ["--pool", "bow", "--seed", "7", "--quiet"]
-run(["evaluate", DATA] + base + ["--threads", "1", "--json", out("t1.json"), "--predictions", out("t1.csv")])
+term1 = run(["evaluate", DATA] + base + ["--threads", "1", "--json", out("t1.json"), "--predictions", out("t1.csv"),
+                                         "--report", out("t1.html")]).stdout
 js = json.load(open(out("t1.json")))
 head, labels, row, rep, fold, gold, pred, conf, prob = read_oof(out("t1.csv"))
 K = len(labels)
@@ -215,7 +217,10 @@ print(f"stratification: largest deviation {worst:.3f} rows")
 ok(any((fold[rep == 1] != fold[rep == 2])), "repeats use different shuffles")
 
 # ---- 3. thread independence ----
-run(["evaluate", DATA] + base + ["--threads", "2", "--json", out("t2.json"), "--predictions", out("t2.csv")])
+term2 = run(["evaluate", DATA] + base + ["--threads", "2", "--json", out("t2.json"), "--predictions", out("t2.csv"),
+                                         "--report", out("t2.html")]).stdout
+ok(term1 == term2, "terminal summary identical for 1 and 2 threads")
+ok(open(out("t1.html"), "rb").read() == open(out("t2.html"), "rb").read(), "bow report identical for 1 and 2 threads")
 ok(open(out("t1.json"), "rb").read() == open(out("t2.json"), "rb").read(), "bow JSON identical for 1 and 2 threads")
 ok(open(out("t1.csv"), "rb").read() == open(out("t2.csv"), "rb").read(), "bow predictions identical for 1 and 2 threads")
 # seeded random 300-d vectors covering the demo vocabulary (invented)
