@@ -48,6 +48,34 @@ for opt in --json --predictions --report; do
   if cmp -s "$T_DIR/rare.csv" "$T_DIR/rare.orig"; then ok; else bad "$opt overwrote the input"; fi
 done
 
+# --json - writes the JSON alone on stdout (the summary moves to stderr);
+# two outputs on stdout are refused.
+run "$VECSIFT" evaluate "$T_DIR/rare.csv" --pool bow --folds 2 --json -
+expect_status 0; expect_err 'macro F1'
+if /usr/bin/python3 -c 'import json,sys; json.load(open(sys.argv[1]))' "$T_DIR/out" 2>/dev/null; then ok; else bad "--json - is not JSON alone"; fi
+run "$VECSIFT" evaluate "$T_DIR/rare.csv" --pool bow --folds 2 --json - --predictions -
+expect_status 2; expect_err_lines 1; expect_err "only one of"
+
+# Groups: a label spread over fewer groups than folds is named in a warning;
+# rows of a group share a fold (checked in the predictions file).
+{ echo 'text,label,customer'
+  for i in $(seq 1 30); do echo "refund invoice $i,billing,c$((i % 10))"; done
+  for i in $(seq 1 12); do echo "parcel late $i,delivery,d$((i % 2))"; done; } >"$T_DIR/grp.csv"
+run "$VECSIFT" evaluate "$T_DIR/grp.csv" --pool bow --group-col customer --predictions "$T_DIR/grp.oof"
+expect_status 0
+expect_err "grp\.csv: label 'delivery' spans only 2 values of 'customer', fewer than the 5 folds"
+if grep -q "'billing' spans" "$T_DIR/err"; then bad "billing spans 10 groups"; else ok; fi
+split=$(/usr/bin/python3 - "$T_DIR/grp.csv" "$T_DIR/grp.oof" <<'PY'
+import csv, sys
+cust = [r["customer"] for r in csv.DictReader(open(sys.argv[1]))]
+seen = {}
+for r in csv.DictReader(open(sys.argv[2])):
+    seen.setdefault((r["repeat"], cust[int(r["row"]) - 1]), set()).add(r["fold"])
+print(sum(len(f) > 1 for f in seen.values()))
+PY
+)
+if [ "$split" = 0 ]; then ok; else bad "$split groups split across folds"; fi
+
 # Empty data file.
 printf 'text,label\n' >"$T_DIR/empty.csv"
 run "$VECSIFT" evaluate "$T_DIR/empty.csv" --pool bow
