@@ -259,6 +259,40 @@ ok({"target_precision", "cutoff", "curve"} <= set(js["threshold"]), "threshold k
 for key in ("data", "text_columns", "label_column", "group_column", "pool", "classifier", "C", "folds",
             "repeats", "seed", "search"):
     ok(key in js["settings"], f"settings has '{key}'")
+
+
+def rerun_args(j):
+    """The command line the JSON's settings describe (DESIGN.md: 'settings'
+    holds everything needed to rerun)."""
+    s = j["settings"]
+    a = ["evaluate", s["data"], "--label-col", s["label_column"], "--pool", s["pool"],
+         "--classifier", s["classifier"], "--C", repr(s["C"]), "--class-weight", s["class_weight"],
+         "--folds", str(s["folds"]), "--repeats", str(s["repeats"]), "--seed", str(s["seed"]),
+         "--encoding", s["encoding"], "--target-precision", repr(j["threshold"]["target_precision"])]
+    for c in s["text_columns"]:
+        a += ["--text-col", c]
+    if s["group_column"]:
+        a += ["--group-col", s["group_column"]]
+    if s["vectors"]:
+        a += ["--vectors", s["vectors"]]
+    if "max_iter" in s:
+        a += ["--max-iter", str(s["max_iter"])]
+    if "gamma" in s and s["gamma"] != "default":
+        a += ["--gamma", repr(s["gamma"])]
+    for key, opt in (("search", "--search"), ("sublinear_tf", "--sublinear-tf"), ("replace_invalid", "--replace-invalid"),
+                     ("keep_accents", "--keep-accents"), ("mask_number", "--mask-numbers")):
+        if s[key]:
+            a.append(opt)
+    if not s["mask_email"]:
+        a.append("--keep-emails")
+    return a
+
+
+for name in ("t1", "s1"):
+    j = json.load(open(out(name + ".json")))
+    run(rerun_args(j) + ["--quiet", "--json", out(name + ".again.json")])
+    ok(open(out(name + ".json"), "rb").read() == open(out(name + ".again.json"), "rb").read(),
+       f"{name}: rerunning from the JSON's settings gives the same JSON")
 text = open(out("t1.json")).read()
 ok(not any(w in text for w in ("seconds", "elapsed", "time")), "no timing fields in the JSON")
 
