@@ -38,7 +38,9 @@ const struct cli_cmd cmd_evaluate_info = {
     "on its training rows only; held-out rows never inform their own prediction.\n"
     "Figures are pooled over all out-of-fold predictions, with the standard\n"
     "deviation over folds.  The cut-off is the smallest confidence at which\n"
-    "automatic routing reaches the target precision out of fold."
+    "automatic routing reaches the target precision out of fold.  When one of\n"
+    "--json, --predictions, --report is '-' (stdout), the label table and the\n"
+    "summary go to stderr."
 };
 
 struct eval_args {
