@@ -45,8 +45,15 @@ long csv_require_col(const csv_reader *r, const char *name, struct err *e);
 
 /* Read the next data row.  Returns 1 when a row was read, 0 at end of file,
  * -1 on error with 'e' set to "FILE:LINE: ..." (wrong number of fields,
- * unterminated quote, invalid UTF-8).  A blank line at the very end is not a
- * row. */
+ * unterminated quote, text after a closing quote, invalid UTF-8, a byte
+ * undefined in windows-1252, a NUL byte).  An empty line, anywhere, is not a
+ * row.  After an error every later call returns -1 with the same error.
+ *
+ * Where RFC 4180 is silent the reader agrees with Python's csv module
+ * (default dialect): a lone CR also ends a line, a quote inside an unquoted
+ * field is an ordinary character, spaces around fields are kept.  It is
+ * stricter on text after a closing quote ("ab"c), a quote still open at end
+ * of file and NUL bytes: those are errors.  See src/csv.c. */
 int csv_next(csv_reader *r, struct err *e);
 
 /* Fields of the current row: NUL-terminated UTF-8, borrowed, valid until the

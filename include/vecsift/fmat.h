@@ -37,4 +37,10 @@ void fmat_axpy(const struct fmat *m, size_t i, double a, double *y);
 /* A new matrix holding rows[0..k) of 'src', in that order. */
 void fmat_select(struct fmat *dst, const struct fmat *src, const size_t *rows, size_t k);
 
+/* Stored entries of row i: its nnz when sparse, d when dense. */
+size_t fmat_nnz_row(const struct fmat *m, size_t i);
+/* Borrowed pointer to the fmat_nnz_row(m, i) stored values of row i (no
+ * column indices): enough to check values without caring about the layout. */
+const double *fmat_row_values(const struct fmat *m, size_t i);
+
 #endif

@@ -21,7 +21,9 @@ struct text_options {
     int keep_accents;   /* 1: keep combining marks on Latin letters */
     int mask_email;     /* 1: an e-mail address becomes TEXT_MASK_EMAIL */
     int mask_url;       /* 1: a URL becomes TEXT_MASK_URL */
-    int mask_number;    /* 1: a token of digits becomes TEXT_MASK_NUMBER */
+    int mask_number;    /* 1: a token of digits (any Unicode N*, possibly joined
+                           by hyphens or apostrophes: "2024-05-01") becomes
+                           TEXT_MASK_NUMBER */
 };
 /* Defaults: e-mails and URLs masked (personal data must not reach vectors or
  * models), numbers kept (ticket numbers and error codes often carry the route). */
@@ -40,8 +42,12 @@ struct text_tokens {
     size_t len, cap;
     size_t *off;
     size_t n, ncap;
+    /* Working memory reused by every call (normalised text, code points);
+     * private to text.c. */
+    void *scratch, *work;
+    size_t scratch_cap, work_cap;
 };
-#define TEXT_TOKENS_INIT { NULL, 0, 0, NULL, 0, 0 }
+#define TEXT_TOKENS_INIT { NULL, 0, 0, NULL, 0, 0, NULL, NULL, 0, 0 }
 
 static inline const char *text_token(const struct text_tokens *t, size_t i)
 {
@@ -53,18 +59,43 @@ void text_tokens_clear(struct text_tokens *t);
 void text_tokens_release(struct text_tokens *t);
 
 /* Tokenise s[0..len) (UTF-8) and APPEND the tokens to 't'.  Returns the
- * number of tokens appended, or -1 when 's' is not valid UTF-8 ('e' set with
- * the byte offset; the caller adds file and line).  Thread-safe. */
+ * number of tokens appended, or -1 when 's' is not valid UTF-8 ('e' set to
+ * "invalid UTF-8 at byte N", N the 0-based offset of the first bad byte; the
+ * caller adds file and line).  'o' may be NULL (TEXT_OPTIONS_INIT).
+ * Thread-safe: two threads may tokenise at once as long as each uses its own
+ * 't'.  Reusing one 't' (text_tokens_clear() between rows) avoids any
+ * allocation once its buffers have grown. */
 long text_tokenize(const char *s, size_t len, const struct text_options *o, struct text_tokens *t, struct err *e);
 
 /* Normalise one vocabulary entry (a token from a vector file) exactly as a
  * token in running text would be.  Returns a new string (caller frees) when
  * the entry becomes exactly one token, or NULL when it becomes none or
- * several (such an entry can never match a token of running text). */
+ * several (such an entry can never match a token of running text), when it
+ * is not valid UTF-8, or when masking turned it into a placeholder (the
+ * entry is one particular address, link or number).  The placeholder
+ * strings themselves are returned unchanged, so a vector set learned from
+ * masked text can be exported and imported again.  'o' may be NULL. */
 char *text_normalize_token(const char *s, size_t len, const struct text_options *o);
 
+/* The normalisation step alone: NFKC, Unicode full case folding, removal of
+ * default-ignorable code points and (unless o->keep_accents) of nonspacing
+ * marks on Latin-script letters; no masking, no splitting.  'o' may be NULL
+ * (TEXT_OPTIONS_INIT).  Returns a new NUL-terminated string (caller frees)
+ * and its length in '*outlen' (when not NULL), or NULL when 's' is not valid
+ * UTF-8. */
+char *text_normalize(const char *s, size_t len, const struct text_options *o, size_t *outlen);
+
+/* Plain NFKC (Unicode Standard Annex #15) through the same code path as
+ * text_normalize(), with folding, ignorable removal and mark removal off.
+ * It exists so tests can check the normalisation core against the Unicode
+ * conformance file.  Returns a new string (caller frees) or NULL on invalid
+ * UTF-8. */
+char *text_nfkc(const char *s, size_t len, size_t *outlen);
+
 /* Short description of the settings, e.g. "nfkc,casefold,strip-latin-marks,
- * mask=email+url", stored in models so predict refuses a mismatch. */
+ * mask=email+url" (keep_accents gives "keep-marks"; no masking "mask=none"),
+ * stored in models so predict refuses a mismatch.  Truncated to fit 'n'
+ * (64 bytes always suffice).  'o' may be NULL. */
 void text_options_describe(const struct text_options *o, char *buf, size_t n);
 
 #endif

@@ -62,8 +62,33 @@ int vecset_pack_text(const char *in, const char *out, const struct text_options 
 int vecset_write(const char *out, const char *const *words, const float *rows, size_t n, size_t dim,
                  struct err *e);
 
-/* Write the text form ("COUNT DIM" first line, then token and %.9g numbers). */
+/* Write the text form ("COUNT DIM" first line, then token and numbers).
+ * Each number is the shortest of %.6g .. %.9g that reads back as the same
+ * float, so packing the export again gives the same fingerprint, and an
+ * input written in shortest form comes back as it was. */
 int vecset_export_text(const vecset *v, const char *out, struct err *e);
+
+/* A packed store written row by row (vector import and learning use it):
+ * rows go straight to the output file; tokens, norms and the index are kept
+ * in memory (about 30 bytes a row plus the token bytes) and written at
+ * commit.  'out' must be a file, not "-". */
+typedef struct vecset_writer vecset_writer;
+vecset_writer *vecset_writer_new(const char *out, size_t dim, struct err *e);
+/* Add token tok[0..len) (already normalised, no NUL inside) with its 'dim'
+ * floats.  Returns 1 when added, 0 when the token is already there (the row
+ * is dropped: first wins). */
+int vecset_writer_add(vecset_writer *w, const char *tok, size_t len, const float *row);
+size_t vecset_writer_count(const vecset_writer *w);
+/* Finish the file and move it into place.  Frees 'w'.  Returns 0 or -1
+ * with 'e' set (ERR_IO), leaving no output. */
+int vecset_writer_commit(vecset_writer *w, struct err *e);
+/* Drop everything written; no output file remains.  NULL-safe. */
+void vecset_writer_abort(vecset_writer *w);
+
+/* Recompute the fingerprint over every row (a full scan, unlike open) and
+ * compare it with the header's.  Returns 0, or -1 with 'e' set (ERR_INPUT)
+ * when the content does not match or a string entry is damaged. */
+int vecset_verify(const vecset *v, struct err *e);
 
 /* ---- neighbours ---- */
 

@@ -15,6 +15,11 @@
     int cmd_##x(int argc, char **argv)
 
 /* Keep alphabetical, like the table in main.c. */
+VECSIFT_COMMAND(evaluate);
+VECSIFT_COMMAND(features);
+VECSIFT_COMMAND(predict);
+VECSIFT_COMMAND(train);
+VECSIFT_COMMAND(vectors);
 VECSIFT_COMMAND(vectors_learn);
 
 #endif

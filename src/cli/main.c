@@ -28,6 +28,11 @@ struct cmd_entry {
 };
 
 static const struct cmd_entry cmds[] = {
+    { &cmd_evaluate_info, cmd_evaluate },
+    { &cmd_features_info, cmd_features },
+    { &cmd_predict_info, cmd_predict },
+    { &cmd_train_info, cmd_train },
+    { &cmd_vectors_info, cmd_vectors },
     { NULL, NULL }
 };
 

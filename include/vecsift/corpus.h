@@ -1,0 +1,33 @@
+/* corpus.h -- a CSV dataset with every text tokenised: what the commands
+ * that fit or evaluate work on.
+ *
+ * dataset.h reads the rows; text.h makes the tokens; vocab.h interns them.
+ * The vocabulary here is only an interning table: it holds no statistics
+ * that could leak from held-out rows (document frequencies are counted
+ * inside each fit, see features.h).
+ */
+#ifndef VECSIFT_CORPUS_H
+#define VECSIFT_CORPUS_H
+
+#include <stddef.h>
+
+#include "vecsift/dataset.h"
+#include "vecsift/text.h"
+#include "vecsift/vocab.h"
+
+struct err;
+
+struct corpus {
+    struct dataset ds;
+    struct tokdocs docs;        /* docs.n == ds.n */
+    struct text_options text;
+    size_t empty_docs;          /* rows with no token at all */
+};
+
+/* Load 'path' with 'o' and tokenise every row with 't'.  Returns 0, or -1
+ * with 'e' set (file:line for the row at fault). */
+int corpus_load(struct corpus *c, const char *path, const struct dataset_options *o, const struct text_options *t,
+                struct err *e);
+void corpus_release(struct corpus *c);
+
+#endif

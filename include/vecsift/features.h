@@ -1,0 +1,109 @@
+/* features.h -- texts to rows of numbers: pooled word vectors or a sparse
+ * TF-IDF bag of words, then standardisation.
+ *
+ * A featurizer is FITTED on training rows only (idf table, word
+ * probabilities, SIF component, scaler) and then applied to any rows, so
+ * cross-validation can fit one per fold without leaking held-out rows.  It
+ * works on tokens (text.h has made them); it does not read files.
+ *
+ * Pooling, for a text with tokens t (occurrences) that have a vector v_t:
+ *   mean   x = (1/n) sum_t v_t
+ *   tfidf  x = sum_w tfidf(w) v_w / sum_w tfidf(w), over distinct words w,
+ *          tfidf(w) = tf(w) * idf(w), idf(w) = ln((1+N)/(1+df(w))) + 1
+ *          (smoothed idf; Manning, Raghavan and Schuetze, Introduction to
+ *          Information Retrieval, 2008, ch. 6.2), tf optionally 1 + ln tf
+ *   sif    x = (1/n) sum_t a/(a + p(t)) v_t, then x -= u (u . x) with u the
+ *          first principal component of the training rows' x (Arora, Liang
+ *          and Ma 2017, "A Simple but Tough-to-Beat Baseline for Sentence
+ *          Embeddings", ICLR), p(t) the word's relative frequency in the
+ *          training rows
+ *   bow    sparse tf-idf over unigrams and bigrams of the training rows'
+ *          vocabulary, each row scaled to unit length (no vectors)
+ * Dense features are then standardised: (x - mean) / sd per column, fitted
+ * on the training rows (sd 0 -> 1).  A text with no token that has a vector
+ * becomes the zero vector before scaling, and is counted.
+ */
+#ifndef VECSIFT_FEATURES_H
+#define VECSIFT_FEATURES_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+struct err;
+struct fmat;
+struct tokdocs;
+struct vecset;
+struct cJSON;
+struct jsonv_ctx;
+
+enum features_pool { POOL_MEAN = 0, POOL_TFIDF, POOL_SIF, POOL_BOW };
+
+struct features_params {
+    enum features_pool pool;
+    int sublinear_tf;   /* tf -> 1 + ln(tf) in tfidf and bow */
+    double sif_a;       /* SIF's a; the paper recommends 1e-3 */
+    int bigrams;        /* bow: add word pairs */
+    size_t min_df;      /* bow: keep terms in at least this many training rows */
+    int scale;          /* standardise dense features */
+};
+#define FEATURES_PARAMS_INIT { POOL_TFIDF, 0, 1e-3, 1, 1, 1 }
+
+/* "mean" "tfidf" "sif" "bow" <-> enum.  Returns 0, or -1 for an unknown name. */
+int features_pool_parse(const char *name, enum features_pool *out);
+const char *features_pool_name(enum features_pool p);
+
+typedef struct featurizer featurizer;
+
+/* What a transform saw. */
+struct features_stats {
+    uint64_t tokens;        /* token occurrences */
+    uint64_t with_vector;   /* of which had a vector (pooling) or a column (bow) */
+    size_t empty_rows;      /* rows that became the zero vector */
+};
+
+/* Fit on documents rows[0..n) of 'd'.  'vs' is required for mean/tfidf/sif
+ * and ignored for bow; the featurizer borrows it (keep it open).  Returns a
+ * featurizer owned by the caller (features_free), or NULL with 'e' set. */
+featurizer *features_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows, size_t n,
+                         const struct vecset *vs, struct err *e);
+void features_free(featurizer *f); /* NULL-safe */
+
+/* Output width D, and whether the output is sparse (bow). */
+size_t features_dim(const featurizer *f);
+int features_sparse(const featurizer *f);
+const struct features_params *features_params(const featurizer *f);
+
+/* Rows rows[0..n) of 'd' into 'X' (released and reallocated: n x D).
+ * 'st' may be NULL; counts are added to it.  Thread-safe on a shared f. */
+void features_transform(const featurizer *f, const struct tokdocs *d, const size_t *rows, size_t n, struct fmat *X,
+                        struct features_stats *st);
+
+/* One text given as token strings into row 'i' of a matrix made with
+ * features_alloc (for streaming prediction).  Thread-safe. */
+void features_alloc(const featurizer *f, size_t n, struct fmat *X);
+void features_transform_tokens(const featurizer *f, const char *const *toks, size_t ntok, struct fmat *X, size_t i,
+                               struct features_stats *st);
+
+/* The word-level decomposition used to explain a prediction (mean, tfidf,
+ * sif only): the pooled, UNSCALED vector is sum_j c_j v_{w_j} (+ for sif the
+ * component removal, which is linear too).  For each distinct token with a
+ * vector, writes its coefficient c_j; returns the number of tokens written
+ * into words/coef (borrowed pointers into 'toks'). */
+size_t features_word_weights(const featurizer *f, const char *const *toks, size_t ntok, const char **words,
+                             double *coef);
+/* The scaler: x_scaled = (x - mean) / sd; NULL pointers when not scaled. */
+void features_scaler(const featurizer *f, const double **mean, const double **sd);
+/* The SIF component u (D) or NULL. */
+const double *features_sif_component(const featurizer *f);
+/* The vector set the featurizer uses (NULL for bow). */
+const struct vecset *features_vectors(const featurizer *f);
+
+/* bow: the term of output column j ("word" or "word word"). */
+const char *features_term(const featurizer *f, size_t j);
+
+/* Persistence as JSON fields of 'obj'; load validates everything and needs
+ * the same vector set (the caller checks its fingerprint). */
+void features_save(const featurizer *f, struct cJSON *obj);
+featurizer *features_load(const struct jsonv_ctx *c, const struct cJSON *obj, const struct vecset *vs);
+
+#endif

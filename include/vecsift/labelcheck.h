@@ -1,0 +1,56 @@
+/* labelcheck.h -- rows whose given label looks wrong, found by confident
+ * learning (Northcutt, Jiang and Chuang (2021), "Confident Learning:
+ * Estimating Uncertainty in Dataset Labels", JAIR 70).
+ *
+ * Input: out-of-fold probabilities P (N, K) -- each row scored by a model that
+ * never saw it -- and the given labels.  Steps:
+ *   1. per-label threshold t_j = mean of P[i][j] over the rows given label j
+ *      (the average self-confidence of label j);
+ *   2. the confident joint C[given][true] (K, K): each row is counted once, in
+ *      column j = the label of highest probability among the labels whose
+ *      probability reaches their threshold (P[i][j] >= t_j); a row reaching
+ *      no threshold is not counted;
+ *   3. suspects: the rows counted off the diagonal (the paper's "C_confusion"
+ *      selection, off-diagonals of the confident joint);
+ *   4. ranking by the normalized margin P[i][suggested] - P[i][given],
+ *      largest first (the margin the paper orders examples by when pruning,
+ *      from memory), ties by row.
+ * Labels given to no row get no threshold and are never suggested.  This
+ * module audits; it does not remove or relabel anything, and it prints nothing.
+ */
+#ifndef VECSIFT_LABELCHECK_H
+#define VECSIFT_LABELCHECK_H
+
+#include <stddef.h>
+
+struct err;
+
+struct labelcheck_suspect {
+    size_t row;         /* index into the N rows */
+    int given;          /* the label in the data */
+    int suggested;      /* the confident-joint column it was counted in */
+    double score;       /* P[row][suggested] - P[row][given], in [-1, 1]: usually
+                           > 0; negative when the given label has the higher
+                           probability but falls short of its own threshold */
+};
+
+struct labelcheck_result {
+    int n_labels;                       /* K */
+    double *threshold;                  /* (K); NAN for a label given to no row */
+    size_t *joint;                      /* (K, K), joint[given*K + true] */
+    struct labelcheck_suspect *suspect; /* most suspect first */
+    size_t n_suspects;
+};
+
+#define LABELCHECK_RESULT_INIT { 0, NULL, NULL, NULL, 0 }
+
+/* Run the audit over N rows: 'P' (N, K) row-major probabilities, 'given' (N)
+ * label indices.  Fills 'out' (release with labelcheck_release).  Returns 0,
+ * or -1 with 'e' set when a label index is out of range or a probability is
+ * not finite or is negative (naming the 1-based row). */
+int labelcheck_run(const double *P, const int *given, size_t N, int K,
+                   struct labelcheck_result *out, struct err *e);
+
+void labelcheck_release(struct labelcheck_result *r);
+
+#endif

@@ -1,0 +1,85 @@
+/* pipeline.h -- a featurizer plus a classifier, fitted together on training
+ * rows only.
+ *
+ * Everything that fits (evaluate's folds, train, compare, curve, audit)
+ * fits a pipeline, and everything that predicts applies one, so no command
+ * can fit a part of it on held-out rows by accident (DESIGN.md, Data flow).
+ */
+#ifndef VECSIFT_PIPELINE_H
+#define VECSIFT_PIPELINE_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "vecsift/features.h"
+
+struct err;
+struct fmat;
+struct tokdocs;
+struct vecset;
+struct cJSON;
+struct jsonv_ctx;
+
+enum pipeline_classifier { CLF_LOGREG = 0, CLF_SVM_LINEAR, CLF_SVM_RBF };
+
+struct pipeline_spec {
+    struct features_params feat;
+    enum pipeline_classifier clf;
+    double C;           /* inverse regularisation strength, > 0 (default 1) */
+    double gamma;       /* svm-rbf width: > 0 this value; 0: 1 / (D * variance);
+                         * < 0: |gamma| times that default */
+    int balanced;       /* class weights n / (K * n_label) */
+    int max_iter;       /* logreg: L-BFGS iteration cap */
+    double tol;         /* logreg: gradient tolerance */
+    uint64_t seed;      /* svm: libsvm's probability estimate */
+};
+#define PIPELINE_SPEC_INIT { FEATURES_PARAMS_INIT, CLF_LOGREG, 1.0, 0.0, 0, 1000, 1e-6, 1 }
+
+int pipeline_classifier_parse(const char *name, enum pipeline_classifier *out);
+const char *pipeline_classifier_name(enum pipeline_classifier c);
+
+/* What happened while fitting, for warnings. */
+struct pipeline_fit_info {
+    int converged;      /* logreg reached its tolerance (1 for svm) */
+    int iters;
+    int tiny_label;     /* svm: a label with fewer than 3 rows */
+    struct features_stats stats; /* training rows' token coverage */
+};
+
+typedef struct pipeline pipeline;
+
+/* Fit on rows[0..n) of 'd' with labels y (indexed by document, in [0,k)).
+ * 'vs' is borrowed (keep it open).  Returns a pipeline owned by the caller
+ * (pipeline_free), or NULL with 'e' set.  'info' may be NULL.  Thread-safe. */
+pipeline *pipeline_fit(const struct pipeline_spec *s, const struct tokdocs *d, const int *y, size_t k,
+                       const size_t *rows, size_t n, const struct vecset *vs, struct pipeline_fit_info *info,
+                       struct err *e);
+void pipeline_free(pipeline *p); /* NULL-safe */
+
+size_t pipeline_labels(const pipeline *p);
+const featurizer *pipeline_featurizer(const pipeline *p);
+const struct pipeline_spec *pipeline_spec(const pipeline *p);
+
+/* Probabilities (n x K, row-major) for rows[0..n) of 'd'.  'st' may be NULL. */
+void pipeline_proba(const pipeline *p, const struct tokdocs *d, const size_t *rows, size_t n, double *P,
+                    struct features_stats *st);
+/* Probabilities (K) for row i of an already featurized matrix. */
+void pipeline_proba_row(const pipeline *p, const struct fmat *X, size_t i, double *prob);
+
+/* The words of one text that pushed it most toward 'label' (logreg over
+ * pooled vectors only; returns 0 otherwise).  The scores are linear in the
+ * pooled vector, which is a weighted sum of word vectors, so the score of
+ * label j splits exactly into a constant plus one term per word:
+ * z_j = c_j + sum_w a_w(j).  A word's push toward 'label' is
+ * a_w(label) - sum_j prob_j a_w(j): its share of z_label minus the
+ * probability-weighted mean score, the quantity whose sum over words (plus
+ * the constant) is the log-odds margin the softmax acts on.  Writes up to
+ * 'top' words, largest push first, to words/push; returns how many. */
+size_t pipeline_explain(const pipeline *p, const char *const *toks, size_t ntok, const double *prob, int label,
+                        size_t top, const char **words, double *push);
+
+/* Persistence as JSON fields of 'obj' ("features", "classifier"). */
+void pipeline_save(const pipeline *p, struct cJSON *obj);
+pipeline *pipeline_load(const struct jsonv_ctx *c, const struct cJSON *obj, const struct vecset *vs, size_t k);
+
+#endif

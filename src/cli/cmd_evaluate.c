@@ -1,0 +1,191 @@
+/* cmd_evaluate.c -- `vecsift evaluate`: repeated stratified k-fold
+ * cross-validation with per-label figures, their spread, and a confidence
+ * cut-off for a precision target. */
+#include <cjson/cJSON.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "commands.h"
+#include "common.h"
+#include "evalout.h"
+#include "vecsift/err.h"
+#include "vecsift/ofile.h"
+#include "vecsift/vecset.h"
+#include "vecsift/vocab.h"
+#include "vecsift/xalloc.h"
+
+static const struct cli_opt opts[] = {
+    PIPELINE_OPTIONS,
+    { "folds", 'k', "<n>", "folds, >= 2 (default: 5)" },
+    { "repeats", 'R', "<n>", "repeats with fresh shuffles (default: 3)" },
+    { "group-col", 'g', "<name>", "keep rows sharing this column's value (a customer, a thread) in one fold" },
+    { "search", 0, NULL, "choose C (and gamma) by an inner cross-validation inside each fold" },
+    { "target-precision", 'P', "<p>", "precision the confidence cut-off must reach (default: 0.95)" },
+    { "json", 'j', "<file>", "write every figure as JSON" },
+    { "predictions", 0, "<file>", "write the out-of-fold predictions as CSV" },
+    { "report", 0, "<file>", "write a self-contained HTML report" },
+    DATA_OPTIONS,
+    RUN_OPTIONS,
+    { NULL, 0, NULL, NULL }
+};
+
+const struct cli_cmd cmd_evaluate_info = {
+    "evaluate", "[options] DATA.csv",
+    "cross-validate: per-label precision, recall, F1 with spread, and a cut-off",
+    opts,
+    "Every fold fits a fresh pipeline (idf, SIF component, scaler, classifier)\n"
+    "on its training rows only; held-out rows never inform their own prediction.\n"
+    "Figures are pooled over all out-of-fold predictions, with the standard\n"
+    "deviation over folds.  The cut-off is the smallest confidence at which\n"
+    "automatic routing reaches the target precision out of fold."
+};
+
+struct eval_args {
+    struct data_args da;
+    struct fit_args fa;
+    struct cv_params cp;
+    double target;
+    const char *json, *preds, *report;
+};
+
+static int parse(int argc, char **argv, struct eval_args *a, const char **data)
+{
+    const struct cli_cmd *cmd = &cmd_evaluate_info;
+    struct cli_parser p;
+    cli_parser_init(&p, cmd, argc, argv);
+    int i;
+    long v;
+    const char *val;
+    while ((i = cli_next(&p, &val)) >= 0) {
+        const char *name = opt_name(cmd, i);
+        int t = data_args_option(&a->da, cmd, name, val);
+        if (t == 0)
+            t = fit_args_option(&a->fa, cmd, name, val);
+        if (t < 0)
+            break;
+        if (t > 0)
+            continue;
+        if (strcmp(name, "folds") == 0) {
+            if (cli_long(cmd, name, val, 2, 1000, &v) < 0)
+                break;
+            a->cp.folds = (int)v;
+        } else if (strcmp(name, "repeats") == 0) {
+            if (cli_long(cmd, name, val, 1, 1000, &v) < 0)
+                break;
+            a->cp.repeats = (size_t)v;
+        } else if (strcmp(name, "search") == 0) {
+            a->cp.search = 1;
+        } else if (strcmp(name, "target-precision") == 0) {
+            if (cli_double(cmd, name, val, 0.0, 1.0, &a->target) < 0)
+                break;
+        } else if (strcmp(name, "json") == 0) {
+            a->json = val;
+        } else if (strcmp(name, "predictions") == 0) {
+            a->preds = val;
+        } else if (strcmp(name, "report") == 0) {
+            a->report = val;
+        }
+    }
+    int rc = i == CLI_HELP ? -1 : i != CLI_END ? ERR_INPUT : 0;
+    if (rc == 0 && p.npos != 1)
+        rc = cli_usage(cmd, "evaluate takes one data file");
+    if (rc == 0)
+        *data = p.pos[0];
+    cli_parser_release(&p);
+    return rc;
+}
+
+/* Group ids from the group column's strings. */
+static int *group_ids(const struct corpus *c, int *ngroups)
+{
+    vocab *v = vocab_new();
+    int *g = xcalloc(c->ds.n ? c->ds.n : 1, sizeof *g);
+    for (size_t i = 0; i < c->ds.n; i++)
+        g[i] = vocab_add(v, c->ds.group[i]);
+    *ngroups = (int)vocab_size(v);
+    vocab_free(v);
+    return g;
+}
+
+int cmd_evaluate(int argc, char **argv)
+{
+    struct eval_args a;
+    memset(&a, 0, sizeof a);
+    data_args_init(&a.da);
+    fit_args_init(&a.fa);
+    struct cv_params cp0 = CV_PARAMS_INIT;
+    a.cp = cp0;
+    a.target = 0.95;
+    const char *data = NULL;
+    int rc = parse(argc, argv, &a, &data);
+    if (rc != 0)
+        return rc < 0 ? ERR_OK : rc;
+    a.cp.seed = a.da.seed;
+    a.cp.threads = a.da.threads;
+    a.fa.spec.seed = a.da.seed;
+
+    struct err e = ERR_INIT;
+    struct corpus c;
+    memset(&c, 0, sizeof c);
+    struct vecset *vs = NULL;
+    struct cv_result r = CV_RESULT_INIT;
+    int *groups = NULL;
+    cJSON *js = NULL;
+    const char *ins[] = { data, a.fa.vectors };
+    const char *outs[] = { a.json, a.preds, a.report };
+    for (size_t q = 0; q < 3; q++)
+        if (outs[q] && ofile_check_distinct(outs[q], ins, 2, &e) < 0)
+            goto fail;
+    struct dataset_options dopt;
+    data_args_dataset(&a.da, 1, &dopt);
+    if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
+        goto fail;
+    if (fit_args_open_vectors(&a.fa, &vs, &e) < 0)
+        goto fail;
+    if (!cli_quiet) {
+        evalout_label_table(stdout, &c, a.cp.folds);
+        fflush(stdout);
+        size_t conflicting, dup = evalout_duplicates(&c, &conflicting);
+        if (dup)
+            cli_note("%zu rows repeat another row word for word after normalisation (%zu of them with another "
+                     "label); duplicates split across folds flatter the scores: remove them or use --group-col",
+                     dup, conflicting);
+        if (c.empty_docs)
+            cli_warn("%s: %zu rows have no words in the text columns", data, c.empty_docs);
+    }
+    if (c.ds.group) {
+        groups = group_ids(&c, &a.cp.n_groups);
+        a.cp.group = groups;
+    }
+    if (cv_run(&r, &a.fa.spec, &c, vs, &a.cp, &e) < 0)
+        goto fail;
+    if (r.unconverged)
+        cli_warn("%d of %zu fits stopped at the iteration cap; raise --max-iter or lower --C", r.unconverged,
+                 r.repeats * (size_t)r.folds);
+    if (r.tiny_label)
+        cli_warn("a label had fewer than 3 training rows in some fold: SVM probabilities for it are unreliable");
+
+    struct eval_setup s = { data, &a.da, &a.fa, &a.cp, a.target };
+    evalout_terminal(stdout, &r, &c, &s);
+    if (a.json || a.report)
+        js = evalout_json(&r, &c, &s);
+    if (a.json && evalout_write_json(a.json, js, &e) < 0)
+        goto fail;
+    if (a.preds && evalout_predictions(a.preds, &r, &c, &e) < 0)
+        goto fail;
+    if (a.report && evalout_html(a.report, &r, &c, &s, &e) < 0)
+        goto fail;
+    if (!cli_quiet)
+        fprintf(stderr, "cross-validation took %.2f s on %d threads\n", r.seconds, a.cp.threads);
+    goto done;
+fail:
+    rc = cli_fail(&e);
+done:
+    cJSON_Delete(js);
+    free(groups);
+    cv_release(&r);
+    vecset_close(vs);
+    corpus_release(&c);
+    return rc;
+}

@@ -1,0 +1,379 @@
+/* cmd_predict.c -- `vecsift predict`: route the rows of a CSV with a model.
+ *
+ * Streams: rows are read in batches, each batch is featurized and scored by
+ * the worker threads (each takes a contiguous slice), then written in input
+ * order.  Every row's output depends on that row and the model alone, so
+ * the output is identical for any --threads and for any split of the input
+ * into parts.
+ */
+#include <math.h>
+#include <pthread.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "commands.h"
+#include "common.h"
+#include "vecsift/csv.h"
+#include "vecsift/err.h"
+#include "vecsift/fmat.h"
+#include "vecsift/model.h"
+#include "vecsift/ofile.h"
+#include "vecsift/pipeline.h"
+#include "vecsift/vecset.h"
+#include "vecsift/xalloc.h"
+
+#define BATCH 4096
+
+static const struct cli_opt opts[] = {
+    { "output", 'o', "<file>", "where to write the routed rows (default: - for stdout)" },
+    { "review-below", 'r', "<p>", "send rows whose confidence is below p to 'review'\n"
+      "                              (default: the model's stored cut-off, else 0)" },
+    { "top", 'k', "<n>", "also write the n most likely labels and their probabilities" },
+    { "explain", 'x', "<n>", "add the n words that pushed each row most toward its label\n"
+      "                              (logreg models only)" },
+    { "vectors", 'v', "<file>", "the model's vector set, when it moved (fingerprint must match)" },
+    { "text-col", 0, "<name>", "text column(s) to read (default: the model's)" },
+    { "encoding", 0, "<name>", "utf-8 | windows-1252 | latin-1 (default: utf-8)" },
+    { "replace-invalid", 0, NULL, "replace invalid UTF-8 by U+FFFD instead of stopping" },
+    RUN_OPTIONS,
+    { NULL, 0, NULL, NULL }
+};
+
+const struct cli_cmd cmd_predict_info = {
+    "predict", "[options] MODEL.json IN.csv [-o OUT.csv]",
+    "route the rows of a CSV file: add predicted, confidence and route columns",
+    opts,
+    "Output: every input column, then 'predicted' (the most probable label),\n"
+    "'confidence' (its probability) and 'route' (the label, or 'review' when the\n"
+    "confidence is below the cut-off or the text is empty).  Rows keep their order.\n"
+    "A classifier misroutes some tickets: keep a person on the 'review' route and\n"
+    "watch each queue's precision over time.  Input and output may be '-'."
+};
+
+struct job {
+    const pipeline *pipe;
+    const struct model *m;
+    size_t ncols, ntextcol;
+    const long *textcol;
+    size_t top, explain;
+    double cut;
+    /* the batch: cells (n x ncols), owned */
+    char **cells;
+    size_t n;
+    /* results */
+    int *label;         /* (n) */
+    double *prob;       /* (n x K) */
+    char **why;         /* (n) explanation text or NULL */
+    int *empty;         /* (n) */
+    size_t from, to;    /* this worker's slice */
+};
+
+static void *work(void *arg)
+{
+    struct job *j = arg;
+    size_t K = j->m->k;
+    const featurizer *f = pipeline_featurizer(j->pipe);
+    struct text_tokens tt = TEXT_TOKENS_INIT;
+    struct fmat X = FMAT_INIT;
+    const char **ptr = NULL;
+    size_t cap = 0, tlen = 0, tcap = 0;
+    char *text = NULL;
+    const char **words = j->explain ? xcalloc(j->explain, sizeof *words) : NULL;
+    double *push = j->explain ? xcalloc(j->explain, sizeof *push) : NULL;
+    for (size_t r = j->from; r < j->to; r++) {
+        /* join the text columns with one space, as the training rows were */
+        tlen = 0;
+        for (size_t t = 0; t < j->ntextcol; t++) {
+            const char *s = j->cells[r * j->ncols + (size_t)j->textcol[t]];
+            size_t l = strlen(s);
+            text = xgrow(text, &tcap, tlen + l + 2, 1);
+            if (t)
+                text[tlen++] = ' ';
+            memcpy(text + tlen, s, l);
+            tlen += l;
+        }
+        text = xgrow(text, &tcap, tlen + 1, 1);
+        text[tlen] = '\0';
+        text_tokens_clear(&tt);
+        struct err e = ERR_INIT;
+        if (text_tokenize(text, tlen, &j->m->text, &tt, &e) < 0)
+            text_tokens_clear(&tt); /* cannot happen: the reader checked UTF-8 */
+        ptr = xgrow(ptr, &cap, tt.n + 1, sizeof *ptr);
+        for (size_t q = 0; q < tt.n; q++)
+            ptr[q] = text_token(&tt, q);
+        features_alloc(f, 1, &X);
+        struct features_stats st = { 0, 0, 0 };
+        features_transform_tokens(f, ptr, tt.n, &X, 0, &st);
+        double *pr = j->prob + r * K;
+        pipeline_proba_row(j->pipe, &X, 0, pr);
+        int best = 0;
+        for (size_t k = 1; k < K; k++)
+            if (pr[k] > pr[best])
+                best = (int)k;
+        j->label[r] = best;
+        j->empty[r] = st.with_vector == 0;
+        if (j->explain) {
+            size_t nw = pipeline_explain(j->pipe, ptr, tt.n, pr, best, j->explain, words, push);
+            size_t len = 0, bcap = 0;
+            char *b = NULL;
+            for (size_t w = 0; w < nw; w++) {
+                char item[256];
+                int il = snprintf(item, sizeof item, "%s%.80s (%+.3f)", w ? "; " : "", words[w], push[w]);
+                b = xgrow(b, &bcap, len + (size_t)il + 1, 1);
+                memcpy(b + len, item, (size_t)il + 1);
+                len += (size_t)il;
+            }
+            j->why[r] = b ? b : xstrdup("");
+        }
+    }
+    free(words);
+    free(push);
+    free(text);
+    free(ptr);
+    fmat_release(&X);
+    text_tokens_release(&tt);
+    return NULL;
+}
+
+static void cell(FILE *fp, const char *s, int first)
+{
+    if (!first)
+        fputc(',', fp);
+    csv_put(fp, s, strlen(s), 1);
+}
+
+static void write_batch(FILE *fp, const struct job *j, size_t *routed, size_t *review)
+{
+    size_t K = j->m->k;
+    char num[32];
+    for (size_t r = 0; r < j->n; r++) {
+        for (size_t c = 0; c < j->ncols; c++)
+            cell(fp, j->cells[r * j->ncols + c], c == 0);
+        const double *pr = j->prob + r * K;
+        int best = j->label[r];
+        cell(fp, j->m->labels[best], 0);
+        snprintf(num, sizeof num, "%.4f", pr[best]);
+        cell(fp, num, 0);
+        int to_review = j->empty[r] || pr[best] < j->cut;
+        cell(fp, to_review ? "review" : j->m->labels[best], 0);
+        *review += (size_t)to_review;
+        *routed += (size_t)!to_review;
+        if (j->top > 1) {
+            /* labels by probability, ties by label order */
+            int *order = xcalloc(K, sizeof *order);
+            for (size_t k = 0; k < K; k++)
+                order[k] = (int)k;
+            for (size_t a = 1; a < K; a++)
+                for (size_t b = a; b > 0 && pr[order[b]] > pr[order[b - 1]]; b--) {
+                    int t = order[b];
+                    order[b] = order[b - 1];
+                    order[b - 1] = t;
+                }
+            for (size_t t = 1; t < j->top; t++) {
+                cell(fp, t < K ? j->m->labels[order[t]] : "", 0);
+                snprintf(num, sizeof num, "%.4f", t < K ? pr[order[t]] : 0.0);
+                cell(fp, t < K ? num : "", 0);
+            }
+            free(order);
+        }
+        if (j->explain)
+            cell(fp, j->why[r], 0);
+        fputs("\r\n", fp);
+    }
+}
+
+static void run_batch(struct job *j, int threads)
+{
+    size_t T = (size_t)threads < j->n ? (size_t)threads : (j->n ? j->n : 1);
+    struct job *parts = xcalloc(T, sizeof *parts);
+    pthread_t *tid = xcalloc(T, sizeof *tid);
+    for (size_t t = 0; t < T; t++) {
+        parts[t] = *j;
+        parts[t].from = j->n * t / T;
+        parts[t].to = j->n * (t + 1) / T;
+    }
+    for (size_t t = 1; t < T; t++)
+        if (pthread_create(&tid[t], NULL, work, &parts[t]) != 0)
+            work(&parts[t]), tid[t] = 0; /* no thread: do it here */
+    work(&parts[0]);
+    for (size_t t = 1; t < T; t++)
+        if (tid[t])
+            pthread_join(tid[t], NULL);
+    free(tid);
+    free(parts);
+}
+
+static int parse(int argc, char **argv, struct data_args *da, const char **out, double *cut, long *top,
+                 long *explain, const char **vectors, char **pos)
+{
+    const struct cli_cmd *cmd = &cmd_predict_info;
+    struct cli_parser p;
+    cli_parser_init(&p, cmd, argc, argv);
+    int i;
+    const char *val;
+    while ((i = cli_next(&p, &val)) >= 0) {
+        const char *name = opt_name(cmd, i);
+        int t = data_args_option(da, cmd, name, val);
+        if (t < 0)
+            break;
+        if (t > 0)
+            continue;
+        if (strcmp(name, "output") == 0)
+            *out = val;
+        else if (strcmp(name, "vectors") == 0)
+            *vectors = val;
+        else if (strcmp(name, "review-below") == 0 && cli_double(cmd, name, val, 0, 1, cut) < 0)
+            break;
+        else if (strcmp(name, "top") == 0 && cli_long(cmd, name, val, 1, 1000, top) < 0)
+            break;
+        else if (strcmp(name, "explain") == 0 && cli_long(cmd, name, val, 1, 100, explain) < 0)
+            break;
+    }
+    int rc = i == CLI_HELP ? -1 : i != CLI_END ? ERR_INPUT : 0;
+    if (rc == 0 && p.npos != 2)
+        rc = cli_usage(cmd, "predict takes a model file and an input file");
+    if (rc == 0) {
+        pos[0] = p.pos[0];
+        pos[1] = p.pos[1];
+    }
+    cli_parser_release(&p);
+    return rc;
+}
+
+int cmd_predict(int argc, char **argv)
+{
+    struct data_args da;
+    data_args_init(&da);
+    const char *out = "-", *vectors = NULL;
+    double cut = -1;
+    long top = 1, explain = 0;
+    char *pos[2];
+    int rc = parse(argc, argv, &da, &out, &cut, &top, &explain, &vectors, pos);
+    if (rc != 0)
+        return rc < 0 ? ERR_OK : rc;
+    const char *model_path = pos[0], *in = pos[1];
+
+    struct err e = ERR_INIT;
+    struct model m = MODEL_INIT;
+    struct vecset *vs = NULL;
+    csv_reader *r = NULL;
+    ofile *o = NULL;
+    long *textcol = NULL;
+    struct job j;
+    memset(&j, 0, sizeof j);
+    size_t routed = 0, review = 0, rows = 0;
+
+    const char *ins[] = { model_path, in, vectors };
+    if (ofile_check_distinct(out, ins, 3, &e) < 0)
+        goto fail;
+    if (model_load(&m, model_path, vectors, &vs, &e) < 0)
+        goto fail;
+    if (explain && (pipeline_spec(m.pipe)->clf != CLF_LOGREG)) {
+        rc = cli_usage(&cmd_predict_info, "--explain needs a logreg model: an SVM's scores do not split "
+                                          "into per-word parts");
+        goto done;
+    }
+    if (cut < 0)
+        cut = m.review_below >= 0 ? m.review_below : 0;
+    if (!(r = csv_open(in, &da.csv, &e)))
+        goto fail;
+    size_t ncols = csv_ncols(r);
+    size_t ntext = da.ntext ? da.ntext : m.ntext;
+    textcol = xcalloc(ntext, sizeof *textcol);
+    for (size_t t = 0; t < ntext; t++)
+        if ((textcol[t] = csv_require_col(r, da.ntext ? da.text_cols[t] : m.text_cols[t], &e)) < 0)
+            goto fail;
+    static const char *const ours[] = { "predicted", "confidence", "route" };
+    for (size_t c = 0; c < ncols; c++)
+        for (size_t q = 0; q < 3; q++)
+            if (strcmp(csv_colname(r, c), ours[q]) == 0) {
+                err_set(&e, csv_path(r), 1, "input already has a column '%s'", ours[q]);
+                err_hint(&e, "rename or drop that column first");
+                goto fail;
+            }
+    if (!(o = ofile_open(out, &e)))
+        goto fail;
+    FILE *fp = ofile_fp(o);
+    for (size_t c = 0; c < ncols; c++)
+        cell(fp, csv_colname(r, c), c == 0);
+    cell(fp, "predicted", 0);
+    cell(fp, "confidence", 0);
+    cell(fp, "route", 0);
+    for (long t = 2; t <= top; t++) {
+        char h[48];
+        snprintf(h, sizeof h, "label_%ld", t);
+        cell(fp, h, 0);
+        snprintf(h, sizeof h, "confidence_%ld", t);
+        cell(fp, h, 0);
+    }
+    if (explain)
+        cell(fp, "evidence", 0);
+    fputs("\r\n", fp);
+
+    j.pipe = m.pipe;
+    j.m = &m;
+    j.ncols = ncols;
+    j.ntextcol = ntext;
+    j.textcol = textcol;
+    j.top = (size_t)top;
+    j.explain = (size_t)explain;
+    j.cut = cut;
+    j.cells = xcalloc(xmul(BATCH, ncols), sizeof *j.cells);
+    j.label = xcalloc(BATCH, sizeof *j.label);
+    j.prob = xcalloc(xmul(BATCH, m.k), sizeof *j.prob);
+    j.empty = xcalloc(BATCH, sizeof *j.empty);
+    j.why = xcalloc(BATCH, sizeof *j.why);
+    for (;;) {
+        int got = 0;
+        j.n = 0;
+        while (j.n < BATCH && (got = csv_next(r, &e)) == 1) {
+            for (size_t c = 0; c < ncols; c++)
+                j.cells[j.n * ncols + c] = xstrndup(csv_field(r, c), csv_field_len(r, c));
+            j.n++;
+        }
+        if (got < 0)
+            goto fail;
+        run_batch(&j, da.threads);
+        write_batch(fp, &j, &routed, &review);
+        rows += j.n;
+        for (size_t q = 0; q < j.n * ncols; q++)
+            free(j.cells[q]);
+        for (size_t q = 0; q < j.n; q++) {
+            free(j.why[q]);
+            j.why[q] = NULL;
+        }
+        j.n = 0;
+        if (got == 0)
+            break;
+    }
+    if (ofile_commit(o, &e) < 0) {
+        o = NULL;
+        goto fail;
+    }
+    o = NULL;
+    if (csv_replaced(r))
+        cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", in, csv_replaced(r));
+    cli_note("%zu rows: %zu routed automatically, %zu to review (cut-off %.3f)", rows, routed, review, cut);
+    cli_note("note: a classifier misroutes some tickets; keep a person on the 'review' route and watch "
+             "each queue's precision over time (README, Cautions)");
+    goto done;
+fail:
+    rc = cli_fail(&e);
+done:
+    for (size_t q = 0; j.cells && q < j.n * j.ncols; q++)
+        free(j.cells[q]);
+    for (size_t q = 0; j.why && q < j.n; q++)
+        free(j.why[q]);
+    free(j.cells);
+    free(j.label);
+    free(j.prob);
+    free(j.empty);
+    free(j.why);
+    free(textcol);
+    ofile_abort(o);
+    csv_close(r);
+    model_release(&m);
+    vecset_close(vs);
+    return rc;
+}

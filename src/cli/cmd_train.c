@@ -1,0 +1,179 @@
+/* cmd_train.c -- `vecsift train`: fit a pipeline on every labelled row and
+ * write the model file. */
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "commands.h"
+#include "common.h"
+#include "vecsift/err.h"
+#include "vecsift/model.h"
+#include "vecsift/ofile.h"
+#include "vecsift/pipeline.h"
+#include "vecsift/vecset.h"
+#include "vecsift/xalloc.h"
+
+static const struct cli_opt opts[] = {
+    { "output", 'o', "<file>", "where to write the model (required; JSON)" },
+    PIPELINE_OPTIONS,
+    DATA_OPTIONS,
+    { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict (default: none)" },
+    RUN_OPTIONS,
+    { NULL, 0, NULL, NULL }
+};
+
+const struct cli_cmd cmd_train_info = {
+    "train", "[options] DATA.csv -o MODEL.json",
+    "fit a classifier on every labelled row and write the model file",
+    opts,
+    "The model stores the tokeniser settings, the fitted features (idf table,\n"
+    "scaler, SIF component), the classifier, the labels and the fingerprint of\n"
+    "the vector set; predict refuses other vectors.  It also stores words from\n"
+    "the training texts: treat the model file as personal data wherever those\n"
+    "texts are, under the applicable law and your organisation's policy.\n"
+    "Measure before you deploy: 'vecsift evaluate' with the same options."
+};
+
+/* Labels with a single row cannot be learned (nor evaluated): refuse. */
+static int check_labels(const struct corpus *c, size_t *rows_per, struct err *e)
+{
+    for (size_t i = 0; i < c->ds.n; i++)
+        rows_per[c->ds.y[i]]++;
+    if (c->ds.nlabels < 2) {
+        err_set(e, c->ds.path, 0, "only one label ('%s'); a classifier needs two or more",
+                c->ds.nlabels ? c->ds.labels[0] : "");
+        return -1;
+    }
+    for (size_t k = 0; k < c->ds.nlabels; k++)
+        if (rows_per[k] < 2) {
+            err_set(e, c->ds.path, 0, "label '%s' has only %zu row; a classifier cannot learn it from one example",
+                    c->ds.labels[k], rows_per[k]);
+            return err_hint(e, "label more examples of it, or merge it into a related label");
+        }
+    return 0;
+}
+
+int cmd_train(int argc, char **argv)
+{
+    const struct cli_cmd *cmd = &cmd_train_info;
+    struct data_args da;
+    struct fit_args fa;
+    data_args_init(&da);
+    fit_args_init(&fa);
+    const char *out = NULL;
+    double review = -1;
+    struct cli_parser p;
+    cli_parser_init(&p, cmd, argc, argv);
+    int rc = ERR_OK, i;
+    const char *val;
+    while ((i = cli_next(&p, &val)) >= 0) {
+        const char *name = opt_name(cmd, i);
+        int t = data_args_option(&da, cmd, name, val);
+        if (t == 0)
+            t = fit_args_option(&fa, cmd, name, val);
+        if (t < 0) {
+            cli_parser_release(&p);
+            return ERR_INPUT;
+        }
+        if (t > 0)
+            continue;
+        if (strcmp(name, "output") == 0)
+            out = val;
+        else if (strcmp(name, "review-below") == 0 && cli_double(cmd, name, val, 0, 1, &review) < 0) {
+            cli_parser_release(&p);
+            return ERR_INPUT;
+        }
+    }
+    if (i == CLI_HELP || i == CLI_FAIL) {
+        cli_parser_release(&p);
+        return i == CLI_HELP ? ERR_OK : ERR_INPUT;
+    }
+    if (p.npos != 1 || !out) {
+        rc = cli_usage(cmd, p.npos != 1 ? "train takes one data file" : "train needs -o MODEL.json");
+        cli_parser_release(&p);
+        return rc;
+    }
+    const char *data = p.pos[0];
+    fa.spec.seed = da.seed;
+
+    struct err e = ERR_INIT;
+    struct corpus c;
+    memset(&c, 0, sizeof c);
+    struct vecset *vs = NULL;
+    struct model m = MODEL_INIT;
+    size_t *rows_per = NULL, *rows = NULL;
+    const char *ins[] = { data, fa.vectors };
+    if (ofile_check_distinct(out, ins, 2, &e) < 0)
+        goto fail;
+    struct dataset_options dopt;
+    data_args_dataset(&da, 1, &dopt);
+    if (corpus_load(&c, data, &dopt, &da.text, &e) < 0)
+        goto fail;
+    rows_per = xcalloc(c.ds.nlabels ? c.ds.nlabels : 1, sizeof *rows_per);
+    if (check_labels(&c, rows_per, &e) < 0)
+        goto fail;
+    if (fit_args_open_vectors(&fa, &vs, &e) < 0)
+        goto fail;
+    if (c.ds.replaced)
+        cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", data, c.ds.replaced);
+    if (c.empty_docs)
+        cli_warn("%s: %zu rows have no words in the text columns", data, c.empty_docs);
+
+    rows = xcalloc(c.ds.n, sizeof *rows);
+    for (size_t r = 0; r < c.ds.n; r++)
+        rows[r] = r;
+    struct pipeline_fit_info info;
+    m.pipe = pipeline_fit(&fa.spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
+    if (!m.pipe)
+        goto fail;
+    if (!info.converged)
+        cli_warn("logistic regression stopped at the iteration cap (%d) before reaching its tolerance; "
+                 "raise --max-iter or lower --C", info.iters);
+    if (info.tiny_label)
+        cli_warn("a label has fewer than 3 rows: the SVM's probabilities for it are unreliable");
+
+    m.k = c.ds.nlabels;
+    m.labels = xcalloc(m.k, sizeof *m.labels);
+    for (size_t k = 0; k < m.k; k++)
+        m.labels[k] = xstrdup(c.ds.labels[k]);
+    m.text = da.text;
+    m.ntext = dopt.ntext;
+    m.text_cols = xcalloc(m.ntext, sizeof *m.text_cols);
+    for (size_t t = 0; t < m.ntext; t++)
+        m.text_cols[t] = xstrdup(dopt.text_cols[t]);
+    m.label_col = xstrdup(dopt.label_col);
+    if (vs) {
+        m.vectors_path = xstrdup(fa.vectors);
+        m.vectors_fp = vecset_fingerprint(vs);
+    }
+    m.data_path = xstrdup(data);
+    m.data_fp = model_data_fingerprint(c.ds.text, c.ds.label, c.ds.n);
+    m.rows = c.ds.n;
+    m.label_rows = rows_per;
+    rows_per = NULL;
+    m.review_below = review;
+    if (model_save(&m, out, &e) < 0)
+        goto fail;
+
+    if (!cli_quiet) {
+        fprintf(stderr, "trained %s on %zu rows, %zu labels, pooling %s", pipeline_classifier_name(fa.spec.clf),
+                c.ds.n, m.k, features_pool_name(fa.spec.feat.pool));
+        if (info.stats.tokens)
+            fprintf(stderr, "; %.1f%% of tokens %s", 100.0 * (double)info.stats.with_vector / (double)info.stats.tokens,
+                    vs ? "had a vector" : "were in the vocabulary");
+        fprintf(stderr, "\nmodel written to %s\n", out);
+        fprintf(stderr, "note: the model holds words from the training texts; treat it as personal data under "
+                        "the applicable law and your policy\n");
+    }
+    goto done;
+fail:
+    rc = cli_fail(&e);
+done:
+    free(rows);
+    free(rows_per);
+    model_release(&m);
+    vecset_close(vs);
+    corpus_release(&c);
+    cli_parser_release(&p);
+    return rc;
+}

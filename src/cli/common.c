@@ -1,0 +1,141 @@
+/* common.c -- shared options of the data-reading commands (see common.h). */
+#include "common.h"
+
+#include <string.h>
+#include <unistd.h>
+
+#include "vecsift/err.h"
+#include "vecsift/vecset.h"
+
+int cores(void)
+{
+    long n = sysconf(_SC_NPROCESSORS_ONLN);
+    return n < 1 ? 1 : n > 256 ? 256 : (int)n;
+}
+
+void data_args_init(struct data_args *a)
+{
+    memset(a, 0, sizeof *a);
+    struct csv_options c = CSV_OPTIONS_INIT;
+    struct text_options t = TEXT_OPTIONS_INIT;
+    a->csv = c;
+    a->text = t;
+    a->threads = cores();
+    a->seed = 1;
+}
+
+int data_args_option(struct data_args *a, const struct cli_cmd *cmd, const char *name, const char *val)
+{
+    long v;
+    if (strcmp(name, "text-col") == 0) {
+        if (a->ntext == MAX_TEXT_COLS) {
+            cli_usage(cmd, "at most %d --text-col options", MAX_TEXT_COLS);
+            return -1;
+        }
+        a->text_cols[a->ntext++] = val;
+    } else if (strcmp(name, "label-col") == 0) {
+        a->label_col = val;
+    } else if (strcmp(name, "group-col") == 0) {
+        a->group_col = val;
+    } else if (strcmp(name, "encoding") == 0) {
+        if (csv_encoding_parse(val, &a->csv.encoding) < 0) {
+            cli_usage(cmd, "option '--encoding' takes utf-8, windows-1252 or latin-1, not '%s'", val);
+            return -1;
+        }
+    } else if (strcmp(name, "replace-invalid") == 0) {
+        a->csv.replace_invalid = 1;
+    } else if (strcmp(name, "keep-accents") == 0) {
+        a->text.keep_accents = 1;
+    } else if (strcmp(name, "mask-numbers") == 0) {
+        a->text.mask_number = 1;
+    } else if (strcmp(name, "keep-emails") == 0) {
+        a->text.mask_email = a->text.mask_url = 0;
+    } else if (strcmp(name, "seed") == 0) {
+        if (cli_long(cmd, name, val, 0, 0x7fffffffffffffffL, &v) < 0)
+            return -1;
+        a->seed = (uint64_t)v;
+    } else if (strcmp(name, "threads") == 0) {
+        if (cli_long(cmd, name, val, 1, 256, &v) < 0)
+            return -1;
+        a->threads = (int)v;
+    } else if (strcmp(name, "quiet") == 0) {
+        cli_quiet = 1;
+    } else {
+        return 0;
+    }
+    return 1;
+}
+
+void data_args_dataset(const struct data_args *a, int labelled, struct dataset_options *o)
+{
+    static const char *const default_text[] = { "text" };
+    memset(o, 0, sizeof *o);
+    o->text_cols = a->ntext ? a->text_cols : default_text;
+    o->ntext = a->ntext ? a->ntext : 1;
+    o->label_col = labelled ? (a->label_col ? a->label_col : "label") : NULL;
+    o->group_col = a->group_col;
+    o->csv = a->csv;
+}
+
+void fit_args_init(struct fit_args *f)
+{
+    struct pipeline_spec s = PIPELINE_SPEC_INIT;
+    f->vectors = NULL;
+    f->spec = s;
+}
+
+int fit_args_option(struct fit_args *f, const struct cli_cmd *cmd, const char *name, const char *val)
+{
+    long v;
+    if (strcmp(name, "vectors") == 0) {
+        f->vectors = val;
+    } else if (strcmp(name, "pool") == 0) {
+        if (features_pool_parse(val, &f->spec.feat.pool) < 0) {
+            cli_usage(cmd, "option '--pool' takes mean, tfidf, sif or bow, not '%s'", val);
+            return -1;
+        }
+    } else if (strcmp(name, "classifier") == 0) {
+        if (pipeline_classifier_parse(val, &f->spec.clf) < 0) {
+            cli_usage(cmd, "option '--classifier' takes logreg, svm-linear or svm-rbf, not '%s'", val);
+            return -1;
+        }
+    } else if (strcmp(name, "C") == 0) {
+        if (cli_double(cmd, name, val, 1e-9, 1e9, &f->spec.C) < 0)
+            return -1;
+    } else if (strcmp(name, "gamma") == 0) {
+        if (cli_double(cmd, name, val, 1e-12, 1e9, &f->spec.gamma) < 0)
+            return -1;
+    } else if (strcmp(name, "class-weight") == 0) {
+        if (strcmp(val, "balanced") == 0)
+            f->spec.balanced = 1;
+        else if (strcmp(val, "none") == 0)
+            f->spec.balanced = 0;
+        else {
+            cli_usage(cmd, "option '--class-weight' takes none or balanced, not '%s'", val);
+            return -1;
+        }
+    } else if (strcmp(name, "sublinear-tf") == 0) {
+        f->spec.feat.sublinear_tf = 1;
+    } else if (strcmp(name, "max-iter") == 0) {
+        if (cli_long(cmd, name, val, 1, 1000000, &v) < 0)
+            return -1;
+        f->spec.max_iter = (int)v;
+    } else {
+        return 0;
+    }
+    return 1;
+}
+
+int fit_args_open_vectors(const struct fit_args *f, struct vecset **vs, struct err *e)
+{
+    *vs = NULL;
+    if (f->spec.feat.pool == POOL_BOW)
+        return 0;
+    if (!f->vectors) {
+        err_set(e, NULL, 0, "pooling '%s' needs word vectors", features_pool_name(f->spec.feat.pool));
+        return err_hint(e, "pass --vectors FILE.vecs (see 'vecsift vectors pack' and 'vecsift vectors learn'), "
+                           "or use --pool bow");
+    }
+    *vs = vecset_open(f->vectors, e);
+    return *vs ? 0 : -1;
+}

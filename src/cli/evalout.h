@@ -1,0 +1,65 @@
+/* evalout.h -- what evaluate writes: the terminal summary, the JSON of
+ * DESIGN.md ("Evaluate JSON"), the out-of-fold predictions CSV, and the
+ * cut-off advice.  Shared by evaluate, train (summary stored in the model)
+ * and demo.
+ */
+#ifndef VECSIFT_CLI_EVALOUT_H
+#define VECSIFT_CLI_EVALOUT_H
+
+#include <stdio.h>
+
+#include "common.h"
+#include "vecsift/cv.h"
+
+struct cJSON;
+struct err;
+
+/* What was run, for headers and the JSON's "settings". */
+struct eval_setup {
+    const char *data;
+    const struct data_args *da;
+    const struct fit_args *fa;
+    const struct cv_params *cp;
+    double target;          /* precision target for the cut-off advice */
+};
+
+struct eval_cut {
+    int reachable;
+    double threshold, precision, coverage;
+};
+
+/* The smallest confidence cut-off whose pooled out-of-fold precision
+ * reaches 'target', and the share of rows it routes automatically. */
+void evalout_cut(const struct cv_result *r, double target, struct eval_cut *out);
+
+/* The evaluation as a JSON object (caller deletes). */
+struct cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const struct eval_setup *s);
+
+/* The terminal summary. */
+void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *c, const struct eval_setup *s);
+
+/* Label counts before any fitting, with the rare-label policy. */
+void evalout_label_table(FILE *fp, const struct corpus *c, int folds);
+
+/* Rows whose token sequences are identical: returns how many rows repeat an
+ * earlier one; '*conflicting' how many of those carry another label. */
+size_t evalout_duplicates(const struct corpus *c, size_t *conflicting);
+
+/* Out-of-fold predictions CSV: row, repeat, fold, label, predicted,
+ * confidence, prob:LABEL for every label. */
+int evalout_predictions(const char *path, const struct cv_result *r, const struct corpus *c, struct err *e);
+
+/* Write a JSON object to 'path' through ofile. */
+int evalout_write_json(const char *path, const struct cJSON *obj, struct err *e);
+
+/* "logreg on tfidf-pooled vectors (FILE)" and similar. */
+void evalout_describe(const struct fit_args *fa, char *buf, size_t n);
+
+
+
+/* The self-contained HTML report: confusion heat map, per-label bars with
+ * spread, precision-coverage curve with the chosen cut-off, cautions.
+ * (evalreport.c) */
+int evalout_html(const char *path, const struct cv_result *r, const struct corpus *c, const struct eval_setup *s,
+                 struct err *e);
+#endif

@@ -1,0 +1,355 @@
+/* cv.c -- repeated stratified k-fold cross-validation of a pipeline, with
+ * optional nested parameter search (see cv.h).
+ *
+ * N = rows, K = labels, R = repeats, F = folds per repeat.
+ */
+#include "vecsift/cv.h"
+
+#include <math.h>
+#include <pthread.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include "vecsift/corpus.h"
+#include "vecsift/err.h"
+#include "vecsift/par.h"
+#include "vecsift/rng.h"
+#include "vecsift/vecset.h"
+#include "vecsift/xalloc.h"
+
+static double now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static int argmax(const double *p, size_t k)
+{
+    size_t b = 0;
+    for (size_t j = 1; j < k; j++)
+        if (p[j] > p[b])
+            b = j;
+    return (int)b;
+}
+
+/* ---- nested search ---- */
+
+/* Macro-F1 of spec 's' by inner k-fold over rows[0..n). */
+static int inner_score(const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs,
+                       const size_t *rows, size_t n, const struct folds *fo, double *score, struct err *e)
+{
+    size_t K = c->ds.nlabels;
+    metrics *m = metrics_new((int)K);
+    size_t *tr = xcalloc(n, sizeof *tr), *te = xcalloc(n, sizeof *te);
+    double *P = xcalloc(xmul(n, K), sizeof *P);
+    int rc = 0;
+    for (int f = 0; f < fo->k && rc == 0; f++) {
+        size_t ntr = 0, nte = 0;
+        for (size_t i = 0; i < n; i++) {
+            if (fo->fold[i] == f)
+                te[nte++] = rows[i];
+            else
+                tr[ntr++] = rows[i];
+        }
+        pipeline *p = pipeline_fit(s, &c->docs, c->ds.y, K, tr, ntr, vs, NULL, e);
+        if (!p) {
+            rc = -1;
+            break;
+        }
+        pipeline_proba(p, &c->docs, te, nte, P, NULL);
+        for (size_t i = 0; i < nte; i++)
+            metrics_add(m, c->ds.y[te[i]], argmax(P + i * K, K), P + i * K, NULL);
+        pipeline_free(p);
+    }
+    if (rc == 0) {
+        struct metrics_report rep = METRICS_REPORT_INIT;
+        metrics_compute(m, &rep);
+        *score = rep.macro_f1;
+        metrics_report_release(&rep);
+    }
+    metrics_free(m);
+    free(tr);
+    free(te);
+    free(P);
+    return rc;
+}
+
+int cv_search(const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs, const size_t *rows,
+              size_t n, int inner_folds, uint64_t seed, struct pipeline_spec *best, struct err *e)
+{
+    size_t K = c->ds.nlabels;
+    int *lab = xcalloc(n, sizeof *lab);
+    size_t *cnt = xcalloc(K, sizeof *cnt);
+    for (size_t i = 0; i < n; i++) {
+        lab[i] = c->ds.y[rows[i]];
+        cnt[lab[i]]++;
+    }
+    size_t minc = (size_t)-1;
+    for (size_t k = 0; k < K; k++)
+        if (cnt[k] && cnt[k] < minc)
+            minc = cnt[k];
+    free(cnt);
+    int kin = inner_folds < 2 ? 2 : inner_folds;
+    if ((size_t)kin > minc)
+        kin = (int)minc;
+    *best = *s;
+    if (kin < 2) {
+        free(lab);
+        err_set(e, c->ds.path, 0, "too few rows of some label for a parameter search inside the training rows");
+        return err_hint(e, "drop --search, or label more examples of the rarest label");
+    }
+    struct rng r;
+    rng_seed(&r, seed);
+    struct folds fo = FOLDS_INIT;
+    if (folds_make(&fo, lab, n, (int)K, (const char *const *)c->ds.labels, kin, 1, &r, e) < 0) {
+        free(lab);
+        return -1;
+    }
+    static const double gridC[] = CV_GRID_C, gridG[] = CV_GRID_GAMMA_FACTOR;
+    size_t nC = sizeof gridC / sizeof gridC[0];
+    size_t nG = s->clf == CLF_SVM_RBF ? sizeof gridG / sizeof gridG[0] : 1;
+    double best_score = -1;
+    int rc = 0;
+    /* Grid order: C ascending, then gamma factor ascending; a tie keeps the
+     * earlier (more regularised) setting. */
+    for (size_t a = 0; a < nC && rc == 0; a++)
+        for (size_t g = 0; g < nG && rc == 0; g++) {
+            struct pipeline_spec t = *s;
+            t.C = gridC[a];
+            if (s->clf == CLF_SVM_RBF)
+                t.gamma = -gridG[g];
+            double sc;
+            if (inner_score(&t, c, vs, rows, n, &fo, &sc, e) < 0) {
+                rc = -1;
+                break;
+            }
+            if (sc > best_score + 1e-12) {
+                best_score = sc;
+                *best = t;
+            }
+        }
+    folds_release(&fo);
+    free(lab);
+    return rc;
+}
+
+/* ---- the outer loop ---- */
+
+struct task_out {
+    struct err e;
+    int failed;
+    int unconverged, tiny;
+    size_t ntrain;
+    double C, gamma;
+    struct features_stats st;
+};
+
+struct ctx {
+    const struct pipeline_spec *s;
+    const struct corpus *c;
+    const struct vecset *vs;
+    const struct cv_params *p;
+    struct cv_result *r;
+    struct rng base;
+    struct task_out *out;   /* (R * F) */
+};
+
+static void one_fold(void *arg, size_t task)
+{
+    struct ctx *x = arg;
+    struct cv_result *r = x->r;
+    struct task_out *o = &x->out[task];
+    size_t N = r->n, K = r->k, rep = task / (size_t)r->folds;
+    int f = (int)(task % (size_t)r->folds);
+    const int *fold = folds_repeat(&r->f, rep);
+    size_t *tr = xcalloc(N, sizeof *tr), *te = xcalloc(N, sizeof *te);
+    size_t ntr = 0, nte = 0;
+    for (size_t i = 0; i < N; i++) {
+        if (fold[i] == f)
+            te[nte++] = i;
+        else
+            tr[ntr++] = i;
+    }
+    struct rng tr_rng;
+    rng_child(&x->base, 1000003ULL * (rep + 1) + (uint64_t)f, &tr_rng);
+    if (x->p->train_fraction < 1.0) {
+        size_t *sub = xcalloc(ntr ? ntr : 1, sizeof *sub);
+        size_t m = folds_subsample(tr, ntr, x->c->ds.y, (int)K, x->p->train_fraction, &tr_rng, sub, &o->e);
+        if (m == 0) {
+            o->failed = 1;
+            free(sub);
+            goto out;
+        }
+        free(tr);
+        tr = sub;
+        ntr = m;
+    }
+    o->ntrain = ntr;
+    struct pipeline_spec spec = *x->s;
+    if (x->p->search &&
+        cv_search(x->s, x->c, x->vs, tr, ntr, x->p->inner_folds, rng_next(&tr_rng), &spec, &o->e) < 0) {
+        o->failed = 1;
+        goto out;
+    }
+    o->C = spec.C;
+    o->gamma = spec.gamma < 0 ? -spec.gamma : 1.0;
+    struct pipeline_fit_info info;
+    pipeline *pl = pipeline_fit(&spec, &x->c->docs, x->c->ds.y, K, tr, ntr, x->vs, &info, &o->e);
+    if (!pl) {
+        o->failed = 1;
+        goto out;
+    }
+    o->unconverged = !info.converged;
+    o->tiny = info.tiny_label;
+    double *P = xcalloc(xmul(nte ? nte : 1, K), sizeof *P);
+    pipeline_proba(pl, &x->c->docs, te, nte, P, &o->st);
+    double *dst = r->proba + rep * N * K;
+    for (size_t i = 0; i < nte; i++)
+        memcpy(dst + te[i] * K, P + i * K, K * sizeof *P);
+    free(P);
+    pipeline_free(pl);
+out:
+    free(tr);
+    free(te);
+}
+
+int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs,
+           const struct cv_params *p, struct err *e)
+{
+    memset(r, 0, sizeof *r);
+    double t0 = now();
+    size_t N = c->ds.n, K = c->ds.nlabels;
+    if (!c->ds.y) {
+        err_set(e, c->ds.path, 0, "cross-validation needs labelled rows");
+        return -1;
+    }
+    if (K < 2) {
+        err_set(e, c->ds.path, 0, "only one label ('%s'); there is nothing to tell apart", K ? c->ds.labels[0] : "");
+        return -1;
+    }
+    r->n = N;
+    r->k = K;
+    r->repeats = p->repeats;
+    r->folds = p->folds;
+    struct ctx x = { s, c, vs, p, r, { { 0 } }, NULL };
+    rng_seed(&x.base, p->seed);
+    int rc;
+    if (p->group)
+        rc = folds_make_grouped(&r->f, c->ds.y, p->group, N, (int)K, p->n_groups, (const char *const *)c->ds.labels,
+                                p->folds, p->repeats, &x.base, e);
+    else
+        rc = folds_make(&r->f, c->ds.y, N, (int)K, (const char *const *)c->ds.labels, p->folds, p->repeats, &x.base,
+                        e);
+    if (rc < 0) {
+        struct err in = *e; /* the folds module knows no file name: add it */
+        err_clear(e);
+        err_set(e, c->ds.path, 0, "%s", in.msg);
+        e->code = in.code;
+        if (in.hint[0])
+            err_hint(e, "%s", in.hint);
+        cv_release(r);
+        return -1;
+    }
+    size_t T = p->repeats * (size_t)p->folds;
+    r->proba = xcalloc(xmul(xmul(p->repeats, N), K), sizeof *r->proba);
+    x.out = xcalloc(T, sizeof *x.out);
+    par_for(p->threads, T, one_fold, &x);
+
+    /* Report the failure of the first task in task order, whichever thread
+     * hit it first, so the message does not depend on scheduling. */
+    for (size_t t = 0; t < T; t++)
+        if (x.out[t].failed) {
+            *e = x.out[t].e;
+            free(x.out);
+            cv_release(r);
+            return -1;
+        }
+    if (p->search) {
+        r->chosen_C = xcalloc(T, sizeof *r->chosen_C);
+        if (s->clf == CLF_SVM_RBF)
+            r->chosen_gamma = xcalloc(T, sizeof *r->chosen_gamma);
+    }
+    double ntrain = 0;
+    for (size_t t = 0; t < T; t++) {
+        r->unconverged += x.out[t].unconverged;
+        r->tiny_label |= x.out[t].tiny;
+        r->held_out.tokens += x.out[t].st.tokens;
+        r->held_out.with_vector += x.out[t].st.with_vector;
+        r->held_out.empty_rows += x.out[t].st.empty_rows;
+        ntrain += (double)x.out[t].ntrain;
+        if (r->chosen_C)
+            r->chosen_C[t] = x.out[t].C;
+        if (r->chosen_gamma)
+            r->chosen_gamma[t] = x.out[t].gamma;
+    }
+    r->train_rows = (size_t)llround(ntrain / (double)T);
+    free(x.out);
+
+    /* Summaries, in a fixed order. */
+    r->pred = xcalloc(xmul(p->repeats, N), sizeof *r->pred);
+    r->all = metrics_new((int)K);
+    r->per_fold = xcalloc(T, sizeof *r->per_fold);
+    for (size_t rep = 0; rep < p->repeats; rep++) {
+        const int *fold = folds_repeat(&r->f, rep);
+        for (int f = 0; f < p->folds; f++) {
+            metrics *m = metrics_new((int)K);
+            for (size_t i = 0; i < N; i++) {
+                if (fold[i] != f)
+                    continue;
+                const double *pr = r->proba + (rep * N + i) * K;
+                int pred = argmax(pr, K);
+                r->pred[rep * N + i] = pred;
+                metrics_add(m, c->ds.y[i], pred, pr, NULL);
+            }
+            metrics_compute(m, &r->per_fold[rep * (size_t)p->folds + (size_t)f]);
+            metrics_free(m);
+        }
+        for (size_t i = 0; i < N; i++)
+            metrics_add(r->all, c->ds.y[i], r->pred[rep * N + i], r->proba + (rep * N + i) * K, NULL);
+    }
+    metrics_compute(r->all, &r->pooled);
+    if (metrics_summarize(r->per_fold, T, &r->spread, e) < 0) {
+        cv_release(r);
+        return -1;
+    }
+    r->seconds = now() - t0;
+    return 0;
+}
+
+void cv_release(struct cv_result *r)
+{
+    size_t T = r->repeats * (size_t)r->folds;
+    folds_release(&r->f);
+    free(r->proba);
+    free(r->pred);
+    free(r->chosen_C);
+    free(r->chosen_gamma);
+    for (size_t t = 0; r->per_fold && t < T; t++)
+        metrics_report_release(&r->per_fold[t]);
+    free(r->per_fold);
+    metrics_report_release(&r->pooled);
+    metrics_fold_summary_release(&r->spread);
+    metrics_free(r->all);
+    memset(r, 0, sizeof *r);
+}
+
+size_t cv_fold_scores(const struct cv_result *r, const char *name, double *out)
+{
+    size_t T = r->repeats * (size_t)r->folds;
+    for (size_t t = 0; t < T; t++) {
+        const struct metrics_report *m = &r->per_fold[t];
+        if (strcmp(name, "macro_f1") == 0)
+            out[t] = m->macro_f1;
+        else if (strcmp(name, "accuracy") == 0)
+            out[t] = m->accuracy;
+        else if (strcmp(name, "weighted_f1") == 0)
+            out[t] = m->weighted_f1;
+        else if (strcmp(name, "log_loss") == 0)
+            out[t] = m->log_loss;
+        else
+            return 0;
+    }
+    return T;
+}

@@ -1,0 +1,366 @@
+/* lbfgs.c -- limited-memory BFGS with a strong-Wolfe line search.
+ *
+ * References (all from J. Nocedal and S. J. Wright, "Numerical
+ * Optimization", 2nd ed., Springer, 2006):
+ *   Algorithm 7.4  L-BFGS two-loop recursion (the product H_k grad f_k)
+ *   Algorithm 7.5  L-BFGS, with H_k^0 = gamma_k I, gamma_k from eq. (7.20)
+ *   Algorithm 3.5  line search for the strong Wolfe conditions (3.7)
+ *   Algorithm 3.6  zoom, trial steps by cubic interpolation, eq. (3.59)
+ * Constants c1 = 1e-4 and c2 = 0.9 are the values the book recommends for
+ * quasi-Newton methods (section 3.1).  The optimiser knows nothing about the
+ * function beyond values and gradients; see linear.c for its main user.
+ */
+#include "vecsift/lbfgs.h"
+
+#include <assert.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "vecsift/xalloc.h"
+
+#define C1 1e-4
+#define C2 0.9
+/* Function evaluations one line search may spend before giving up.
+ * Common practice (a few tens; SciPy's L-BFGS-B allows 20 by default,
+ * from memory). */
+#define LS_MAX_EVALS 40
+/* Largest step Algorithm 3.5 may try (alpha_max). */
+#define ALPHA_MAX 1e20
+/* Relative size of rounding noise in f: see approx_wolfe(). */
+#define F_NOISE 1e-12
+
+static double dot(size_t n, const double *a, const double *b)
+{
+    double s = 0;
+    for (size_t j = 0; j < n; j++)
+        s += a[j] * b[j];
+    return s;
+}
+
+static double norm_inf(size_t n, const double *a)
+{
+    double m = 0;
+    for (size_t j = 0; j < n; j++)
+        if (fabs(a[j]) > m)
+            m = fabs(a[j]);
+    return m;
+}
+
+/* ---- line search (Algorithms 3.5 and 3.6) ---- */
+
+/* phi(a) = f(x + a d) along the search direction, evaluated into xt, gt. */
+struct line {
+    size_t n;
+    const double *x, *d;
+    double *xt, *gt;
+    lbfgs_eval fn;
+    void *ctx;
+    int evals;
+    int approx;    /* the accepted step met only approx_wolfe() */
+};
+
+struct pt {
+    double a, f, df;    /* step, phi(a), phi'(a) */
+};
+
+static int strong_wolfe(struct pt p0, struct pt t)
+{
+    return t.f <= p0.f + C1 * t.a * p0.df && fabs(t.df) <= -C2 * p0.df;
+}
+
+/* Near a minimum, phi(a) - phi(0) falls below the rounding noise of f and
+ * the sufficient decrease test becomes a coin toss, so no step would ever
+ * be accepted.  The remedy of W. W. Hager and H. Zhang (2005), "A new
+ * conjugate gradient method with guaranteed descent and an efficient line
+ * search" (SIAM J. Optim. 16(1)), is to accept a step that meets the
+ * curvature condition while f has not risen beyond that noise; their
+ * gradient form of sufficient decrease, phi'(a) <= (1 - 2 c1) |phi'(0)|,
+ * is implied by |phi'(a)| <= c2 |phi'(0)| for c2 = 0.9.  Only tried after the
+ * strong Wolfe test fails; such steps are flagged to the watcher, and the
+ * ftol test then usually ends the run. */
+static int approx_wolfe(struct pt p0, struct pt t)
+{
+    return t.f <= p0.f + F_NOISE * fabs(p0.f) && fabs(t.df) <= -C2 * p0.df;
+}
+
+static struct pt phi(struct line *l, double a)
+{
+    for (size_t j = 0; j < l->n; j++)
+        l->xt[j] = l->x[j] + a * l->d[j];
+    struct pt p = { a, l->fn(l->ctx, l->xt, l->gt), 0 };
+    l->evals++;
+    p.df = dot(l->n, l->gt, l->d);
+    /* A step into an overflow or a domain error counts as "too long":
+     * Armijo fails at f = inf, and zoom then shrinks the bracket. */
+    if (!isfinite(p.f) || !isfinite(p.df)) {
+        p.f = INFINITY;
+        p.df = NAN;
+    }
+    return p;
+}
+
+/* A trial step between lo.a and hi.a: the minimiser of the cubic
+ * interpolating phi and phi' at both ends (eq. 3.59), else of the quadratic
+ * through phi(lo), phi'(lo), phi(hi) (eq. 3.57 generalised to lo != 0),
+ * kept at least a tenth of the bracket away from either end so the bracket
+ * shrinks geometrically; bisection when neither model is usable. */
+static double interpolate(struct pt lo, struct pt hi)
+{
+    double t = NAN;
+    if (isfinite(hi.f) && isfinite(hi.df)) {
+        double d1 = lo.df + hi.df - 3 * (lo.f - hi.f) / (lo.a - hi.a);
+        double disc = d1 * d1 - lo.df * hi.df;
+        if (disc >= 0) {
+            double d2 = copysign(sqrt(disc), hi.a - lo.a);
+            double den = hi.df - lo.df + 2 * d2;
+            if (den != 0)
+                t = hi.a - (hi.a - lo.a) * (hi.df + d2 - d1) / den;
+        }
+    }
+    if (!isfinite(t) && isfinite(hi.f)) {
+        double w = hi.a - lo.a;
+        double curv = hi.f - lo.f - lo.df * w;
+        if (curv > 0)
+            t = lo.a - lo.df * w * w / (2 * curv);
+    }
+    double a = fmin(lo.a, hi.a), b = fmax(lo.a, hi.a), w = b - a;
+    if (!isfinite(t))
+        return a + 0.5 * w;
+    return fmin(fmax(t, a + 0.1 * w), b - 0.1 * w);
+}
+
+/* Algorithm 3.6.  'lo' satisfies sufficient decrease and has the lowest phi
+ * seen; the bracket [lo, hi] (either order) contains strong-Wolfe steps.
+ * Returns 1 with the accepted step in *out (the last point evaluated, so
+ * l->xt and l->gt hold it), or 0 when the budget ran out. */
+static int zoom(struct line *l, struct pt p0, struct pt lo, struct pt hi, struct pt *out)
+{
+    while (l->evals < LS_MAX_EVALS) {
+        double a = interpolate(lo, hi);
+        if (a == lo.a || a == hi.a)
+            return 0;   /* bracket below rounding */
+        struct pt t = phi(l, a);
+        if (approx_wolfe(p0, t) && !strong_wolfe(p0, t)) {
+            l->approx = 1;
+            *out = t;
+            return 1;
+        }
+        if (t.f > p0.f + C1 * a * p0.df || t.f >= lo.f) {
+            hi = t;
+        } else {
+            if (fabs(t.df) <= -C2 * p0.df) {
+                *out = t;
+                return 1;
+            }
+            if (t.df * (hi.a - lo.a) >= 0)
+                hi = lo;
+            lo = t;
+        }
+    }
+    return 0;
+}
+
+/* Algorithm 3.5 from the first trial step a1 > 0.  Returns 1 with the
+ * accepted step in *out (l->xt, l->gt hold x + a d and its gradient). */
+static int wolfe_search(struct line *l, struct pt p0, double a1, struct pt *out)
+{
+    struct pt prev = p0;
+    double a = a1;
+    for (int i = 1; l->evals < LS_MAX_EVALS; i++) {
+        struct pt t = phi(l, a);
+        if (approx_wolfe(p0, t) && !strong_wolfe(p0, t)) {
+            l->approx = 1;
+            *out = t;
+            return 1;
+        }
+        if (t.f > p0.f + C1 * a * p0.df || (i > 1 && t.f >= prev.f))
+            return zoom(l, p0, prev, t, out);
+        if (fabs(t.df) <= -C2 * p0.df) {
+            *out = t;
+            return 1;
+        }
+        if (t.df >= 0)
+            return zoom(l, p0, t, prev, out);
+        if (a >= ALPHA_MAX)
+            return 0;
+        /* Still descending with sufficient decrease: extrapolate.  The
+         * book leaves the choice in (a_i, a_max) open; a factor of 4 is
+         * common practice. */
+        prev = t;
+        a = fmin(4 * a, ALPHA_MAX);
+    }
+    return 0;
+}
+
+/* ---- L-BFGS (Algorithms 7.4 and 7.5) ---- */
+
+/* The last m pairs s_i = x_{i+1} - x_i, y_i = g_{i+1} - g_i in a ring. */
+struct memory {
+    size_t n;
+    int m, count, head;   /* oldest pair at head */
+    double *s, *y;        /* (m, n) */
+    double *rho;          /* (m), 1 / (y_i . s_i) */
+    double *alpha;        /* (m), scratch of the two-loop recursion */
+};
+
+/* d = -H_k g by the two-loop recursion (Algorithm 7.4); with no pairs
+ * stored, H_k = I. */
+static void direction(const struct memory *M, const double *g, double *d)
+{
+    size_t n = M->n;
+    for (size_t j = 0; j < n; j++)
+        d[j] = -g[j];
+    if (M->count == 0)
+        return;
+    for (int c = M->count - 1; c >= 0; c--) {
+        int i = (M->head + c) % M->m;
+        const double *s = M->s + (size_t)i * n, *y = M->y + (size_t)i * n;
+        double a = M->rho[i] * dot(n, s, d);
+        M->alpha[i] = a;
+        for (size_t j = 0; j < n; j++)
+            d[j] -= a * y[j];
+    }
+    /* H_k^0 = gamma_k I with gamma_k = s'y / y'y of the newest pair (7.20). */
+    int newest = (M->head + M->count - 1) % M->m;
+    const double *yn = M->y + (size_t)newest * n;
+    double gamma = 1.0 / (M->rho[newest] * dot(n, yn, yn));
+    for (size_t j = 0; j < n; j++)
+        d[j] *= gamma;
+    for (int c = 0; c < M->count; c++) {
+        int i = (M->head + c) % M->m;
+        const double *s = M->s + (size_t)i * n, *y = M->y + (size_t)i * n;
+        double beta = M->rho[i] * dot(n, y, d);
+        for (size_t j = 0; j < n; j++)
+            d[j] += s[j] * (M->alpha[i] - beta);
+    }
+}
+
+/* Store the pair (xt - x, gt - g), dropping the oldest when full.  A pair
+ * with s'y <= 0 would make H_k indefinite; the strong Wolfe conditions rule
+ * it out in exact arithmetic (s'y >= (c2 - 1) alpha phi'(0) > 0), so it is
+ * skipped only as a guard against rounding. */
+static void remember(struct memory *M, const double *x, const double *xt,
+                     const double *g, const double *gt)
+{
+    size_t n = M->n;
+    double sy = 0, yy = 0;
+    for (size_t j = 0; j < n; j++) {
+        double sj = xt[j] - x[j], yj = gt[j] - g[j];
+        sy += sj * yj;
+        yy += yj * yj;
+    }
+    if (!(sy > 1e-300 && yy > 0))
+        return;
+    int slot = M->count < M->m ? (M->head + M->count) % M->m : M->head;
+    double *s = M->s + (size_t)slot * n, *y = M->y + (size_t)slot * n;
+    for (size_t j = 0; j < n; j++) {
+        s[j] = xt[j] - x[j];
+        y[j] = gt[j] - g[j];
+    }
+    M->rho[slot] = 1.0 / sy;
+    if (M->count < M->m)
+        M->count++;
+    else
+        M->head = (M->head + 1) % M->m;
+}
+
+int lbfgs_minimize(size_t n, double *x, lbfgs_eval fn, void *ctx,
+                   const struct lbfgs_params *p, struct lbfgs_result *r)
+{
+    static const struct lbfgs_params defaults = LBFGS_PARAMS_INIT;
+    if (!p)
+        p = &defaults;
+    assert(n > 0 && p->m >= 1);
+    struct memory M = { n, p->m, 0, 0, NULL, NULL, NULL, NULL };
+    M.s = xcalloc(xmul((size_t)p->m, n), sizeof *M.s);
+    M.y = xcalloc(xmul((size_t)p->m, n), sizeof *M.y);
+    M.rho = xcalloc((size_t)p->m, sizeof *M.rho);
+    M.alpha = xcalloc((size_t)p->m, sizeof *M.alpha);
+    double *g = xcalloc(n, sizeof *g);
+    double *d = xcalloc(n, sizeof *d);
+    double *xt = xcalloc(n, sizeof *xt);
+    double *gt = xcalloc(n, sizeof *gt);
+
+    struct line l = { n, x, d, xt, gt, fn, ctx, 0, 0 };
+    double f = fn(ctx, x, g);
+    int evals = 1, iters = 0, status;
+    double gnorm = norm_inf(n, g);
+    if (!isfinite(f) || !isfinite(gnorm)) {
+        status = LBFGS_NO_STEP;
+        goto out;
+    }
+    for (;;) {
+        if (gnorm <= p->gtol) {
+            status = LBFGS_GRADIENT;
+            break;
+        }
+        if (iters >= p->max_iter) {
+            status = LBFGS_MAX_ITER;
+            break;
+        }
+        direction(&M, g, d);
+        double dphi0 = dot(n, g, d);
+        if (!(dphi0 < 0)) {
+            /* Rounding made H_k g useless: restart from steepest descent. */
+            M.count = M.head = 0;
+            direction(&M, g, d);
+            dphi0 = dot(n, g, d);
+        }
+        /* Quasi-Newton steps start at alpha = 1 (section 3.5); a steepest
+         * descent step, unscaled, first moves a unit distance (common
+         * practice). */
+        double a1 = M.count ? 1.0 : fmin(1.0, 1.0 / sqrt(-dphi0));
+        struct pt p0 = { 0, f, dphi0 }, acc;
+        l.evals = 0;
+        l.approx = 0;
+        int ok = wolfe_search(&l, p0, a1, &acc);
+        evals += l.evals;
+        if (!ok) {
+            if (M.count) {
+                M.count = M.head = 0;   /* retry once along -g */
+                continue;
+            }
+            status = LBFGS_NO_STEP;
+            break;
+        }
+        iters++;
+        remember(&M, x, xt, g, gt);
+        double fprev = f;
+        f = acc.f;
+        memcpy(x, xt, n * sizeof *x);
+        memcpy(g, gt, n * sizeof *g);
+        gnorm = norm_inf(n, g);
+        if (p->watch) {
+            struct lbfgs_step st = { iters, acc.a, p0.f, p0.df, acc.f, acc.df, gnorm, l.approx };
+            p->watch(p->watch_ctx, &st);
+        }
+        if (gnorm <= p->gtol) {
+            status = LBFGS_GRADIENT;
+            break;
+        }
+        double scale = fmax(fmax(fabs(fprev), fabs(f)), 1.0);
+        if (p->ftol > 0 && (fprev - f) / scale <= p->ftol) {
+            status = LBFGS_DECREASE;
+            break;
+        }
+    }
+out:
+    if (r) {
+        r->iters = iters;
+        r->evals = evals;
+        r->status = status;
+        r->converged = status == LBFGS_GRADIENT || status == LBFGS_DECREASE;
+        r->f = f;
+        r->gnorm = gnorm;
+    }
+    free(M.s);
+    free(M.y);
+    free(M.rho);
+    free(M.alpha);
+    free(g);
+    free(d);
+    free(xt);
+    free(gt);
+    return status;
+}

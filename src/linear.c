@@ -1,0 +1,226 @@
+/* linear.c -- multinomial logistic regression with an L2 penalty.
+ *
+ * The model is the multinomial logit (softmax) regression; see e.g.
+ * C. M. Bishop, "Pattern Recognition and Machine Learning" (Springer,
+ * 2006), section 4.3.4, for the gradient used here:
+ *     dJ/dw_k = w_k + C sum_i s_i (p_ik - [y_i = k]) x_i,
+ *     dJ/db_k =       C sum_i s_i (p_ik - [y_i = k]).
+ * The objective is written out in linear.h.  Minimisation is L-BFGS
+ * (lbfgs.c).  One pass over the rows computes the value and the gradient
+ * together; sparse rows cost only their stored entries (fmat.h).
+ */
+#include "vecsift/linear.h"
+
+#include <assert.h>
+#include <float.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "vecsift/err.h"
+#include "vecsift/fmat.h"
+#include "vecsift/lbfgs.h"
+#include "vecsift/xalloc.h"
+
+/* ---- the objective ---- */
+
+/* Per-row weights s_i (N): 1, or N / (K_present N_{y_i}) when balanced
+ * (the "balanced" heuristic of King and Zeng, 2001, "Logistic Regression
+ * in Rare Events Data", as scikit-learn defines it). */
+static double *row_weights(const int *y, size_t n, size_t k, int balanced)
+{
+    double *s = xcalloc(n, sizeof *s);
+    if (!balanced) {
+        for (size_t i = 0; i < n; i++)
+            s[i] = 1;
+        return s;
+    }
+    size_t *cnt = xcalloc(k, sizeof *cnt), present = 0;
+    for (size_t i = 0; i < n; i++) {
+        assert(y[i] >= 0 && (size_t)y[i] < k);
+        cnt[y[i]]++;
+    }
+    for (size_t c = 0; c < k; c++)
+        present += cnt[c] > 0;
+    for (size_t i = 0; i < n; i++)
+        s[i] = (double)n / ((double)present * (double)cnt[y[i]]);
+    free(cnt);
+    return s;
+}
+
+/* z <- softmax(z) in place (K), by subtracting the largest score first so
+ * exp() cannot overflow; returns log sum_c exp(z_c) of the input scores. */
+static double softmax_inplace(double *z, size_t k)
+{
+    double mx = z[0];
+    for (size_t c = 1; c < k; c++)
+        if (z[c] > mx)
+            mx = z[c];
+    double se = 0;
+    for (size_t c = 0; c < k; c++) {
+        z[c] = exp(z[c] - mx);
+        se += z[c];
+    }
+    for (size_t c = 0; c < k; c++)
+        z[c] /= se;
+    return mx + log(se);
+}
+
+struct problem {
+    const struct fmat *X;
+    const int *y;
+    const double *s;   /* (N) row weights */
+    size_t k, d;
+    double C;
+    double scale;      /* L-BFGS sees J * scale */
+    double *z;         /* (K) scratch */
+};
+
+/* J at theta = [W (K*D), b (K)]; grad (same layout) is filled. */
+static double objective(struct problem *P, const double *theta, double *grad)
+{
+    size_t k = P->k, d = P->d, kd = k * d;
+    const double *W = theta, *b = theta + kd;
+    double *gW = grad, *gb = grad + kd, *z = P->z;
+    memset(grad, 0, (kd + k) * sizeof *grad);
+    double loss = 0;
+    for (size_t i = 0; i < P->X->n; i++) {
+        int yi = P->y[i];
+        assert(yi >= 0 && (size_t)yi < k);
+        for (size_t c = 0; c < k; c++)
+            z[c] = fmat_dot(P->X, i, W + c * d) + b[c];
+        double zy = z[yi];
+        double lse = softmax_inplace(z, k);
+        loss += P->s[i] * (lse - zy);
+        for (size_t c = 0; c < k; c++) {
+            double r = P->s[i] * (z[c] - (c == (size_t)yi));
+            gb[c] += r;
+            fmat_axpy(P->X, i, r, gW + c * d);
+        }
+    }
+    double ww = 0;
+    for (size_t j = 0; j < kd; j++) {
+        ww += W[j] * W[j];
+        gW[j] = W[j] + P->C * gW[j];
+    }
+    for (size_t c = 0; c < k; c++)
+        gb[c] *= P->C;
+    return 0.5 * ww + P->C * loss;
+}
+
+static double objective_scaled(void *ctx, const double *theta, double *grad)
+{
+    struct problem *P = ctx;
+    double f = objective(P, theta, grad);
+    size_t n = P->k * P->d + P->k;
+    for (size_t j = 0; j < n; j++)
+        grad[j] *= P->scale;
+    return f * P->scale;
+}
+
+/* ---- API ---- */
+
+void linear_release(struct linear_model *m)
+{
+    if (!m)
+        return;
+    free(m->W);
+    free(m->b);
+    *m = (struct linear_model)LINEAR_MODEL_INIT;
+}
+
+int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_t k,
+               const struct linear_params *p, struct err *e)
+{
+    static const struct linear_params defaults = LINEAR_PARAMS_INIT;
+    if (!p)
+        p = &defaults;
+    linear_release(m);
+    if (k < 2)
+        return err_set(e, NULL, 0, "logistic regression needs at least 2 classes, got %zu", k);
+    if (X->n == 0)
+        return err_set(e, NULL, 0, "no training rows");
+    if (!(p->C > 0) || !isfinite(p->C))
+        return err_set(e, NULL, 0, "C must be a positive number, got %g", p->C);
+    for (size_t i = 0; i < X->n; i++) {
+        const double *v = fmat_row_values(X, i);
+        size_t nz = fmat_nnz_row(X, i);
+        for (size_t j = 0; j < nz; j++)
+            if (!isfinite(v[j]))
+                return err_set(e, NULL, 0, "training row %zu has a feature that is not a finite number (%g)",
+                               i + 1, v[j]);
+    }
+
+    size_t d = X->d, n = xmul(k, d) + k;
+    double *theta = xcalloc(n, sizeof *theta);
+    double *s = row_weights(y, X->n, k, p->balanced);
+    double ssum = 0;
+    for (size_t i = 0; i < X->n; i++)
+        ssum += s[i];
+    struct problem P = { X, y, s, k, d, p->C, 1.0 / (p->C * ssum), NULL };
+    P.z = xcalloc(k, sizeof *P.z);
+
+    /* ftol: stop once the relative decrease is a few dozen ulps, where the
+     * value carries no more information (64 * DBL_EPSILON; the choice
+     * scikit-learn passes to SciPy, from memory). */
+    struct lbfgs_params lp = LBFGS_PARAMS_INIT;
+    lp.max_iter = p->max_iter;
+    lp.gtol = p->tol;
+    lp.ftol = 64 * DBL_EPSILON;
+    struct lbfgs_result r;
+    lbfgs_minimize(n, theta, objective_scaled, &P, &lp, &r);
+
+    m->k = k;
+    m->d = d;
+    m->W = xcalloc(xmul(k, d), sizeof *m->W);
+    m->b = xcalloc(k, sizeof *m->b);
+    memcpy(m->W, theta, k * d * sizeof *m->W);
+    memcpy(m->b, theta + k * d, k * sizeof *m->b);
+    m->iters = r.iters;
+    m->converged = r.converged;
+    m->objective = r.f / P.scale;
+    free(P.z);
+    free(s);
+    free(theta);
+    return 0;
+}
+
+void linear_scores(const struct linear_model *m, const struct fmat *X, size_t i, double *z)
+{
+    assert(X->d == m->d);
+    for (size_t c = 0; c < m->k; c++)
+        z[c] = fmat_dot(X, i, m->W + c * m->d) + m->b[c];
+}
+
+void linear_proba(const struct linear_model *m, const struct fmat *X, size_t i, double *p)
+{
+    linear_scores(m, X, i, p);
+    softmax_inplace(p, m->k);
+}
+
+double linear_gradient(const struct linear_model *m, const struct fmat *X, const int *y,
+                       const struct linear_params *p, double *grad)
+{
+    assert(X->d == m->d);
+    size_t k = m->k, d = m->d;
+    double *theta = xcalloc(k * d + k, sizeof *theta);
+    memcpy(theta, m->W, k * d * sizeof *theta);
+    memcpy(theta + k * d, m->b, k * sizeof *theta);
+    double *s = row_weights(y, X->n, k, p->balanced);
+    struct problem P = { X, y, s, k, d, p->C, 1, NULL };
+    P.z = xcalloc(k, sizeof *P.z);
+    double f = objective(&P, theta, grad);
+    free(P.z);
+    free(s);
+    free(theta);
+    return f;
+}
+
+double linear_objective(const struct linear_model *m, const struct fmat *X, const int *y,
+                        const struct linear_params *p)
+{
+    double *grad = xcalloc(m->k * m->d + m->k, sizeof *grad);
+    double f = linear_gradient(m, X, y, p, grad);
+    free(grad);
+    return f;
+}

@@ -1,0 +1,473 @@
+/* svmfit.c -- libsvm adapter: train, copy out, rebuild, predict, save, load.
+ * See svmfit.h for the ownership story; ../shared DEPS notes on libsvm 3.24
+ * are the reason for most of what happens here.
+ */
+#include "vecsift/svmfit.h"
+
+#include <cjson/cJSON.h>
+#include <libsvm/svm.h>
+#include <math.h>
+#include <pthread.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "vecsift/err.h"
+#include "vecsift/fmat.h"
+#include "vecsift/jsonv.h"
+#include "vecsift/xalloc.h"
+
+/* K = labels, L = support vectors, P = K*(K-1)/2 pairs, D = dimensions. */
+struct svmfit_model {
+    size_t k, d;
+    enum svmfit_kernel kernel;
+    double gamma;
+    struct svm_model m;     /* points into the arrays below */
+    struct svm_node *nodes; /* all SV nodes, each SV terminated by index -1 */
+    size_t nnodes;
+    struct svm_node **sv;   /* (L) into nodes */
+    double *coef;           /* (K-1, L) */
+    double **coef_rows;     /* (K-1) into coef */
+    double *rho, *probA, *probB; /* (P) in libsvm's class-slot order */
+    int *label;             /* (K) libsvm class slot -> our label index */
+    int *nsv;               /* (K) */
+};
+
+/* libsvm uses the process-wide rand() inside svm_train's probability
+ * estimate: serialise training so srand(seed) + train is atomic and results
+ * repeat whatever the thread count. */
+static pthread_mutex_t train_lock = PTHREAD_MUTEX_INITIALIZER;
+
+static void quiet(const char *s)
+{
+    (void)s;
+}
+
+/* Row i of X as libsvm nodes (1-based indices, zeros omitted, -1 end).
+ * 'buf' must hold D+1 nodes. */
+static struct svm_node *row_nodes(const struct fmat *X, size_t i, struct svm_node *buf)
+{
+    size_t n = 0;
+    if (X->sparse) {
+        for (size_t j = X->rowptr[i]; j < X->rowptr[i + 1]; j++)
+            if (X->val[j] != 0.0) {
+                buf[n].index = (int)X->col[j] + 1;
+                buf[n++].value = X->val[j];
+            }
+    } else {
+        const double *x = X->x + i * X->d;
+        for (size_t j = 0; j < X->d; j++)
+            if (x[j] != 0.0) {
+                buf[n].index = (int)j + 1;
+                buf[n++].value = x[j];
+            }
+    }
+    buf[n].index = -1;
+    buf[n].value = 0;
+    return buf;
+}
+
+static double default_gamma(const struct fmat *X)
+{
+    /* 1 / (D * Var(X)) over all entries, zeros included (the 'scale' rule
+     * of scikit-learn's SVC, which wraps this same library). */
+    double s = 0, s2 = 0;
+    size_t cnt = X->n * X->d;
+    if (X->sparse) {
+        for (size_t j = 0; j < X->rowptr[X->n]; j++) {
+            s += X->val[j];
+            s2 += X->val[j] * X->val[j];
+        }
+    } else {
+        for (size_t j = 0; j < cnt; j++) {
+            s += X->x[j];
+            s2 += X->x[j] * X->x[j];
+        }
+    }
+    double mean = s / (double)cnt, var = s2 / (double)cnt - mean * mean;
+    return var > 0 ? 1.0 / ((double)X->d * var) : 1.0;
+}
+
+/* Point m->m at our arrays. */
+static void rebuild(svmfit_model *m, size_t l)
+{
+    size_t k = m->k;
+    memset(&m->m, 0, sizeof m->m);
+    m->m.param.svm_type = C_SVC;
+    m->m.param.kernel_type = m->kernel == SVMFIT_RBF ? RBF : LINEAR;
+    m->m.param.gamma = m->gamma;
+    m->m.param.probability = 1;
+    m->m.nr_class = (int)k;
+    m->m.l = (int)l;
+    m->coef_rows = xcalloc(k - 1, sizeof *m->coef_rows);
+    for (size_t c = 0; c + 1 < k; c++)
+        m->coef_rows[c] = m->coef + c * l;
+    m->m.SV = m->sv;
+    m->m.sv_coef = m->coef_rows;
+    m->m.rho = m->rho;
+    m->m.probA = m->probA;
+    m->m.probB = m->probB;
+    m->m.label = m->label;
+    m->m.nSV = m->nsv;
+    m->m.free_sv = 0;
+}
+
+/* Copy what prediction needs out of libsvm's model 'src'. */
+static svmfit_model *copy_out(const struct svm_model *src, size_t k, size_t d, enum svmfit_kernel kern, double gamma)
+{
+    svmfit_model *m = xcalloc(1, sizeof *m);
+    size_t l = (size_t)src->l, np = k * (k - 1) / 2;
+    m->k = k;
+    m->d = d;
+    m->kernel = kern;
+    m->gamma = gamma;
+    for (size_t i = 0; i < l; i++)
+        for (const struct svm_node *p = src->SV[i];; p++) {
+            m->nnodes++;
+            if (p->index == -1)
+                break;
+        }
+    m->nodes = xcalloc(m->nnodes, sizeof *m->nodes);
+    m->sv = xcalloc(l ? l : 1, sizeof *m->sv);
+    size_t at = 0;
+    for (size_t i = 0; i < l; i++) {
+        m->sv[i] = m->nodes + at;
+        for (const struct svm_node *p = src->SV[i];; p++) {
+            m->nodes[at++] = *p;
+            if (p->index == -1)
+                break;
+        }
+    }
+    m->coef = xcalloc(xmul(k - 1, l ? l : 1), sizeof *m->coef);
+    for (size_t c = 0; c + 1 < k; c++)
+        memcpy(m->coef + c * l, src->sv_coef[c], l * sizeof(double));
+    m->rho = xcalloc(np, sizeof(double));
+    m->probA = xcalloc(np, sizeof(double));
+    m->probB = xcalloc(np, sizeof(double));
+    memcpy(m->rho, src->rho, np * sizeof(double));
+    memcpy(m->probA, src->probA, np * sizeof(double));
+    memcpy(m->probB, src->probB, np * sizeof(double));
+    m->label = xcalloc(k, sizeof(int));
+    m->nsv = xcalloc(k, sizeof(int));
+    memcpy(m->label, src->label, k * sizeof(int));
+    memcpy(m->nsv, src->nSV, k * sizeof(int));
+    rebuild(m, l);
+    return m;
+}
+
+svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const struct svmfit_params *p,
+                           int *tiny, struct err *e)
+{
+    if (k < 2) {
+        err_set(e, NULL, 0, "an SVM needs at least two labels");
+        return NULL;
+    }
+    if (X->n > (size_t)INT32_MAX || X->d >= (size_t)INT32_MAX) {
+        err_set(e, NULL, 0, "too many rows or features for libsvm");
+        return NULL;
+    }
+    size_t *count = xcalloc(k, sizeof *count);
+    for (size_t i = 0; i < X->n; i++)
+        count[y[i]]++;
+    if (tiny)
+        *tiny = 0;
+    for (size_t c = 0; c < k; c++) {
+        if (count[c] == 0) {
+            free(count);
+            err_set(e, NULL, 0, "label %zu has no training rows", c);
+            return NULL;
+        }
+        if (count[c] < 3 && tiny)
+            *tiny = 1;
+    }
+
+    /* Problem: nodes for every row in one slab. */
+    size_t nn = 0;
+    struct svm_node *tmp = xcalloc(X->d + 1, sizeof *tmp);
+    for (size_t i = 0; i < X->n; i++) {
+        row_nodes(X, i, tmp);
+        for (struct svm_node *q = tmp;; q++) {
+            nn++;
+            if (q->index == -1)
+                break;
+        }
+    }
+    struct svm_node *slab = xcalloc(nn, sizeof *slab);
+    struct svm_node **xs = xcalloc(X->n, sizeof *xs);
+    double *ys = xcalloc(X->n, sizeof *ys);
+    size_t at = 0;
+    for (size_t i = 0; i < X->n; i++) {
+        row_nodes(X, i, tmp);
+        xs[i] = slab + at;
+        for (struct svm_node *q = tmp;; q++) {
+            slab[at++] = *q;
+            if (q->index == -1)
+                break;
+        }
+        ys[i] = y[i];
+    }
+    free(tmp);
+    struct svm_problem prob = { (int)X->n, ys, xs };
+
+    double gamma = p->gamma > 0 ? p->gamma : (p->gamma < 0 ? -p->gamma : 1.0) * default_gamma(X);
+    struct svm_parameter par;
+    memset(&par, 0, sizeof par);
+    par.svm_type = C_SVC;
+    par.kernel_type = p->kernel == SVMFIT_RBF ? RBF : LINEAR;
+    par.gamma = gamma;
+    par.cache_size = p->cache_mb > 0 ? p->cache_mb : 100;
+    par.eps = p->eps > 0 ? p->eps : 1e-3;
+    par.C = p->C;
+    par.shrinking = 1;
+    par.probability = 1;
+    /* Class weights are validated above (every label present), so libsvm's
+     * stderr warning about a weight for an absent label cannot fire. */
+    if (p->balanced) {
+        par.nr_weight = (int)k;
+        par.weight_label = xcalloc(k, sizeof(int));
+        par.weight = xcalloc(k, sizeof(double));
+        for (size_t c = 0; c < k; c++) {
+            par.weight_label[c] = (int)c;
+            par.weight[c] = (double)X->n / ((double)k * (double)count[c]);
+        }
+    }
+    free(count);
+
+    svmfit_model *out = NULL;
+    const char *bad = svm_check_parameter(&prob, &par);
+    if (bad) {
+        err_set(e, NULL, 0, "SVM settings rejected: %s", bad);
+    } else {
+        pthread_mutex_lock(&train_lock);
+        svm_set_print_string_function(quiet);
+        srand((unsigned)(p->seed ^ (p->seed >> 32)));
+        struct svm_model *sm = svm_train(&prob, &par);
+        pthread_mutex_unlock(&train_lock);
+        if (!sm || !sm->probA || !sm->probB) {
+            err_set(e, NULL, 0, "the SVM could not be trained");
+        } else {
+            out = copy_out(sm, k, X->d, p->kernel, gamma);
+        }
+        svm_free_and_destroy_model(&sm); /* model first: it points into the problem */
+    }
+    free(par.weight_label); /* ours, not svm_destroy_param's: allocated here */
+    free(par.weight);
+    free(xs);
+    free(slab);
+    free(ys);
+    return out;
+}
+
+void svmfit_free(svmfit_model *m)
+{
+    if (!m)
+        return;
+    free(m->nodes);
+    free(m->sv);
+    free(m->coef);
+    free(m->coef_rows);
+    free(m->rho);
+    free(m->probA);
+    free(m->probB);
+    free(m->label);
+    free(m->nsv);
+    free(m);
+}
+
+size_t svmfit_labels(const svmfit_model *m) { return m->k; }
+size_t svmfit_dim(const svmfit_model *m) { return m->d; }
+double svmfit_gamma(const svmfit_model *m) { return m->gamma; }
+size_t svmfit_support_vectors(const svmfit_model *m) { return (size_t)m->m.l; }
+enum svmfit_kernel svmfit_kernel_of(const svmfit_model *m) { return m->kernel; }
+
+void svmfit_proba(const svmfit_model *m, const struct fmat *X, size_t i, double *p)
+{
+    struct svm_node stackbuf[512];
+    struct svm_node *buf = X->d + 1 <= 512 ? stackbuf : xcalloc(X->d + 1, sizeof *buf);
+    double slot[64];
+    double *ps = m->k <= 64 ? slot : xcalloc(m->k, sizeof *ps);
+    svm_predict_probability(&m->m, row_nodes(X, i, buf), ps);
+    for (size_t c = 0; c < m->k; c++)
+        p[m->label[c]] = ps[c];
+    if (ps != slot)
+        free(ps);
+    if (buf != stackbuf)
+        free(buf);
+}
+
+void svmfit_decision(const svmfit_model *m, const struct fmat *X, size_t i, double *dec)
+{
+    size_t k = m->k, np = k * (k - 1) / 2;
+    struct svm_node *buf = xcalloc(X->d + 1, sizeof *buf);
+    double *raw = xcalloc(np, sizeof *raw);
+    svm_predict_values(&m->m, row_nodes(X, i, buf), raw);
+    /* libsvm orders pairs by class slot (s < t); map to our label order. */
+    size_t q = 0;
+    for (size_t s = 0; s < k; s++)
+        for (size_t t = s + 1; t < k; t++, q++) {
+            int a = m->label[s], b = m->label[t];
+            int lo = a < b ? a : b, hi = a < b ? b : a;
+            size_t idx = (size_t)lo * (2 * k - (size_t)lo - 1) / 2 + (size_t)(hi - lo - 1);
+            dec[idx] = a < b ? raw[q] : -raw[q];
+        }
+    free(raw);
+    free(buf);
+}
+
+/* ---- persistence ---- */
+
+static cJSON *int_array(const int *x, size_t n)
+{
+    cJSON *a = cJSON_CreateArray();
+    for (size_t i = 0; i < n; i++)
+        cJSON_AddItemToArray(a, cJSON_CreateNumber(x[i]));
+    return a;
+}
+
+void svmfit_save(const svmfit_model *m, cJSON *obj)
+{
+    size_t k = m->k, l = (size_t)m->m.l, np = k * (k - 1) / 2;
+    cJSON_AddStringToObject(obj, "kernel", m->kernel == SVMFIT_RBF ? "rbf" : "linear");
+    cJSON_AddItemToObject(obj, "gamma", jsonv_number_new(m->gamma));
+    cJSON_AddItemToObject(obj, "slot_label", int_array(m->label, k));
+    cJSON_AddItemToObject(obj, "slot_support", int_array(m->nsv, k));
+    cJSON_AddItemToObject(obj, "rho", jsonv_doubles_new(m->rho, np));
+    cJSON_AddItemToObject(obj, "platt_a", jsonv_doubles_new(m->probA, np));
+    cJSON_AddItemToObject(obj, "platt_b", jsonv_doubles_new(m->probB, np));
+    cJSON_AddItemToObject(obj, "dual_coef", jsonv_doubles_new(m->coef, (k - 1) * l));
+    /* Support vectors, sparse: per vector its feature indices (0-based) and values. */
+    cJSON *vecs = cJSON_CreateArray();
+    for (size_t i = 0; i < l; i++) {
+        cJSON *v = cJSON_CreateObject();
+        cJSON *idx = cJSON_CreateArray();
+        size_t n = 0;
+        for (const struct svm_node *p = m->sv[i]; p->index != -1; p++, n++)
+            cJSON_AddItemToArray(idx, cJSON_CreateNumber(p->index - 1));
+        double *val = xcalloc(n ? n : 1, sizeof *val);
+        n = 0;
+        for (const struct svm_node *p = m->sv[i]; p->index != -1; p++)
+            val[n++] = p->value;
+        cJSON_AddItemToObject(v, "at", idx);
+        cJSON_AddItemToObject(v, "value", jsonv_doubles_new(val, n));
+        free(val);
+        cJSON_AddItemToArray(vecs, v);
+    }
+    cJSON_AddItemToObject(obj, "support_vectors", vecs);
+}
+
+static int load_ints(const struct jsonv_ctx *c, const cJSON *obj, const char *key, size_t n, long lo, long hi, int *out)
+{
+    double *x = jsonv_doubles(c, obj, key, n, NULL);
+    if (!x)
+        return -1;
+    for (size_t i = 0; i < n; i++) {
+        if (x[i] != floor(x[i]) || x[i] < lo || x[i] > hi) {
+            free(x);
+            return jsonv_fail(c, key, "entry %zu is not a whole number in [%ld, %ld]", i, lo, hi);
+        }
+        out[i] = (int)x[i];
+    }
+    free(x);
+    return 0;
+}
+
+svmfit_model *svmfit_load(const struct jsonv_ctx *c, const cJSON *obj, size_t d, size_t k)
+{
+    svmfit_model *m = xcalloc(1, sizeof *m);
+    size_t np = k * (k - 1) / 2;
+    m->k = k;
+    m->d = d;
+    const char *kern = jsonv_str(c, obj, "kernel");
+    if (!kern)
+        goto fail;
+    if (strcmp(kern, "rbf") == 0)
+        m->kernel = SVMFIT_RBF;
+    else if (strcmp(kern, "linear") == 0)
+        m->kernel = SVMFIT_LINEAR;
+    else {
+        jsonv_fail(c, "kernel", "is '%s', expected 'rbf' or 'linear'", kern);
+        goto fail;
+    }
+    if (jsonv_num(c, obj, "gamma", 1e-300, 1e12, &m->gamma) < 0)
+        goto fail;
+    m->label = xcalloc(k, sizeof(int));
+    m->nsv = xcalloc(k, sizeof(int));
+    if (load_ints(c, obj, "slot_label", k, 0, (long)k - 1, m->label) < 0 ||
+        load_ints(c, obj, "slot_support", k, 0, INT32_MAX, m->nsv) < 0)
+        goto fail;
+    {
+        /* slot_label must be a permutation of 0..K-1 */
+        unsigned char *seen = xcalloc(k, 1);
+        int dup = 0;
+        for (size_t i = 0; i < k; i++)
+            dup |= seen[m->label[i]]++;
+        free(seen);
+        if (dup) {
+            jsonv_fail(c, "slot_label", "repeats a label");
+            goto fail;
+        }
+    }
+    size_t l = 0;
+    for (size_t i = 0; i < k; i++)
+        l += (size_t)m->nsv[i];
+    const cJSON *vecs = jsonv_get(c, obj, "support_vectors");
+    if (!vecs)
+        goto fail;
+    if (!cJSON_IsArray(vecs) || (size_t)cJSON_GetArraySize(vecs) != l || l == 0) {
+        jsonv_fail(c, "support_vectors", "must be an array of %zu vectors (the sum of slot_support)", l);
+        goto fail;
+    }
+    if (!(m->rho = jsonv_doubles(c, obj, "rho", np, NULL)) ||
+        !(m->probA = jsonv_doubles(c, obj, "platt_a", np, NULL)) ||
+        !(m->probB = jsonv_doubles(c, obj, "platt_b", np, NULL)) ||
+        !(m->coef = jsonv_doubles(c, obj, "dual_coef", xmul(k - 1, l), NULL)))
+        goto fail;
+    /* Count nodes, validate indices, then fill. */
+    m->sv = xcalloc(l, sizeof *m->sv);
+    size_t total = 0;
+    const cJSON *v;
+    cJSON_ArrayForEach(v, vecs)
+    {
+        const cJSON *at = cJSON_IsObject(v) ? cJSON_GetObjectItemCaseSensitive(v, "at") : NULL;
+        if (!cJSON_IsArray(at)) {
+            jsonv_fail(c, "support_vectors", "has an entry without an 'at' array");
+            goto fail;
+        }
+        total += (size_t)cJSON_GetArraySize(at) + 1;
+    }
+    m->nodes = xcalloc(total, sizeof *m->nodes);
+    m->nnodes = total;
+    size_t pos = 0, i = 0;
+    cJSON_ArrayForEach(v, vecs)
+    {
+        struct jsonv_ctx sub = *c;
+        sub.path = "classifier.support_vectors[]";
+        size_t n;
+        double *idx = jsonv_doubles(&sub, v, "at", SIZE_MAX, &n);
+        double *val = idx ? jsonv_doubles(&sub, v, "value", n, NULL) : NULL;
+        if (!val) {
+            free(idx);
+            goto fail;
+        }
+        m->sv[i++] = m->nodes + pos;
+        for (size_t j = 0; j < n; j++) {
+            double prev = j ? idx[j - 1] : -1;
+            if (idx[j] != floor(idx[j]) || idx[j] <= prev || idx[j] >= (double)d) {
+                free(idx);
+                free(val);
+                jsonv_fail(c, "support_vectors", "vector %zu has a feature index out of order or outside [0, %zu)", i - 1, d);
+                goto fail;
+            }
+            m->nodes[pos].index = (int)idx[j] + 1;
+            m->nodes[pos++].value = val[j];
+        }
+        m->nodes[pos].index = -1;
+        m->nodes[pos++].value = 0;
+        free(idx);
+        free(val);
+    }
+    rebuild(m, l);
+    return m;
+fail:
+    svmfit_free(m);
+    return NULL;
+}

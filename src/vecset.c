@@ -1,0 +1,655 @@
+/* vecset.c -- packed vector sets (.vecs): write, open by mmap, look up,
+ * nearest neighbours, export to text.
+ *
+ * The file layout is documented field by field in docs/vecs-format.md; the
+ * constants below are the single source of it in code.  Open checks every
+ * header field against the file length and the other sections, and touches
+ * no row and no string: a store of a million rows opens as fast as one of
+ * ten.  Lookups go through the stored hash index and bounds-check every
+ * entry they read, so a damaged file gives "not found", never a crash.
+ * Importing the text form lives in vecpack.c; tokenising in text.c.
+ */
+#include "vecsift/vecset.h"
+
+#include <errno.h>
+#include <fcntl.h>
+#include <math.h>
+#include <pthread.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/mman.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "vecsift/err.h"
+#include "vecsift/ofile.h"
+#include "vecsift/vocab.h"
+#include "vecsift/xalloc.h"
+
+#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ != __ORDER_LITTLE_ENDIAN__
+#error "the .vecs reader maps the file directly and needs a little-endian host"
+#endif
+
+/* ---- format ---- */
+
+static const char MAGIC[8] = { 'v', 's', 'f', 't', 'V', 'E', 'C', '\n' };
+enum {
+    VERSION_MAJOR = 1,  /* readers refuse a higher major version */
+    VERSION_MINOR = 0,  /* a higher minor only adds header fields after byte 128 */
+    HEADER_SIZE = 128,
+    ROW_ALIGN = 64
+};
+#define MAX_DIM 1000000u
+#define MAX_COUNT 0xfffffffeu /* index entries are u32 row+1 */
+
+/* The 128-byte header, as stored (little-endian, no padding). */
+struct header {
+    char magic[8];
+    uint32_t major, minor;
+    uint32_t header_size, flags;
+    uint64_t count, dim, fingerprint;
+    uint64_t rows_off, rows_size;       /* count*dim float32, 64-aligned */
+    uint64_t norms_off, norms_size;     /* count float32 */
+    uint64_t stroff_off, stroff_size;   /* count+1 uint64 into the strings */
+    uint64_t strings_off, strings_size; /* NUL-terminated tokens */
+    uint64_t index_off, index_size;     /* power-of-two u32 slots, row+1 or 0 */
+};
+_Static_assert(sizeof(struct header) == HEADER_SIZE, "header layout");
+
+/* ---- fingerprint ---- */
+
+/* FNV-1a 64 (Fowler, Noll, Vo), over bytes for tokens and over whole 32-bit
+ * words for dim and float bits (one multiply per float instead of four).
+ * Not cryptographic: it tells sets apart, it does not resist forgery. */
+#define FNV_BASIS 0xcbf29ce484222325ULL
+#define FNV_PRIME 0x100000001b3ULL
+
+static uint64_t fp_word(uint64_t h, uint32_t x)
+{
+    return (h ^ x) * FNV_PRIME;
+}
+
+static uint64_t fp_start(uint64_t dim)
+{
+    return fp_word(fp_word(FNV_BASIS, (uint32_t)dim), (uint32_t)(dim >> 32));
+}
+
+static uint64_t fp_row(uint64_t h, const char *tok, size_t len, const float *row, size_t dim)
+{
+    for (size_t i = 0; i < len; i++)
+        h = (h ^ (unsigned char)tok[i]) * FNV_PRIME;
+    h = (h ^ 0) * FNV_PRIME; /* the token's terminating NUL */
+    const uint32_t *u = (const uint32_t *)(const void *)row;
+    for (size_t j = 0; j < dim; j++)
+        h = fp_word(h, u[j]);
+    return h;
+}
+
+void vecset_fingerprint_hex(uint64_t fp, char out[17])
+{
+    snprintf(out, 17, "%016llx", (unsigned long long)fp);
+}
+
+static double row_norm(const float *row, size_t dim)
+{
+    double s = 0;
+    for (size_t j = 0; j < dim; j++)
+        s += (double)row[j] * row[j];
+    return sqrt(s);
+}
+
+/* ---- writing ---- */
+
+struct vecset_writer {
+    ofile *of;
+    FILE *fp;
+    char *iobuf;
+    size_t dim, n;
+    uint64_t fp_hash;
+    float *norms;           /* (n) */
+    size_t ncap;
+    uint64_t *hashes;       /* (n) vocab_hash of each token, for rehashing */
+    uint64_t *stroff;       /* (n+1) */
+    char *strings;
+    size_t slen, scap;
+    uint32_t *slots;        /* (nslots) row+1 or 0 */
+    size_t nslots;
+};
+
+static void index_put(uint32_t *slots, size_t nslots, uint64_t h, uint32_t row)
+{
+    size_t i = (size_t)h & (nslots - 1);
+    while (slots[i])
+        i = (i + 1) & (nslots - 1);
+    slots[i] = row + 1;
+}
+
+vecset_writer *vecset_writer_new(const char *out, size_t dim, struct err *e)
+{
+    if (strcmp(out, "-") == 0) {
+        err_set(e, NULL, 0, "a packed store cannot be written to standard output");
+        err_hint(e, "give a file name with -o");
+        return NULL;
+    }
+    if (dim == 0 || dim > MAX_DIM) {
+        err_set(e, out, 0, "dimension %zu is out of range (1 to %u)", dim, MAX_DIM);
+        return NULL;
+    }
+    ofile *of = ofile_open(out, e);
+    if (!of)
+        return NULL;
+    vecset_writer *w = xcalloc(1, sizeof *w);
+    w->of = of;
+    w->fp = ofile_fp(of);
+    w->iobuf = xmalloc(1 << 20);
+    setvbuf(w->fp, w->iobuf, _IOFBF, 1 << 20);
+    w->dim = dim;
+    w->fp_hash = fp_start(dim);
+    w->nslots = 16;
+    w->slots = xcalloc(w->nslots, sizeof *w->slots);
+    w->stroff = xcalloc(1, sizeof *w->stroff);
+    /* the header is rewritten at commit; rows start at HEADER_SIZE (64-aligned) */
+    char zero[HEADER_SIZE] = { 0 };
+    fwrite(zero, 1, sizeof zero, w->fp);
+    return w;
+}
+
+size_t vecset_writer_count(const vecset_writer *w)
+{
+    return w->n;
+}
+
+static long writer_find(const vecset_writer *w, const char *tok, size_t len, uint64_t h)
+{
+    size_t i = (size_t)h & (w->nslots - 1);
+    for (uint32_t s; (s = w->slots[i]) != 0; i = (i + 1) & (w->nslots - 1)) {
+        size_t r = s - 1;
+        if (w->hashes[r] == h && w->stroff[r + 1] - w->stroff[r] == len + 1 &&
+            memcmp(w->strings + w->stroff[r], tok, len) == 0)
+            return (long)r;
+    }
+    return -1;
+}
+
+int vecset_writer_add(vecset_writer *w, const char *tok, size_t len, const float *row)
+{
+    uint64_t h = vocab_hash(tok, len);
+    if (w->n > 0 && writer_find(w, tok, len, h) >= 0)
+        return 0;
+    if (w->n >= MAX_COUNT)
+        return 0; /* NEEDSWORK: over 4 billion rows; the u32 index cannot say so yet */
+    if (2 * (w->n + 1) > w->nslots) {
+        free(w->slots);
+        w->nslots *= 2;
+        w->slots = xcalloc(w->nslots, sizeof *w->slots);
+        for (size_t r = 0; r < w->n; r++)
+            index_put(w->slots, w->nslots, w->hashes[r], (uint32_t)r);
+    }
+    if (w->n + 1 >= w->ncap) {
+        size_t cap = w->ncap;
+        w->norms = xgrow(w->norms, &cap, w->n + 2, sizeof *w->norms);
+        cap = w->ncap;
+        w->hashes = xgrow(w->hashes, &cap, w->n + 2, sizeof *w->hashes);
+        cap = w->ncap;
+        w->stroff = xgrow(w->stroff, &cap, w->n + 2, sizeof *w->stroff);
+        w->ncap = cap;
+    }
+    if (w->slen + len + 1 > w->scap)
+        w->strings = xgrow(w->strings, &w->scap, w->slen + len + 1, 1);
+    memcpy(w->strings + w->slen, tok, len);
+    w->strings[w->slen + len] = '\0';
+    w->slen += len + 1;
+    w->stroff[w->n + 1] = w->slen;
+    w->hashes[w->n] = h;
+    w->norms[w->n] = (float)row_norm(row, w->dim);
+    index_put(w->slots, w->nslots, h, (uint32_t)w->n);
+    w->fp_hash = fp_row(w->fp_hash, tok, len, row, w->dim);
+    fwrite(row, sizeof(float), w->dim, w->fp);
+    w->n++;
+    return 1;
+}
+
+static void pad_to(FILE *fp, uint64_t *pos, uint64_t align)
+{
+    static const char zero[64];
+    uint64_t pad = (align - *pos % align) % align;
+    fwrite(zero, 1, (size_t)pad, fp);
+    *pos += pad;
+}
+
+int vecset_writer_commit(vecset_writer *w, struct err *e)
+{
+    struct header h;
+    memset(&h, 0, sizeof h);
+    memcpy(h.magic, MAGIC, sizeof MAGIC);
+    h.major = VERSION_MAJOR;
+    h.minor = VERSION_MINOR;
+    h.header_size = HEADER_SIZE;
+    h.count = w->n;
+    h.dim = w->dim;
+    h.fingerprint = w->fp_hash;
+    uint64_t pos = HEADER_SIZE;
+    h.rows_off = pos;
+    h.rows_size = (uint64_t)w->n * w->dim * sizeof(float);
+    pos += h.rows_size;
+    h.norms_off = pos;
+    h.norms_size = (uint64_t)w->n * sizeof(float);
+    fwrite(w->norms, sizeof(float), w->n, w->fp);
+    pos += h.norms_size;
+    pad_to(w->fp, &pos, 8);
+    h.stroff_off = pos;
+    h.stroff_size = ((uint64_t)w->n + 1) * sizeof(uint64_t);
+    fwrite(w->stroff, sizeof(uint64_t), w->n + 1, w->fp);
+    pos += h.stroff_size;
+    h.strings_off = pos;
+    h.strings_size = w->slen;
+    fwrite(w->strings, 1, w->slen, w->fp);
+    pos += w->slen;
+    pad_to(w->fp, &pos, 8);
+    h.index_off = pos;
+    h.index_size = (uint64_t)w->nslots * sizeof(uint32_t);
+    fwrite(w->slots, sizeof(uint32_t), w->nslots, w->fp);
+    pos += h.index_size;
+    int rc = 0;
+    if (fseek(w->fp, 0, SEEK_SET) != 0 || fwrite(&h, sizeof h, 1, w->fp) != 1) {
+        rc = err_io(e, ofile_path(w->of), 0, "write failed: %s", strerror(errno ? errno : EIO));
+        ofile_abort(w->of);
+    } else {
+        rc = ofile_commit(w->of, e);
+    }
+    w->of = NULL;
+    vecset_writer_abort(w);
+    return rc;
+}
+
+void vecset_writer_abort(vecset_writer *w)
+{
+    if (!w)
+        return;
+    ofile_abort(w->of);
+    free(w->iobuf);
+    free(w->norms);
+    free(w->hashes);
+    free(w->stroff);
+    free(w->strings);
+    free(w->slots);
+    free(w);
+}
+
+int vecset_write(const char *out, const char *const *words, const float *rows, size_t n, size_t dim,
+                 struct err *e)
+{
+    vecset_writer *w = vecset_writer_new(out, dim, e);
+    if (!w)
+        return -1;
+    for (size_t i = 0; i < n; i++)
+        if (!vecset_writer_add(w, words[i], strlen(words[i]), rows + i * dim)) {
+            vecset_writer_abort(w);
+            return err_set(e, out, 0, "token '%s' appears twice", words[i]);
+        }
+    return vecset_writer_commit(w, e);
+}
+
+/* ---- open and look up ---- */
+
+struct vecset {
+    char *path;
+    void *map;
+    size_t len;
+    struct header h;
+    const float *rows;      /* (count, dim) */
+    const float *norms;     /* (count) */
+    const uint64_t *stroff; /* (count+1) */
+    const char *strings;    /* strings_size bytes, the last one NUL */
+    const uint32_t *slots;  /* (nslots) */
+    size_t nslots;
+};
+
+/* Does [off, off+size) lie inside the file, after the header? */
+static int within(uint64_t off, uint64_t size, uint64_t hsize, uint64_t len)
+{
+    return off >= hsize && off <= len && size <= len - off;
+}
+
+static int overlap(uint64_t a, uint64_t as, uint64_t b, uint64_t bs)
+{
+    return as && bs && a < b + bs && b < a + as;
+}
+
+static int check_header(const struct header *h, uint64_t len, const char *path, struct err *e)
+{
+    if (h->major > VERSION_MAJOR) {
+        err_set(e, path, 0, "packed store version %u.%u is newer than this program reads (%d.x)", h->major,
+                h->minor, VERSION_MAJOR);
+        return err_hint(e, "update vecsift, or export the set to text with the newer version");
+    }
+    if (h->major == 0 || h->header_size < HEADER_SIZE || h->header_size > len)
+        return err_set(e, path, 0, "damaged packed store: header size %u", h->header_size);
+    if (h->dim == 0 || h->dim > MAX_DIM || h->count > MAX_COUNT)
+        return err_set(e, path, 0, "damaged packed store: %llu rows of dimension %llu",
+                       (unsigned long long)h->count, (unsigned long long)h->dim);
+    /* count <= 2^32 and dim <= 2^20: these products cannot overflow 64 bits */
+    const struct {
+        const char *name;
+        uint64_t off, size, want, align;
+    } sec[5] = {
+        { "rows", h->rows_off, h->rows_size, h->count * h->dim * 4, ROW_ALIGN },
+        { "norms", h->norms_off, h->norms_size, h->count * 4, 4 },
+        { "string offsets", h->stroff_off, h->stroff_size, (h->count + 1) * 8, 8 },
+        { "strings", h->strings_off, h->strings_size, h->strings_size, 1 },
+        { "index", h->index_off, h->index_size, h->index_size, 4 },
+    };
+    for (int i = 0; i < 5; i++) {
+        if (sec[i].size != sec[i].want)
+            return err_set(e, path, 0, "damaged packed store: %s section has %llu bytes, expected %llu",
+                           sec[i].name, (unsigned long long)sec[i].size, (unsigned long long)sec[i].want);
+        if (!within(sec[i].off, sec[i].size, h->header_size, len)) {
+            err_set(e, path, 0, "truncated or damaged packed store: %s section (%llu bytes at %llu) "
+                    "runs past the end of the file (%llu bytes)", sec[i].name,
+                    (unsigned long long)sec[i].size, (unsigned long long)sec[i].off, (unsigned long long)len);
+            return err_hint(e, "the file may have been cut short while copying; pack it again");
+        }
+        if (sec[i].off % sec[i].align)
+            return err_set(e, path, 0, "damaged packed store: %s section is not %llu-byte aligned",
+                           sec[i].name, (unsigned long long)sec[i].align);
+        for (int j = 0; j < i; j++)
+            if (overlap(sec[i].off, sec[i].size, sec[j].off, sec[j].size))
+                return err_set(e, path, 0, "damaged packed store: %s and %s sections overlap", sec[j].name,
+                               sec[i].name);
+    }
+    uint64_t slots = h->index_size / 4;
+    if (slots <= h->count || (slots & (slots - 1)) || h->index_size % 4)
+        return err_set(e, path, 0, "damaged packed store: index of %llu slots for %llu rows",
+                       (unsigned long long)slots, (unsigned long long)h->count);
+    if (h->count && h->strings_size == 0)
+        return err_set(e, path, 0, "damaged packed store: empty string table");
+    return 0;
+}
+
+vecset *vecset_open(const char *path, struct err *e)
+{
+    vecset *v = NULL;
+    int fd = open(path, O_RDONLY | O_CLOEXEC);
+    if (fd < 0) {
+        err_io(e, path, 0, "cannot open: %s", strerror(errno));
+        return NULL;
+    }
+    struct stat st;
+    if (fstat(fd, &st) != 0) {
+        err_io(e, path, 0, "cannot read: %s", strerror(errno));
+        goto fail;
+    }
+    if (!S_ISREG(st.st_mode)) {
+        err_set(e, path, 0, "not a regular file; a packed store is opened by mapping it");
+        goto fail;
+    }
+    uint64_t len = (uint64_t)st.st_size;
+    struct header h;
+    if (len < 8 || pread(fd, h.magic, 8, 0) != 8 || memcmp(h.magic, MAGIC, 8) != 0) {
+        err_set(e, path, 0, "not a packed vector store (no .vecs magic at the start)");
+        err_hint(e, "a text vector file must first be packed: vecsift vectors pack FILE -o FILE.vecs");
+        goto fail;
+    }
+    if (len < HEADER_SIZE || pread(fd, &h, sizeof h, 0) != (ssize_t)sizeof h) {
+        err_set(e, path, 0, "truncated packed store: %llu bytes, shorter than its %d-byte header",
+                (unsigned long long)len, HEADER_SIZE);
+        goto fail;
+    }
+    if (check_header(&h, len, path, e) < 0)
+        goto fail;
+    v = xcalloc(1, sizeof *v);
+    v->path = xstrdup(path);
+    v->h = h;
+    v->len = (size_t)len;
+    v->map = mmap(NULL, v->len, PROT_READ, MAP_PRIVATE, fd, 0);
+    if (v->map == MAP_FAILED) {
+        v->map = NULL;
+        err_io(e, path, 0, "cannot map: %s", strerror(errno));
+        goto fail;
+    }
+    const char *base = v->map;
+    v->rows = (const float *)(const void *)(base + h.rows_off);
+    v->norms = (const float *)(const void *)(base + h.norms_off);
+    v->stroff = (const uint64_t *)(const void *)(base + h.stroff_off);
+    v->strings = base + h.strings_off;
+    v->slots = (const uint32_t *)(const void *)(base + h.index_off);
+    v->nslots = (size_t)(h.index_size / 4);
+    /* One byte read, not a scan: every string offset below strings_size then
+     * names a NUL-terminated string inside the section. */
+    if (h.count && v->strings[h.strings_size - 1] != '\0') {
+        err_set(e, path, 0, "damaged packed store: string table does not end in NUL");
+        goto fail;
+    }
+    close(fd);
+    return v;
+fail:
+    close(fd);
+    vecset_close(v);
+    return NULL;
+}
+
+void vecset_close(vecset *v)
+{
+    if (!v)
+        return;
+    if (v->map)
+        munmap(v->map, v->len);
+    free(v->path);
+    free(v);
+}
+
+size_t vecset_count(const vecset *v)
+{
+    return (size_t)v->h.count;
+}
+
+size_t vecset_dim(const vecset *v)
+{
+    return (size_t)v->h.dim;
+}
+
+uint64_t vecset_fingerprint(const vecset *v)
+{
+    return v->h.fingerprint;
+}
+
+const char *vecset_path(const vecset *v)
+{
+    return v->path;
+}
+
+const float *vecset_row(const vecset *v, size_t i)
+{
+    return i < v->h.count ? v->rows + i * v->h.dim : NULL;
+}
+
+float vecset_norm(const vecset *v, size_t i)
+{
+    return i < v->h.count ? v->norms[i] : 0.0f;
+}
+
+const char *vecset_word(const vecset *v, size_t i)
+{
+    if (i >= v->h.count)
+        return "";
+    uint64_t off = v->stroff[i];
+    return off < v->h.strings_size ? v->strings + off : ""; /* "" for a damaged entry */
+}
+
+long vecset_find(const vecset *v, const char *tok)
+{
+    size_t len = strlen(tok);
+    size_t mask = v->nslots - 1;
+    size_t i = (size_t)vocab_hash(tok, len) & mask;
+    for (size_t probes = 0; probes < v->nslots; probes++, i = (i + 1) & mask) {
+        uint32_t s = v->slots[i];
+        if (s == 0)
+            return -1;
+        if (s - 1 >= v->h.count)
+            continue; /* damaged entry: never trusted */
+        if (strcmp(vecset_word(v, s - 1), tok) == 0)
+            return (long)(s - 1);
+    }
+    return -1;
+}
+
+int vecset_verify(const vecset *v, struct err *e)
+{
+    uint64_t h = fp_start(v->h.dim);
+    for (size_t i = 0; i < v->h.count; i++) {
+        uint64_t a = v->stroff[i], b = v->stroff[i + 1];
+        if (a >= b || b > v->h.strings_size || v->strings[b - 1] != '\0' || strlen(v->strings + a) != b - a - 1)
+            return err_set(e, v->path, 0, "damaged packed store: string entry %zu", i);
+        h = fp_row(h, v->strings + a, (size_t)(b - a - 1), vecset_row(v, i), (size_t)v->h.dim);
+    }
+    if (h != v->h.fingerprint) {
+        char want[17], got[17];
+        vecset_fingerprint_hex(v->h.fingerprint, want);
+        vecset_fingerprint_hex(h, got);
+        return err_set(e, v->path, 0, "content fingerprint %s does not match the header's %s", got, want);
+    }
+    return 0;
+}
+
+/* ---- neighbours ---- */
+
+/* Better hit first: higher cosine, then lower row. */
+static int better(const struct vecset_hit *a, const struct vecset_hit *b)
+{
+    return a->cos > b->cos || (a->cos == b->cos && a->row < b->row);
+}
+
+/* Insert 'h' into the sorted list hits[0..*n) of capacity k. */
+static void keep(struct vecset_hit *hits, size_t *n, size_t k, struct vecset_hit h)
+{
+    if (*n == k && !better(&h, &hits[k - 1]))
+        return;
+    size_t i = *n < k ? (*n)++ : k - 1;
+    while (i > 0 && better(&h, &hits[i - 1])) {
+        hits[i] = hits[i - 1];
+        i--;
+    }
+    hits[i] = h;
+}
+
+struct scan {
+    const vecset *v;
+    const double *q;    /* (D) unit query */
+    size_t lo, hi, k;
+    const size_t *ex;
+    size_t nex;
+    struct vecset_hit *hits;
+    size_t n;
+};
+
+static void *scan_run(void *arg)
+{
+    struct scan *s = arg;
+    const vecset *v = s->v;
+    size_t dim = (size_t)v->h.dim;
+    for (size_t i = s->lo; i < s->hi; i++) {
+        double nrm = v->norms[i];
+        if (!(nrm > 0))
+            continue;
+        int skip = 0;
+        for (size_t x = 0; x < s->nex; x++)
+            skip |= s->ex[x] == i;
+        if (skip)
+            continue;
+        const float *r = v->rows + i * dim;
+        double a0 = 0, a1 = 0, a2 = 0, a3 = 0;
+        size_t j = 0;
+        for (; j + 4 <= dim; j += 4) {
+            a0 += r[j] * s->q[j];
+            a1 += r[j + 1] * s->q[j + 1];
+            a2 += r[j + 2] * s->q[j + 2];
+            a3 += r[j + 3] * s->q[j + 3];
+        }
+        for (; j < dim; j++)
+            a0 += r[j] * s->q[j];
+        struct vecset_hit h = { i, (a0 + a1 + a2 + a3) / nrm };
+        keep(s->hits, &s->n, s->k, h);
+    }
+    return NULL;
+}
+
+size_t vecset_nearest(const vecset *v, const float *query, size_t k, const size_t *exclude,
+                      size_t nexclude, int threads, struct vecset_hit *hits)
+{
+    size_t dim = (size_t)v->h.dim, count = (size_t)v->h.count;
+    if (k == 0 || count == 0)
+        return 0;
+    double qn = row_norm(query, dim);
+    if (!(qn > 0))
+        return 0;
+    double *q = xmalloc(dim * sizeof *q);
+    for (size_t j = 0; j < dim; j++)
+        q[j] = query[j] / qn;
+    size_t t = threads < 1 ? 1 : (size_t)threads;
+    if (t > count / 1024 + 1)
+        t = count / 1024 + 1; /* small stores: threads cost more than they save */
+    struct scan *sc = xcalloc(t, sizeof *sc);
+    pthread_t *tid = xcalloc(t, sizeof *tid);
+    int *started = xcalloc(t, sizeof *started);
+    for (size_t i = 0; i < t; i++) {
+        sc[i] = (struct scan){ v, q, count * i / t, count * (i + 1) / t, k, exclude, nexclude,
+                               xcalloc(k, sizeof(struct vecset_hit)), 0 };
+        if (i > 0)
+            started[i] = pthread_create(&tid[i], NULL, scan_run, &sc[i]) == 0;
+    }
+    for (size_t i = 0; i < t; i++)
+        if (!started[i])
+            scan_run(&sc[i]); /* the first part, or one no thread could be had for */
+    size_t n = 0;
+    for (size_t i = 0; i < t; i++) {
+        if (started[i])
+            pthread_join(tid[i], NULL);
+        for (size_t x = 0; x < sc[i].n; x++)
+            keep(hits, &n, k, sc[i].hits[x]);
+        free(sc[i].hits);
+    }
+    free(started);
+    free(sc);
+    free(tid);
+    free(q);
+    return n;
+}
+
+/* ---- export ---- */
+
+/* The shortest of %.6g .. %.9g that reads back as 'f' (%.9g always does). */
+static int shortest(char *buf, size_t n, float f)
+{
+    int len = 0;
+    for (int prec = 6; prec <= 9; prec++) {
+        len = snprintf(buf, n, "%.*g", prec, (double)f);
+        if (strtof(buf, NULL) == f)
+            break;
+    }
+    return len;
+}
+
+int vecset_export_text(const vecset *v, const char *out, struct err *e)
+{
+    ofile *of = ofile_open(out, e);
+    if (!of)
+        return -1;
+    FILE *fp = ofile_fp(of);
+    size_t dim = (size_t)v->h.dim;
+    fprintf(fp, "%llu %zu\n", (unsigned long long)v->h.count, dim);
+    char buf[64];
+    for (size_t i = 0; i < v->h.count; i++) {
+        fputs(vecset_word(v, i), fp);
+        const float *r = vecset_row(v, i);
+        for (size_t j = 0; j < dim; j++) {
+            buf[0] = ' ';
+            int len = shortest(buf + 1, sizeof buf - 1, r[j]);
+            fwrite(buf, 1, (size_t)len + 1, fp);
+        }
+        fputc('\n', fp);
+        if (ferror(fp))
+            break;
+    }
+    return ofile_commit(of, e);
+}

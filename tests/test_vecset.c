@@ -1,0 +1,345 @@
+/* test_vecset.c -- packed vector sets: writing, opening, lookup, damage
+ * checks, neighbours, text import and export. */
+#include <criterion/criterion.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "vecsift/err.h"
+#include "vecsift/rng.h"
+#include "vecsift/text.h"
+#include "vecsift/vecset.h"
+
+static char dir[] = "/tmp/vecset-test-XXXXXX";
+static char pathbuf[4][256];
+
+static void setup(void)
+{
+    cr_assert_not_null(mkdtemp(dir));
+}
+
+static void teardown(void)
+{
+    char cmd[300];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
+    if (system(cmd) != 0) { /* best effort */ }
+}
+
+TestSuite(vecset, .init = setup, .fini = teardown);
+
+static const char *tmp(int i, const char *name)
+{
+    snprintf(pathbuf[i], sizeof pathbuf[i], "%s/%s", dir, name);
+    return pathbuf[i];
+}
+
+static void write_text(const char *path, const char *s)
+{
+    FILE *fp = fopen(path, "wb");
+    cr_assert_not_null(fp);
+    fputs(s, fp);
+    fclose(fp);
+}
+
+/* A 4-word, 2-dimension store: cosines are known by hand (common practice:
+ * cos(a,b) = a.b / (|a||b|)). */
+static const char *const W4[] = { "east", "north", "northeast", "west" };
+static const float R4[] = { 1, 0, 0, 2, 3, 3, -0.5f, 0 };
+
+static vecset *four(struct err *e)
+{
+    const char *p = tmp(0, "four.vecs");
+    cr_assert_eq(vecset_write(p, W4, R4, 4, 2, e), 0, "%s", e->msg);
+    vecset *v = vecset_open(p, e);
+    cr_assert_not_null(v, "%s", e->msg);
+    return v;
+}
+
+Test(vecset, write_open_lookup)
+{
+    struct err e = ERR_INIT;
+    vecset *v = four(&e);
+    cr_assert_eq(vecset_count(v), 4);
+    cr_assert_eq(vecset_dim(v), 2);
+    for (size_t i = 0; i < 4; i++) {
+        cr_assert_eq(vecset_find(v, W4[i]), (long)i);
+        cr_assert_str_eq(vecset_word(v, i), W4[i]);
+        cr_assert_eq(memcmp(vecset_row(v, i), R4 + 2 * i, 8), 0);
+        cr_assert_float_eq(vecset_norm(v, i), hypot(R4[2 * i], R4[2 * i + 1]), 1e-6);
+    }
+    cr_assert_eq(vecset_find(v, "south"), -1);
+    cr_assert_eq(vecset_find(v, ""), -1);
+    cr_assert_null(vecset_row(v, 4));
+    cr_assert_eq(vecset_verify(v, &e), 0, "%s", e.msg);
+    vecset_close(v);
+}
+
+Test(vecset, nearest_by_hand)
+{
+    struct err e = ERR_INIT;
+    vecset *v = four(&e);
+    struct vecset_hit h[4];
+    float q[2] = { 1, 0 };
+    size_t ex = 0;
+    size_t n = vecset_nearest(v, q, 4, &ex, 1, 2, h);
+    /* east excluded; northeast cos 1/sqrt(2); north 0; west -1 */
+    cr_assert_eq(n, 3);
+    cr_assert_eq(h[0].row, 2);
+    cr_assert_float_eq(h[0].cos, 1 / sqrt(2.0), 1e-7);
+    cr_assert_eq(h[1].row, 1);
+    cr_assert_float_eq(h[1].cos, 0, 1e-12);
+    cr_assert_eq(h[2].row, 3);
+    cr_assert_float_eq(h[2].cos, -1, 1e-12);
+    vecset_close(v);
+}
+
+Test(vecset, fingerprint_follows_content)
+{
+    struct err e = ERR_INIT;
+    vecset *v = four(&e);
+    uint64_t f1 = vecset_fingerprint(v);
+    vecset_close(v);
+    float r[8];
+    memcpy(r, R4, sizeof r);
+    r[5] = nextafterf(r[5], 10); /* one float, one ulp */
+    const char *p = tmp(1, "other.vecs");
+    cr_assert_eq(vecset_write(p, W4, r, 4, 2, &e), 0);
+    v = vecset_open(p, &e);
+    cr_assert_neq(vecset_fingerprint(v), f1);
+    vecset_close(v);
+    v = four(&e);
+    cr_assert_eq(vecset_fingerprint(v), f1, "same content, same fingerprint");
+    char hex[17];
+    vecset_fingerprint_hex(0x00ab, hex);
+    cr_assert_str_eq(hex, "00000000000000ab");
+    vecset_close(v);
+}
+
+/* The answer must not depend on the thread count (DESIGN.md conventions). */
+Test(vecset, nearest_same_for_any_thread_count)
+{
+    struct err e = ERR_INIT;
+    enum { N = 5000, D = 16 };
+    static float rows[N * D];
+    static char names[N][8];
+    static const char *words[N];
+    struct rng r;
+    rng_seed(&r, 3);
+    for (size_t i = 0; i < N * D; i++)
+        rows[i] = (float)rng_normal(&r);
+    for (int i = 0; i < N; i++) {
+        snprintf(names[i], sizeof names[i], "w%d", i);
+        words[i] = names[i];
+    }
+    const char *p = tmp(0, "rand.vecs");
+    cr_assert_eq(vecset_write(p, words, rows, N, D, &e), 0);
+    vecset *v = vecset_open(p, &e);
+    struct vecset_hit a[20], b[20];
+    size_t na = vecset_nearest(v, rows, 20, NULL, 0, 1, a);
+    size_t nb = vecset_nearest(v, rows, 20, NULL, 0, 7, b);
+    cr_assert_eq(na, 20);
+    cr_assert_eq(nb, 20);
+    cr_assert_eq(memcmp(a, b, sizeof a), 0);
+    cr_assert_eq(a[0].row, 0);
+    cr_assert_float_eq(a[0].cos, 1.0, 1e-6);
+    vecset_close(v);
+}
+
+static int pack(const char *text, const char *out, int threads, struct vecset_pack_stats *st, struct err *e)
+{
+    const char *in = tmp(2, "in.txt");
+    write_text(in, text);
+    struct text_options to = TEXT_OPTIONS_INIT;
+    return vecset_pack_text(in, out, &to, threads, st, e);
+}
+
+Test(vecset, pack_header_crlf_tabs_and_merges)
+{
+    struct err e = ERR_INIT;
+    struct vecset_pack_stats st;
+    const char *out = tmp(1, "p.vecs");
+    cr_assert_eq(pack("3 2\r\nalpha 1 2\r\nbeta\t3\t4 \r\nalpha 5 6\r\n", out, 2, &st, &e), 0, "%s", e.msg);
+    cr_assert_eq(st.rows, 2);
+    cr_assert_eq(st.merged, 1);
+    cr_assert_eq(st.lines, 4);
+    vecset *v = vecset_open(out, &e);
+    cr_assert_eq(vecset_find(v, "alpha"), 0);
+    cr_assert_eq(vecset_row(v, 0)[1], 2.0f, "the first entry wins");
+    cr_assert_eq(vecset_row(v, 1)[1], 4.0f);
+    vecset_close(v);
+}
+
+/* Every bad input: error names file and line, no output file. */
+Test(vecset, pack_bad_inputs)
+{
+    static const struct {
+        const char *text, *want;
+    } cases[] = {
+        { "a 1 2\nb 1 2 3\n", "in.txt:2: line has 3 numbers after the token, expected 2" },
+        { "a 1 2\nb 1\n", "in.txt:2: line has 1 numbers after the token, expected 2" },
+        { "a 1 2\n\nb 1 x2\n", "in.txt:3: number 2, 'x2', is not a number" },
+        { "a 1 nan\n", "in.txt:1: number 2 is 'nan'; vector values must be finite" },
+        { "a 1 2\nb -inf 2\n", "in.txt:2: number 1 is '-inf'; vector values must be finite" },
+        { "a 1 1e39\n", "in.txt:1: number 2, '1e39', is too large for a 32-bit float" },
+        { "3 2\na 1 2\nb 3 4\n", "in.txt:1: header line says 3 vectors but the file has 2" },
+        { "2 3\na 1 2\nb 3 4\n", "in.txt:2: line has 2 numbers after the token, expected 3" },
+        { "", "in.txt: empty file" },
+        { "\n \r\n", "in.txt: empty file" },
+        { "2 2\n", "in.txt: empty file: a header line but no vectors" },
+        { "lonely\n", "in.txt:1: line has a token but no numbers" },
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        struct err e = ERR_INIT;
+        struct vecset_pack_stats st;
+        const char *out = tmp(1, "bad.vecs");
+        cr_assert_eq(pack(cases[i].text, out, 2, &st, &e), -1, "case %zu accepted", i);
+        cr_assert_eq(e.code, ERR_INPUT);
+        cr_assert(strstr(e.msg, cases[i].want), "case %zu: '%s' lacks '%s'", i, e.msg, cases[i].want);
+        cr_assert_eq(access(out, F_OK), -1, "case %zu left an output file", i);
+    }
+}
+
+/* The same file packed with 1 and 3 threads, in windows: same bytes. */
+Test(vecset, pack_same_for_any_thread_count)
+{
+    struct err e = ERR_INIT;
+    struct vecset_pack_stats st;
+    struct rng r;
+    rng_seed(&r, 11);
+    size_t cap = 1 << 20, len = 0;
+    char *text = malloc(cap);
+    for (int i = 0; i < 3000; i++) {
+        len += (size_t)snprintf(text + len, cap - len, "w%d", i % 2900);
+        for (int j = 0; j < 20; j++)
+            len += (size_t)snprintf(text + len, cap - len, " %.7g", rng_normal(&r));
+        text[len++] = '\n';
+    }
+    text[len] = '\0';
+    const char *a = tmp(0, "t1.vecs"), *b = tmp(1, "t3.vecs");
+    cr_assert_eq(pack(text, a, 1, &st, &e), 0, "%s", e.msg);
+    cr_assert_eq(st.merged, 100);
+    cr_assert_eq(pack(text, b, 3, &st, &e), 0, "%s", e.msg);
+    free(text);
+    vecset *va = vecset_open(a, &e), *vb = vecset_open(b, &e);
+    cr_assert_eq(vecset_fingerprint(va), vecset_fingerprint(vb));
+    vecset_close(va);
+    vecset_close(vb);
+}
+
+Test(vecset, export_then_pack_keeps_fingerprint)
+{
+    struct err e = ERR_INIT;
+    struct vecset_pack_stats st;
+    const char *out = tmp(1, "e.vecs"), *txt = tmp(3, "e.txt");
+    cr_assert_eq(pack("x 0.1 -2.5e-7 3\ny 1e-40 123456.79 0\n", out, 1, &st, &e), 0, "%s", e.msg);
+    vecset *v = vecset_open(out, &e);
+    uint64_t f = vecset_fingerprint(v);
+    cr_assert_eq(vecset_export_text(v, txt, &e), 0);
+    vecset_close(v);
+    struct text_options to = TEXT_OPTIONS_INIT;
+    const char *again = tmp(0, "again.vecs");
+    cr_assert_eq(vecset_pack_text(txt, again, &to, 2, &st, &e), 0, "%s", e.msg);
+    v = vecset_open(again, &e);
+    cr_assert_eq(vecset_fingerprint(v), f);
+    vecset_close(v);
+}
+
+/* Truncated, foreign and too-new files are refused at open, whatever the
+ * length they are cut to. */
+Test(vecset, open_refuses_damaged_files)
+{
+    struct err e = ERR_INIT;
+    vecset *v = four(&e);
+    vecset_close(v);
+    FILE *fp = fopen(tmp(0, "four.vecs"), "rb");
+    unsigned char buf[4096];
+    size_t len = fread(buf, 1, sizeof buf, fp);
+    fclose(fp);
+    const char *p = tmp(1, "cut.vecs");
+    for (size_t cut = 0; cut < len; cut++) {
+        FILE *o = fopen(p, "wb");
+        fwrite(buf, 1, cut, o);
+        fclose(o);
+        err_clear(&e);
+        cr_assert_null(vecset_open(p, &e), "cut at %zu opened", cut);
+        cr_assert_eq(e.code, ERR_INPUT, "cut at %zu: %s", cut, e.msg);
+        cr_assert(strstr(e.msg, "cut.vecs"), "%s", e.msg);
+    }
+    /* a newer major version */
+    unsigned char b2[4096];
+    memcpy(b2, buf, len);
+    b2[8] = 2;
+    FILE *o = fopen(p, "wb");
+    fwrite(b2, 1, len, o);
+    fclose(o);
+    err_clear(&e);
+    cr_assert_null(vecset_open(p, &e));
+    cr_assert(strstr(e.msg, "version 2.0 is newer"), "%s", e.msg);
+    /* a section pointing past the end (rows offset) */
+    memcpy(b2, buf, len);
+    b2[48 + 7] = 0x40;
+    o = fopen(p, "wb");
+    fwrite(b2, 1, len, o);
+    fclose(o);
+    err_clear(&e);
+    cr_assert_null(vecset_open(p, &e));
+    /* a text file */
+    write_text(p, "east 1 0\n");
+    err_clear(&e);
+    cr_assert_null(vecset_open(p, &e));
+    cr_assert(strstr(e.msg, "not a packed vector store"), "%s", e.msg);
+}
+
+/* Index entries are never trusted: a row id past the end reads as absent. */
+Test(vecset, damaged_index_entry_is_not_followed)
+{
+    struct err e = ERR_INIT;
+    vecset *v = four(&e);
+    vecset_close(v);
+    const char *p = tmp(0, "four.vecs");
+    FILE *fp = fopen(p, "r+b");
+    uint64_t hdr[16];
+    cr_assert_eq(fread(hdr, 8, 16, fp), 16);
+    uint64_t index_off = hdr[14], index_size = hdr[15];
+    for (uint64_t s = 0; s < index_size / 4; s++) {
+        uint32_t bad = 1000;
+        fseek(fp, (long)(index_off + 4 * s), SEEK_SET);
+        fwrite(&bad, 4, 1, fp);
+    }
+    fclose(fp);
+    v = vecset_open(p, &e);
+    cr_assert_not_null(v, "%s", e.msg);
+    cr_assert_eq(vecset_find(v, "east"), -1);
+    vecset_close(v);
+}
+
+/* The import's fast path for plain ASCII tokens must give exactly what
+ * text_normalize_token gives (text.h is the reference). */
+Test(vecset, plain_tokens_normalise_as_text_does)
+{
+    static const char *const toks[] = { "printer", "abc123", "x9", "2024", "router", "wifi", "vpn" };
+    char body[1024] = "";
+    for (size_t i = 0; i < 7; i++) {
+        strcat(body, toks[i]);
+        strcat(body, " 1 2\n");
+    }
+    struct err e = ERR_INIT;
+    struct vecset_pack_stats st;
+    const char *out = tmp(1, "plain.vecs");
+    cr_assert_eq(pack(body, out, 1, &st, &e), 0, "%s", e.msg);
+    vecset *v = vecset_open(out, &e);
+    struct text_options to = TEXT_OPTIONS_INIT;
+    size_t row = 0;
+    for (size_t i = 0; i < 7; i++) {
+        char *n = text_normalize_token(toks[i], strlen(toks[i]), &to);
+        if (!n)
+            continue;
+        cr_assert_str_eq(vecset_word(v, row), n);
+        row++;
+        free(n);
+    }
+    cr_assert_eq(row, vecset_count(v));
+    vecset_close(v);
+}
