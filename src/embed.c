@@ -629,6 +629,9 @@ int embed_train(const struct embed_corpus *c, const struct embed_params *p, floa
             pthread_join(w[t].tid, NULL);
         if (started < T)
             rc = err_io(e, NULL, 0, "cannot start training thread %d of %d", started + 1, T);
+        else if (progress)
+            /* the first thread may finish before the others: report the end */
+            progress(ud, atomic_load(&s.done), s.total);
     }
     free(w);
     free(s.out);
