@@ -221,7 +221,7 @@ static int read_plain(const struct embed_source *src, struct tokdocs *d, size_t 
 static int read_csv(const struct embed_source *src, struct tokdocs *d, size_t *lines, struct err *e)
 {
     struct csv_options co = CSV_OPTIONS_INIT;
-    csv_reader *r = csv_open(src->path, &co, e);
+    csv_reader *r = csv_open(src->path, src->csv ? src->csv : &co, e);
     if (!r)
         return -1;
     long *col = xcalloc(src->ncols ? src->ncols : 1, sizeof *col);

@@ -12,6 +12,7 @@
 #include "vecsift/embed.h"
 #include "vecsift/err.h"
 #include "vecsift/rng.h"
+#include "vecsift/text.h"
 #include "vecsift/vecset.h"
 
 /* ---- parameters ---- */
@@ -455,4 +456,18 @@ Test(embed, start_from_copies_known_rows)
     vecset_close(v);
     embed_corpus_release(&c);
     remove_dir();
+}
+
+/* The text options are classification's (common.c): --mask-numbers turns
+ * error codes' digits into text.h's placeholder. */
+Test(embed_cli, text_options_reach_the_tokeniser, .init = make_dir, .fini = remove_dir)
+{
+    write_file("n.txt", "error 404 again\nerror 500 again\n");
+    cr_assert_eq(learn("n.txt --min-freq 1 --mask-numbers -o a.vecs --write-tokens a.tok --quiet"), 0);
+    char cmd[256];
+    snprintf(cmd, sizeof cmd, "grep -qx 'error " TEXT_MASK_NUMBER " again' '%s/a.tok'", dir);
+    cr_assert_eq(system(cmd), 0);
+    cr_assert_eq(learn("n.txt --min-freq 1 -o b.vecs --write-tokens b.tok --quiet"), 0);
+    snprintf(cmd, sizeof cmd, "grep -qx 'error 404 again' '%s/b.tok'", dir);
+    cr_assert_eq(system(cmd), 0);
 }
