@@ -15,6 +15,7 @@
     int cmd_##x(int argc, char **argv)
 
 /* Keep alphabetical, like the table in main.c. */
+VECSIFT_COMMAND(demo);
 VECSIFT_COMMAND(evaluate);
 VECSIFT_COMMAND(features);
 VECSIFT_COMMAND(predict);
