@@ -31,7 +31,7 @@ static int (*const runs[])(int, char **) = {
 
 const struct cli_cmd cmd_vectors_info = {
     "vectors", "<verb> [options] [arguments]",
-    "word vector sets: pack a text file, inspect, query neighbours, export",
+    "word vector sets: pack a text file, learn from text, inspect, query neighbours, export",
     NULL, NULL,
 };
 
