@@ -15,20 +15,23 @@
 
 static const struct cli_cmd *const verbs[] = {
     &vectors_analogy_info,
+    &vectors_coverage_info,
     &vectors_export_info,
     &vectors_info_info,
     &cmd_vectors_learn_info,
+    &cmd_vectors_learn_info, /* src/cli/cmd_vectors_learn.c */
     &vectors_near_info,
     &vectors_pack_info,
 };
 static int (*const runs[])(int, char **) = {
     vectors_analogy, vectors_export, vectors_info, cmd_vectors_learn, vectors_near, vectors_pack,
+    vectors_analogy, vectors_coverage, vectors_export, vectors_info, cmd_vectors_learn, vectors_near, vectors_pack,
 };
 #define NVERBS (sizeof verbs / sizeof verbs[0])
 
 const struct cli_cmd cmd_vectors_info = {
     "vectors", "<verb> [options] [arguments]",
-    "word vector sets: pack a text file, inspect, query neighbours, export",
+    "word vector sets: pack a text file, learn from text, inspect, query neighbours, export",
     NULL, NULL,
 };
 
