@@ -24,7 +24,6 @@ static const struct cli_opt opts[] = {
     { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict\n"
       "                              (default: the --evaluation file's cut-off, else none)" },
     { "evaluation", 'e', "<file>", "an 'evaluate --json' file of these settings: its summary is stored in the model" },
-    { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict (default: none)" },
     { "search", 0, NULL, "choose C (and gamma) by 3-fold cross-validation on all rows, as evaluate --search does" },
     RUN_OPTIONS,
     { NULL, 0, NULL, NULL }

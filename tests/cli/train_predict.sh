@@ -135,6 +135,16 @@ PYEOF
 run "$VECSIFT" predict "$D/m.json" "$D/broken.csv" -o "$D/x.csv"
 expect_status 2; expect_err "^vecsift: $D/broken.csv:[0-9]+:"; expect_clean "$D/x.csv"
 
+# to stdout, a bad row among the first rows leaves stdout empty (not even
+# the header): nothing there can be thrown away afterwards
+printf 'subject,body\r\nhi,refund please\r\nhi,caf\xe9\r\n' >"$D/latin1.csv"
+run "$VECSIFT" predict "$D/m.json" "$D/latin1.csv" -o -
+expect_status 2; expect_err "^vecsift: $D/latin1.csv:3: invalid UTF-8"
+if [ -s "$T_DIR/out" ]; then bad "stdout not empty: $(head -c 200 "$T_DIR/out")"; else ok; fi
+printf 'subject,body\r\n' >"$D/header_only.csv"
+run "$VECSIFT" predict "$D/m.json" "$D/header_only.csv" -o - -q
+expect_status 0; expect_out '^subject,body,predicted,confidence,route'
+
 run "$VECSIFT" predict "$D/m.json" "$NEW" --top 0 -o "$D/x.csv"
 expect_status 2; expect_clean "$D/x.csv"
 run "$VECSIFT" predict "$D/m.json" "$NEW" --review-below 1.5 -o "$D/x.csv"
