@@ -66,6 +66,13 @@ run "$VECSIFT" train labelled.csv --text-col subject --text-col body --label-col
 expect_status 0
 check_model vec.json --top 3 --explain 2
 
+# routing a part never overwrites it: an output named like the input is
+# refused (exit 2, the input unchanged), as README.md's "File formats" says
+cp parts/part-0001.csv keep.csv
+run "$VECSIFT" predict vec.json parts/part-0001.csv -o parts/part-0001.csv
+expect_status 2; expect_err 'also an input'
+if cmp -s keep.csv parts/part-0001.csv; then ok; else bad "predict changed its input"; fi
+
 # the comparison can fail: a joined output missing one part differs
 rm -f routed/part-0002.csv
 join_parts routed joined.csv
