@@ -205,11 +205,10 @@ void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *
     struct eval_cut cut;
     evalout_cut(r, s->target, &cut);
     if (cut.reachable)
-        fprintf(fp, "\nCut-off: route automatically when confidence >= %.3f. Out of fold this kept %.1f%% of rows "
+        fprintf(fp, "\nCut-off: route automatically when confidence >= %s. Out of fold this kept %.1f%% of rows "
                     "at precision %.3f (target %.2f); the other %.1f%% go to a person.\n"
                     "Use it with: vecsift predict --review-below %s\n",
-                cut.threshold, 100 * cut.coverage, cut.precision, s->target, 100 * (1 - cut.coverage),
-                cut.advice);
+                cut.advice, 100 * cut.coverage, cut.precision, s->target, 100 * (1 - cut.coverage), cut.advice);
     else
         fprintf(fp, "\nCut-off: no confidence cut-off reaches precision %.2f on these rows; every ticket needs a "
                     "person, or more labelled examples.\n",
