@@ -350,6 +350,7 @@ cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const str
     if (r->chosen_C) {
         size_t T = r->repeats * (size_t)r->folds;
         cJSON_AddItemToObject(root, "chosen_C", jsonv_doubles_new(r->chosen_C, T));
+        cJSON_AddItemToObject(root, "chosen_inner_macro_f1", jsonv_doubles_new(r->chosen_score, T));
         if (r->chosen_gamma)
             cJSON_AddItemToObject(root, "chosen_gamma_factor", jsonv_doubles_new(r->chosen_gamma, T));
     }
