@@ -28,6 +28,18 @@
 
 static char path[64];
 
+/* A new temporary CSV at 'path' with its header written, and a seeded rng. */
+static FILE *open_set(const char *header, struct rng *r, uint64_t seed)
+{
+    strcpy(path, "/tmp/vecsift-test-cv-XXXXXX");
+    int fd = mkstemp(path);
+    cr_assert(fd >= 0);
+    FILE *fp = fdopen(fd, "w");
+    fprintf(fp, "%s\n", header);
+    rng_seed(r, seed);
+    return fp;
+}
+
 /* An invented inbox: three queues with their own words, shared filler, and
  * some rows that borrow a word of another queue.  'rare' rows of a fourth
  * label when rare > 0. */
@@ -40,13 +52,8 @@ static void write_set(const char *labels_override, int rare)
     };
     static const char *const names[3] = { "billing", "delivery", "access" };
     static const char *const filler[5] = { "hello", "please", "thanks", "today", "help" };
-    strcpy(path, "/tmp/vecsift-test-cv-XXXXXX");
-    int fd = mkstemp(path);
-    cr_assert(fd >= 0);
-    FILE *fp = fdopen(fd, "w");
-    fputs("text,label\n", fp);
     struct rng r;
-    rng_seed(&r, 42);
+    FILE *fp = open_set("text,label", &r, 42);
     for (int i = 0; i < 90; i++) {
         int k = i % 3;
         for (int w = 0; w < 5; w++) {
@@ -257,13 +264,8 @@ Test(cv, refuses_one_label_and_rare_labels)
  * (common practice: group k-fold at every level of a nested search). */
 static void write_twins(void)
 {
-    strcpy(path, "/tmp/vecsift-test-cv-XXXXXX");
-    int fd = mkstemp(path);
-    cr_assert(fd >= 0);
-    FILE *fp = fdopen(fd, "w");
-    fputs("id,text,label\n", fp);
     struct rng r;
-    rng_seed(&r, 3);
+    FILE *fp = open_set("id,text,label", &r, 3);
     for (int i = 0; i < 60; i++) {
         char text[256] = "";
         for (int w = 0; w < 8; w++)
