@@ -13,11 +13,10 @@
 #include "vecsift/text.h"
 #include "vecsift/vecset.h"
 
-/* One row per verb, alphabetical; info and entry point side by side so the
- * two can never fall out of step. */
+/* One row per verb, alphabetical: its description and its entry point. */
 static const struct verb {
     const struct cli_cmd *info;
-    int (*run)(int, char **);
+    int (*run)(int argc, char **argv);
 } verbs[] = {
     { &vectors_analogy_info, vectors_analogy },
     { &vectors_coverage_info, vectors_coverage },
