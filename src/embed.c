@@ -90,8 +90,11 @@ static int corpus_finish(struct embed_corpus *c, const struct tokdocs *d, uint64
     size_t nv = d->v ? vocab_size(d->v) : 0;
     c->ndocs = d->n;
     c->tokens_read = d->n ? d->off[d->n] : 0;
+    if (c->tokens_read == 0 && d->n == 0)
+        return err_set(e, name, 0, "no words in the corpus: it is empty");
     if (c->tokens_read == 0)
-        return err_set(e, name, 0, "no words in the corpus (%zu empty documents)", d->n);
+        return err_set(e, name, 0, "no words in the corpus: its %zu %s hold none", d->n,
+                       d->n == 1 ? "document" : "documents");
 
     struct rank *r = xcalloc(nv, sizeof *r);
     size_t V = 0;

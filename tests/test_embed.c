@@ -372,7 +372,7 @@ Test(embed_cli, bad_input_exits_2_without_output, .init = make_dir, .fini = remo
     write_inbox("inbox.txt");
     write_file("empty.txt", "\n\n  \n");
     cr_assert_eq(learn("empty.txt -o out.vecs"), 2);
-    cr_assert(err_has("vecsift: empty.txt: no words"));
+    cr_assert(err_has("vecsift: empty.txt: no words in the corpus: its 3 documents hold none"));
     cr_assert_eq(learn("inbox.txt -o out.vecs --min-freq 1000"), 2);
     cr_assert(err_has("vecsift: inbox.txt: no word occurs 1000 times"));
     cr_assert(err_has("hint: lower --min-freq"));
