@@ -171,7 +171,7 @@ int cmd_curve(int argc, char **argv)
         if (cv_run(&r, &a.fa.spec, &c, vs, &cp, &e) < 0)
             goto fail;
         pt[q].fraction = a.sizes[q];
-        /* the mean over fits, unrounded: folds differ by a row or so */
+        /* the mean over fits (folds differ by a row or so), rounded by cv */
         pt[q].train_rows = (double)r.train_rows;
         pt[q].macro_f1 = r.spread.macro_f1;
         pt[q].accuracy = r.spread.accuracy;

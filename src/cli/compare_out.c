@@ -102,9 +102,9 @@ void compare_row_name(const struct compare_row *row, char *buf, size_t n)
                  pipeline_classifier_name(row->clf));
 }
 
-static const char *verdict(const struct compare_row *row)
+static const char *verdict(const struct compare_row *row, int brief)
 {
-    return row->best ? "best" : row->not_worse ? "not significantly worse" : "worse";
+    return row->best ? "best" : !row->not_worse ? "worse" : brief ? "not sig. worse" : "not significantly worse";
 }
 
 static const char *ASSUMPTIONS =
@@ -139,8 +139,8 @@ static void fmt_cov(char *buf, size_t n, double c)
         snprintf(buf, n, "%.1f%%", 100 * c);
 }
 
-/* The table's cells, ranked; 'with_time' adds seconds.  Caller frees each. */
-static char **table_cells(const struct compare_row *rows, const size_t *order, size_t n, size_t ncols)
+/* The table's cells, ranked; 'brief' shortens the verdict.  Caller frees each. */
+static char **table_cells(const struct compare_row *rows, const size_t *order, size_t n, size_t ncols, int brief)
 {
     char **cells = xcalloc(n * ncols, sizeof *cells);
     char buf[256];
@@ -164,7 +164,7 @@ static char **table_cells(const struct compare_row *rows, const size_t *order, s
         c[8] = xstrdup(buf);
         fmt_p(buf, sizeof buf, r->p_vs_best);
         c[9] = xstrdup(buf);
-        c[10] = xstrdup(verdict(r));
+        c[10] = xstrdup(verdict(r, brief));
     }
     return cells;
 }
@@ -187,7 +187,7 @@ void compare_terminal(FILE *fp, const struct compare_row *rows, const size_t *or
     fprintf(fp, "\nCompared %zu set-ups on %s: %zu rows, %zu labels, %d folds x %zu repeats (seed %llu), "
                 "the same folds for every set-up\n\n",
             n, s->data, s->n_rows, s->n_labels, s->cp->folds, s->cp->repeats, (unsigned long long)s->cp->seed);
-    char **cells = table_cells(rows, order, n, NCOLS);
+    char **cells = table_cells(rows, order, n, NCOLS, 0);
     report_table_print(fp, HEADER, (const char *const *)cells, NCOLS, n, "rlllrrrrrrl");
     free_cells(cells, n * NCOLS);
     char text[2048];
@@ -298,7 +298,7 @@ int compare_html(const char *path, const struct compare_row *rows, const size_t 
         const struct compare_row *r = &rows[order[q]];
         compare_row_name(r, nbuf[q], sizeof nbuf[q]);
         names[q] = nbuf[q];
-        flags[q] = verdict(r);
+        flags[q] = verdict(r, 0);
         mean[q] = r->r.spread.macro_f1.mean;
         lo[q] = mean[q] - r->r.spread.macro_f1.sd;
         hi[q] = mean[q] + r->r.spread.macro_f1.sd;
@@ -312,7 +312,7 @@ int compare_html(const char *path, const struct compare_row *rows, const size_t 
     chart_intervals(fp, "Macro F1 (mean \xC2\xB1 1 sd over folds)", names, n, mean, lo, hi, n ? 0 : CHART_NO_BEST,
                     flags, "macro F1");
 
-    char **cells = table_cells(rows, order, n, NCOLS);
+    char **cells = table_cells(rows, order, n, NCOLS, 1);
     static const int numeric[NCOLS] = { 1, 0, 0, 0, 1, 1, 1, 1, 1, 1, 0 };
     snprintf(text, sizeof text,
              "Mean \xC2\xB1 sd over folds. Coverage is the share of held-out tokens that have a vector (for the "
