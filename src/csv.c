@@ -61,6 +61,7 @@ struct csv_reader {
     size_t nf, fcap;
 
     char **cols;                /* (ncols) header, owned */
+    long header_line;           /* 1 unless empty lines come first */
     size_t ncols;
     long row;
     size_t replaced;
@@ -172,6 +173,8 @@ static int fill(csv_reader *r, struct err *e)
 
 static void raw_add(csv_reader *r, const unsigned char *p, size_t n)
 {
+    if (n == 0)
+        return;     /* raw may still be NULL: memcpy(NULL, p, 0) is undefined */
     if (r->rlen + n > r->rcap)
         r->raw = xgrow(r->raw, &r->rcap, r->rlen + n, 1);
     memcpy(r->raw + r->rlen, p, n);
@@ -457,6 +460,7 @@ csv_reader *csv_open(const char *path, const struct csv_options *o, struct err *
         goto fail;
     }
     r->ncols = r->nf;
+    r->header_line = r->rec_line;
     r->cols = xcalloc(r->ncols, sizeof *r->cols);
     for (size_t i = 0; i < r->ncols; i++) {
         r->cols[i] = xstrdup(r->fields[i]);
@@ -513,7 +517,7 @@ long csv_require_col(const csv_reader *r, const char *name, struct err *e)
     long c = csv_col(r, name);
     if (c >= 0)
         return c;
-    err_set(e, r->path, 1, "no column '%s'", name);
+    err_set(e, r->path, r->header_line, "no column '%s'", name);
     char list[480];
     size_t n = 0;
     list[0] = '\0';

@@ -281,6 +281,15 @@ Test(csv, require_col_lists_columns)
     csv_close(r);
 }
 
+Test(csv, missing_column_names_header_line)
+{
+    struct err e = ERR_INIT;
+    csv_reader *r = open_ok("\r\ntext,queue\n");   /* header on line 2 after an empty line */
+    cr_assert_eq(csv_require_col(r, "label", &e), -1);
+    cr_assert_str_eq(e.msg + strlen(path), ":2: no column 'label'");
+    csv_close(r);
+}
+
 Test(csv, very_long_field)
 {
     /* 5 MB in one quoted field, spanning many 64 KiB blocks */

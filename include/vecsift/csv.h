@@ -39,8 +39,8 @@ size_t csv_ncols(const csv_reader *r);
 const char *csv_colname(const csv_reader *r, size_t i);
 /* Index of the column called 'name', or -1. */
 long csv_col(const csv_reader *r, const char *name);
-/* Index of 'name', or -1 with 'e' set to "FILE:1: no column 'name'" and a
- * hint listing the columns there are. */
+/* Index of 'name', or -1 with 'e' set to "FILE:1: no column 'name'" (the
+ * header's line) and a hint listing the columns there are. */
 long csv_require_col(const csv_reader *r, const char *name, struct err *e);
 
 /* Read the next data row.  Returns 1 when a row was read, 0 at end of file,

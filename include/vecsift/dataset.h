@@ -31,7 +31,7 @@ struct dataset {
     long *line;              /* (n) file line where each row starts */
     size_t nlabels; char **labels; /* distinct labels, sorted by strcmp (bytewise), owned */
     int *y;                  /* (n) index into labels, or NULL */
-    size_t empty_text;       /* rows whose joined text is empty or only spaces */
+    size_t empty_text;       /* rows whose joined text is empty or only white space (space, tab, CR, LF) */
     size_t replaced;         /* invalid UTF-8 sequences replaced */
     char *path;
 };

@@ -1,5 +1,7 @@
 /* cmd_train.c -- `vecsift train`: fit a pipeline on every labelled row and
  * write the model file. */
+#include <cjson/cJSON.h>
+#include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -7,6 +9,7 @@
 #include "commands.h"
 #include "common.h"
 #include "vecsift/err.h"
+#include "vecsift/jsonv.h"
 #include "vecsift/model.h"
 #include "vecsift/ofile.h"
 #include "vecsift/pipeline.h"
@@ -17,7 +20,9 @@ static const struct cli_opt opts[] = {
     { "output", 'o', "<file>", "where to write the model (required; JSON)" },
     PIPELINE_OPTIONS,
     DATA_OPTIONS,
-    { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict (default: none)" },
+    { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict\n"
+      "                              (default: the --evaluation file's cut-off, else none)" },
+    { "evaluation", 'e', "<file>", "an 'evaluate --json' file of these settings: its summary is stored in the model" },
     RUN_OPTIONS,
     { NULL, 0, NULL, NULL }
 };
@@ -33,6 +38,64 @@ const struct cli_cmd cmd_train_info = {
     "texts are, under the applicable law and your organisation's policy.\n"
     "Measure before you deploy: 'vecsift evaluate' with the same options."
 };
+
+/* The summary of an `evaluate --json` file, checked to describe the same
+ * pooling and classifier; its cut-off becomes the default review cut-off. */
+static int read_evaluation(const char *path, const struct fit_args *fa, cJSON **summary, double *review,
+                           struct err *e)
+{
+    size_t len = 0, cap = 0, got;
+    char *buf = NULL, tmp[65536];
+    FILE *fp = fopen(path, "rb");
+    if (!fp)
+        return err_set(e, path, 0, "cannot open: %s", strerror(errno));
+    while ((got = fread(tmp, 1, sizeof tmp, fp)) > 0) {
+        buf = xgrow(buf, &cap, len + got + 1, 1);
+        memcpy(buf + len, tmp, got);
+        len += got;
+    }
+    fclose(fp);
+    cJSON *root = jsonv_parse(path, buf ? buf : "", len, e);
+    free(buf);
+    if (!root)
+        return -1;
+    struct jsonv_ctx c = { path, "settings", e };
+    const cJSON *st = cJSON_IsObject(root) ? cJSON_GetObjectItemCaseSensitive(root, "settings") : NULL;
+    const char *pool = st ? jsonv_str(&c, st, "pool") : NULL;
+    const char *clf = pool ? jsonv_str(&c, st, "classifier") : NULL;
+    int rc = 0;
+    if (!st || !clf) {
+        err_clear(e);
+        rc = err_set(e, path, 0, "not an 'evaluate --json' file");
+    } else if (strcmp(pool, features_pool_name(fa->spec.feat.pool)) != 0 ||
+               strcmp(clf, pipeline_classifier_name(fa->spec.clf)) != 0) {
+        rc = err_set(e, path, 0, "evaluated %s with pooling %s, but this model is %s with pooling %s", clf, pool,
+                     pipeline_classifier_name(fa->spec.clf), features_pool_name(fa->spec.feat.pool));
+        err_hint(e, "train with the settings that were evaluated, or evaluate these settings");
+    }
+    if (rc == 0) {
+        *summary = cJSON_CreateObject();
+        static const char *keep[] = { "labels", "pooled", "per_fold", "settings" };
+        for (size_t i = 0; i < sizeof keep / sizeof keep[0]; i++) {
+            const cJSON *it = cJSON_GetObjectItemCaseSensitive(root, keep[i]);
+            if (it)
+                cJSON_AddItemToObject(*summary, keep[i], cJSON_Duplicate(it, 1));
+        }
+        const cJSON *th = cJSON_GetObjectItemCaseSensitive(root, "threshold");
+        const cJSON *cut = th ? cJSON_GetObjectItemCaseSensitive(th, "cutoff") : NULL;
+        if (th) {
+            cJSON *t = cJSON_Duplicate(th, 1);
+            cJSON_DeleteItemFromObjectCaseSensitive(t, "curve"); /* the curve stays in the evaluation file */
+            cJSON_AddItemToObject(*summary, "threshold", t);
+        }
+        if (*review < 0 && cut && cJSON_IsNumber(cut) && cut->valuedouble >= 0 && cut->valuedouble <= 1)
+            *review = cut->valuedouble;
+        else if (*review < 0 && th && cut && cJSON_IsNull(cut))
+            *review = 1.0; /* no cut-off reached the target: a person decides every row */
+    }
+    cJSON_Delete(root);
+    return rc;
+}
 
 /* Labels with a single row cannot be learned (nor evaluated): refuse. */
 static int check_labels(const struct corpus *c, size_t *rows_per, struct err *e)
@@ -62,6 +125,7 @@ int cmd_train(int argc, char **argv)
     fit_args_init(&fa);
     const char *out = NULL;
     double review = -1;
+    const char *evaluation = NULL;
     struct cli_parser p;
     cli_parser_init(&p, cmd, argc, argv);
     int rc = ERR_OK, i;
@@ -79,6 +143,8 @@ int cmd_train(int argc, char **argv)
             continue;
         if (strcmp(name, "output") == 0)
             out = val;
+        else if (strcmp(name, "evaluation") == 0)
+            evaluation = val;
         else if (strcmp(name, "review-below") == 0 && cli_double(cmd, name, val, 0, 1, &review) < 0) {
             cli_parser_release(&p);
             return ERR_INPUT;
@@ -102,8 +168,10 @@ int cmd_train(int argc, char **argv)
     struct vecset *vs = NULL;
     struct model m = MODEL_INIT;
     size_t *rows_per = NULL, *rows = NULL;
-    const char *ins[] = { data, fa.vectors };
-    if (ofile_check_distinct(out, ins, 2, &e) < 0)
+    const char *ins[] = { data, fa.vectors, evaluation };
+    if (ofile_check_distinct(out, ins, 3, &e) < 0)
+        goto fail;
+    if (evaluation && read_evaluation(evaluation, &fa, &m.evaluation, &review, &e) < 0)
         goto fail;
     struct dataset_options dopt;
     data_args_dataset(&da, 1, &dopt);

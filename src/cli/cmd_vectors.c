@@ -17,11 +17,12 @@ static const struct cli_cmd *const verbs[] = {
     &vectors_analogy_info,
     &vectors_export_info,
     &vectors_info_info,
+    &cmd_vectors_learn_info,
     &vectors_near_info,
     &vectors_pack_info,
 };
 static int (*const runs[])(int, char **) = {
-    vectors_analogy, vectors_export, vectors_info, vectors_near, vectors_pack,
+    vectors_analogy, vectors_export, vectors_info, cmd_vectors_learn, vectors_near, vectors_pack,
 };
 #define NVERBS (sizeof verbs / sizeof verbs[0])
 

@@ -17,10 +17,12 @@
 /* Keep alphabetical, like the table in main.c. */
 VECSIFT_COMMAND(compare);
 VECSIFT_COMMAND(curve);
+VECSIFT_COMMAND(demo);
 VECSIFT_COMMAND(evaluate);
 VECSIFT_COMMAND(features);
 VECSIFT_COMMAND(predict);
 VECSIFT_COMMAND(train);
 VECSIFT_COMMAND(vectors);
+VECSIFT_COMMAND(vectors_learn);
 
 #endif

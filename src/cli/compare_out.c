@@ -184,11 +184,12 @@ void compare_terminal(FILE *fp, const struct compare_row *rows, const size_t *or
                       const struct compare_setup *s)
 {
     size_t J = (size_t)s->cp->folds * s->cp->repeats;
-    fprintf(fp, "\nCompared %zu set-ups on %s: %zu rows, %zu labels, %d folds x %zu repeats (seed %llu), "
+    fprintf(fp, "\nCompared %zu set-up%s on %s: %zu rows, %zu labels, %d folds x %zu repeats (seed %llu), "
                 "the same folds for every set-up\n\n",
-            n, s->data, s->n_rows, s->n_labels, s->cp->folds, s->cp->repeats, (unsigned long long)s->cp->seed);
+            n, n == 1 ? "" : "s", s->data, s->n_rows, s->n_labels, s->cp->folds, s->cp->repeats,
+            (unsigned long long)s->cp->seed);
     char **cells = table_cells(rows, order, n, NCOLS, 0);
-    report_table_print(fp, HEADER, (const char *const *)cells, NCOLS, n, "rlllrrrrrrl");
+    report_table_print(fp, HEADER, NCOLS, (const char *const *)cells, n, "rlllrrrrrrl");
     free_cells(cells, n * NCOLS);
     char text[2048];
     assumptions(text, sizeof text, s);

@@ -110,7 +110,7 @@ void curve_terminal(FILE *fp, const struct curve_point *pt, size_t m, const stru
                 "stratified share of its fold's training rows and is scored on the whole held-out fold\n\n",
             what, s->n_rows, s->n_labels, s->cp->folds, s->cp->repeats, (unsigned long long)s->cp->seed);
     char **cells = cells_of(pt, m);
-    report_table_print(fp, HEADER, (const char *const *)cells, 4, m, "rrrr");
+    report_table_print(fp, HEADER, 4, (const char *const *)cells, m, "rrrr");
     free_cells(cells, m * 4);
     estimate_text(text, sizeof text, est);
     fprintf(fp, "\nmacro F1 and accuracy: mean ± sd over the %zu folds.\n", (size_t)s->cp->folds * s->cp->repeats);

@@ -64,7 +64,7 @@ def ours(path, *opts):
 
 def json_lines(out):
     # split on "\n" only: str.splitlines() would also split at U+0085, U+2028
-    return [json.loads(line) for line in out.decode("utf-8").split("\n") if line]
+    return [json.loads(line) for line in out.decode("utf-8", "replace").split("\n") if line]
 
 
 def our_rows(path, *opts):
@@ -108,6 +108,14 @@ def main():
     names = sorted(n for n in os.listdir(DATA) if n.endswith(".csv"))
     for n in names:
         compare_file(os.path.join(DATA, n), n)
+
+    # standard input ("-") reads the same as the file
+    path = os.path.join(DATA, "04_embedded_crlf.csv")
+    with open(path, "rb") as f:
+        data = f.read()
+    p = subprocess.run([TOOL, "-"], input=data, capture_output=True)
+    check(p.returncode == 0 and json_lines(p.stdout) == python_rows(data),
+          "04_embedded_crlf.csv through standard input equal to csv.reader", p.stderr.decode())
 
     with tempfile.TemporaryDirectory() as tmp:
         # a very long field: 3 MB with quotes, commas and line breaks inside
