@@ -22,6 +22,8 @@ As a module: texts_from_csv, tokens, ppmi_svd, random_like, write_text.
 As a script:
   svdvec.py OUT.txt CSV TEXTCOL[,TEXTCOL...] [--dim D] [--window W]
             [--min-count M] [--random SEED]
+  svdvec.py --random-like LIKE.txt SEED OUT.txt   random vectors for the
+            words and size of the text vector file LIKE.txt
 """
 import csv
 import re
@@ -93,6 +95,12 @@ def write_text(path, vocab, vecs):
 
 
 def main(argv):
+    if argv[0] == "--random-like":
+        with open(argv[1], encoding="utf-8") as f:
+            count, dim = map(int, f.readline().split())
+            vocab = [line.split(" ", 1)[0] for line in f]
+        write_text(argv[3], vocab, random_like(vocab, dim, int(argv[2])))
+        return
     out, path, cols = argv[0], argv[1], argv[2].split(",")
     opts = dict(zip(argv[3::2], argv[4::2]))
     dim = int(opts.get("--dim", 50))
