@@ -15,6 +15,8 @@
     int cmd_##x(int argc, char **argv)
 
 /* Keep alphabetical, like the table in main.c. */
+VECSIFT_COMMAND(compare);
+VECSIFT_COMMAND(curve);
 VECSIFT_COMMAND(demo);
 VECSIFT_COMMAND(evaluate);
 VECSIFT_COMMAND(features);

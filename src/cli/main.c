@@ -28,6 +28,8 @@ struct cmd_entry {
 };
 
 static const struct cmd_entry cmds[] = {
+    { &cmd_compare_info, cmd_compare },
+    { &cmd_curve_info, cmd_curve },
     { &cmd_demo_info, cmd_demo },
     { &cmd_evaluate_info, cmd_evaluate },
     { &cmd_features_info, cmd_features },
