@@ -28,10 +28,12 @@ struct cmd_entry {
 };
 
 static const struct cmd_entry cmds[] = {
+    { &cmd_audit_info, cmd_audit },
     { &cmd_demo_info, cmd_demo },
     { &cmd_evaluate_info, cmd_evaluate },
     { &cmd_features_info, cmd_features },
     { &cmd_predict_info, cmd_predict },
+    { &cmd_suggest_info, cmd_suggest },
     { &cmd_train_info, cmd_train },
     { &cmd_vectors_info, cmd_vectors },
     { NULL, NULL }
