@@ -30,6 +30,7 @@ import email.policy
 import glob
 import os
 import random
+import re
 import subprocess
 import sys
 import tempfile
@@ -53,26 +54,34 @@ def vecsift(*args):
 
 
 def mail_text(path, limit=1500):
-    """Subject and the plain-text body of one message, white space folded."""
+    """Subject and the plain-text body of one message (the text of the HTML
+    body when there is no plain one), white space folded."""
     with open(path, "rb") as fp:
         msg = email.message_from_binary_file(fp, policy=email.policy.compat32)
     subject = str(msg.get("Subject", "") or "")
-    parts = []
+    parts, html = [], []
     for part in msg.walk():
-        if part.get_content_type() == "text/plain":
+        kind = part.get_content_type()
+        if kind in ("text/plain", "text/html"):
             payload = part.get_payload(decode=True) or b""
-            parts.append(payload.decode("utf-8", errors="replace"))
+            (parts if kind == "text/plain" else html).append(payload.decode("utf-8", errors="replace"))
+    if not parts:  # HTML-only mail: its text without the tags
+        parts = [re.sub(r"<[^>]*>", " ", h) for h in html]
     text = " ".join((subject + " " + " ".join(parts)).split())
     return text[:limit]
 
 
-def spam_rows(srcdir, per_class=500, seed=1):
-    """[(text, label)] with per_class ham and per_class spam messages, shuffled."""
+HAM_SPAM = (("ham", ["easy-ham-1", "hard-ham-1"]), ("spam", ["spam-1", "spam-2"]))
+
+
+def spam_rows(srcdir, per_class=500, seed=1, classes=HAM_SPAM):
+    """[(text, label)]: per_class messages of each (label, folders) in
+    'classes' (default ham and spam), shuffled."""
     pkg = subprocess.run([os.path.join(srcdir, "tools", "fetch-data"), "spam"],
                          check=True, capture_output=True, text=True).stdout.split()[0]
     rng = random.Random(seed)
     rows = []
-    for label, groups in (("ham", ["easy-ham-1", "hard-ham-1"]), ("spam", ["spam-1", "spam-2"])):
+    for label, groups in classes:
         files = sorted(f for g in groups for f in glob.glob(os.path.join(pkg, "data", g, "*.txt")))
         rng.shuffle(files)
         got = 0
