@@ -32,6 +32,7 @@ static const struct cmd_entry cmds[] = {
     { &cmd_demo_info, cmd_demo },
     { &cmd_evaluate_info, cmd_evaluate },
     { &cmd_features_info, cmd_features },
+    { &cmd_map_info, cmd_map },
     { &cmd_predict_info, cmd_predict },
     { &cmd_suggest_info, cmd_suggest },
     { &cmd_train_info, cmd_train },
