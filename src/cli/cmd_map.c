@@ -160,7 +160,7 @@ int cmd_map(int argc, char **argv)
                  vecset_path(vs));
     else
         snprintf(what, sizeof what, "features: TF-IDF bag of words");
-    caption = map_caption_new(&ma, N, what);
+    caption = map_caption_new(SVGPLOT_MAP_CAPTION, &ma, N, what);
     /* Both files are written before either is committed. */
     if (!(o = ofile_open(out, &e)) || (ma.coords && !(oc = ofile_open(ma.coords, &e))))
         goto fail;

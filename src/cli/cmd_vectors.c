@@ -18,11 +18,12 @@ static const struct cli_cmd *const verbs[] = {
     &vectors_export_info,
     &vectors_info_info,
     &cmd_vectors_learn_info,
+    &vectors_map_info,
     &vectors_near_info,
     &vectors_pack_info,
 };
 static int (*const runs[])(int, char **) = {
-    vectors_analogy, vectors_export, vectors_info, cmd_vectors_learn, vectors_near, vectors_pack,
+    vectors_analogy, vectors_export, vectors_info, cmd_vectors_learn, vectors_map, vectors_near, vectors_pack,
 };
 #define NVERBS (sizeof verbs / sizeof verbs[0])
 

@@ -17,6 +17,7 @@ typedef struct vecset vecset;
 VECTORS_VERB(analogy);
 VECTORS_VERB(export);
 VECTORS_VERB(info);
+VECTORS_VERB(map);
 VECTORS_VERB(near);
 VECTORS_VERB(pack);
 

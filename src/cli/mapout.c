@@ -9,7 +9,6 @@
 #include "vecsift/csv.h"
 #include "vecsift/err.h"
 #include "vecsift/jsonv.h"
-#include "vecsift/svgplot.h"
 #include "vecsift/xalloc.h"
 
 void map_args_init(struct map_args *a)
@@ -38,17 +37,17 @@ int map_args_option(struct map_args *a, const struct cli_cmd *cmd, const char *n
     return 1;
 }
 
-char *map_caption_new(const struct map_args *a, size_t n, const char *what)
+char *map_caption_new(const char *lead, const struct map_args *a, size_t n, const char *what)
 {
     double perp = a->tp.perplexity, most = ((double)n - 1) / 3;
     if (perp > most)
         perp = most;
     const char *fmt = "%s Map by t-SNE (van der Maaten and Hinton 2008), %zu points, perplexity %.3g, "
                       "%d steps, seed %llu; %s.";
-    int len = snprintf(NULL, 0, fmt, SVGPLOT_MAP_CAPTION, n, perp, a->tp.iters,
+    int len = snprintf(NULL, 0, fmt, lead, n, perp, a->tp.iters,
                        (unsigned long long)a->tp.seed, what);
     char *s = xmalloc((size_t)len + 1);
-    snprintf(s, (size_t)len + 1, fmt, SVGPLOT_MAP_CAPTION, n, perp, a->tp.iters, (unsigned long long)a->tp.seed,
+    snprintf(s, (size_t)len + 1, fmt, lead, n, perp, a->tp.iters, (unsigned long long)a->tp.seed,
              what);
     return s;
 }

@@ -25,9 +25,10 @@ void map_args_init(struct map_args *a);
 /* 1: taken; 0: not a map option; -1: usage error printed. */
 int map_args_option(struct map_args *a, const struct cli_cmd *cmd, const char *name, const char *val);
 
-/* The caption under a map: what a t-SNE map can and cannot show, then how
- * this one was made ('what': e.g. "features: tfidf pooling of V.vecs"). */
-char *map_caption_new(const struct map_args *a, size_t n, const char *what);
+/* The caption under a map: 'lead' (what a t-SNE map can and cannot show,
+ * e.g. SVGPLOT_MAP_CAPTION), then how this one was made ('what': e.g.
+ * "features: tfidf pooling of V.vecs").  A new string; caller frees. */
+char *map_caption_new(const char *lead, const struct map_args *a, size_t n, const char *what);
 
 /* Write rows (row, name, x, y) of Y (n, 2) as CSV to 'fp'; 'head' names the
  * second column, names[i] its cells (NULL: empty). */
