@@ -29,6 +29,7 @@ static const struct cli_opt opts[] = {
     MAP_OPTIONS,
     { "seed", 's', "<n>", "seed of the map's random start (default: 1)" },
     { "keep-accents", 0, NULL, "the store was packed with --keep-accents" },
+    { "quiet", 'q', NULL, "no notes on stderr" },
     { NULL, 0, NULL, NULL },
 };
 
@@ -146,6 +147,8 @@ int vectors_map(int argc, char **argv)
             goto out;
         else if (strcmp(name, "keep-accents") == 0)
             keep_accents = 1;
+        else if (strcmp(name, "quiet") == 0)
+            cli_quiet = 1;
     }
     if (i != CLI_END) {
         rc = i == CLI_HELP ? ERR_OK : ERR_INPUT;
@@ -215,6 +218,8 @@ int vectors_map(int argc, char **argv)
         goto fail;
     }
     oc = NULL;
+    cli_note("mapped %zu words (%zu asked for, the rest their neighbours); seed %llu", n, nw,
+             (unsigned long long)ma.tp.seed);
     rc = ERR_OK;
     goto out;
 fail:
