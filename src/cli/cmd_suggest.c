@@ -16,6 +16,7 @@
 
 #include "commands.h"
 #include "common.h"
+#include "scored.h"
 #include "vecsift/csv.h"
 #include "vecsift/err.h"
 #include "vecsift/fmat.h"
@@ -52,16 +53,6 @@ const struct cli_cmd cmd_suggest_info = {
 
 enum { BY_MARGIN, BY_ENTROPY };
 
-struct pool {
-    size_t n, ncols;
-    char **cells;       /* (n, ncols), owned */
-    char **header;      /* (ncols), owned */
-    double *P;          /* (n, K) */
-    int *empty;         /* (n) no token had a vector or column */
-    struct fmat X;      /* (n, D) the model's features */
-    double *norm;       /* (n) Euclidean norms of the rows of X */
-};
-
 struct cand {
     size_t row;
     double u;
@@ -73,124 +64,6 @@ static int by_uncertainty(const void *a, const void *b)
     if (x->u != y->u)
         return x->u > y->u ? -1 : 1;
     return (x->row > y->row) - (x->row < y->row);
-}
-
-/* Row i of X dotted with row j (dense or sparse with ascending columns). */
-static double row_dot(const struct fmat *X, size_t i, size_t j)
-{
-    double s = 0;
-    if (!X->sparse) {
-        const double *a = X->x + i * X->d, *b = X->x + j * X->d;
-        for (size_t k = 0; k < X->d; k++)
-            s += a[k] * b[k];
-        return s;
-    }
-    size_t p = X->rowptr[i], pe = X->rowptr[i + 1], q = X->rowptr[j], qe = X->rowptr[j + 1];
-    while (p < pe && q < qe) {
-        if (X->col[p] == X->col[q])
-            s += X->val[p++] * X->val[q++];
-        else if (X->col[p] < X->col[q])
-            p++;
-        else
-            q++;
-    }
-    return s;
-}
-
-/* Read every row, featurize it with the model and score it. */
-static int load_pool(struct pool *pl, const char *path, const struct model *m, const struct data_args *da,
-                     struct err *e)
-{
-    csv_reader *r = csv_open(path, &da->csv, e);
-    if (!r)
-        return -1;
-    int rc = -1;
-    size_t ntext = da->ntext ? da->ntext : m->ntext, cap = 0, tcap = 0, pcap = 0;
-    long *tc = xcalloc(ntext, sizeof *tc);
-    char *text = NULL;
-    const char **ptr = NULL;
-    struct text_tokens tt = TEXT_TOKENS_INIT;
-    for (size_t t = 0; t < ntext; t++)
-        if ((tc[t] = csv_require_col(r, da->ntext ? da->text_cols[t] : m->text_cols[t], e)) < 0)
-            goto out;
-    pl->ncols = csv_ncols(r);
-    pl->header = xcalloc(pl->ncols, sizeof *pl->header);
-    const char *ours[] = { m->label_col, "why", "uncertainty", "best_guess" };
-    for (size_t c = 0; c < pl->ncols; c++) {
-        pl->header[c] = xstrdup(csv_colname(r, c));
-        for (size_t q = 0; q < 4; q++)
-            if (strcmp(pl->header[c], ours[q]) == 0) {
-                err_set(e, csv_path(r), 1, "the pool already has a column '%s'", ours[q]);
-                err_hint(e, q == 0 ? "suggest picks from unlabelled rows: drop the label column first"
-                                   : "rename or drop that column first");
-                goto out;
-            }
-    }
-    int got;
-    while ((got = csv_next(r, e)) == 1) {
-        pl->cells = xgrow(pl->cells, &cap, (pl->n + 1) * pl->ncols, sizeof *pl->cells);
-        for (size_t c = 0; c < pl->ncols; c++)
-            pl->cells[pl->n * pl->ncols + c] = xstrndup(csv_field(r, c), csv_field_len(r, c));
-        pl->n++;
-    }
-    if (got < 0)
-        goto out;
-    if (pl->n == 0) {
-        err_set(e, csv_path(r), 0, "no data rows after the header");
-        goto out;
-    }
-    const featurizer *f = pipeline_featurizer(m->pipe);
-    features_alloc(f, pl->n, &pl->X);
-    pl->P = xcalloc(xmul(pl->n, m->k), sizeof *pl->P);
-    pl->empty = xcalloc(pl->n, sizeof *pl->empty);
-    pl->norm = xcalloc(pl->n, sizeof *pl->norm);
-    for (size_t i = 0; i < pl->n; i++) {
-        size_t len = 0;
-        for (size_t t = 0; t < ntext; t++) {
-            const char *s = pl->cells[i * pl->ncols + (size_t)tc[t]];
-            size_t l = strlen(s);
-            text = xgrow(text, &tcap, len + l + 2, 1);
-            if (t)
-                text[len++] = ' ';
-            memcpy(text + len, s, l);
-            len += l;
-        }
-        text = xgrow(text, &tcap, len + 1, 1);
-        text[len] = '\0';
-        text_tokens_clear(&tt);
-        if (text_tokenize(text, len, &m->text, &tt, e) < 0)
-            text_tokens_clear(&tt); /* cannot happen: the reader checked UTF-8 */
-        ptr = xgrow(ptr, &pcap, tt.n + 1, sizeof *ptr);
-        for (size_t q = 0; q < tt.n; q++)
-            ptr[q] = text_token(&tt, q);
-        struct features_stats st = { 0, 0, 0 };
-        features_transform_tokens(f, ptr, tt.n, &pl->X, i, &st);
-        pl->empty[i] = st.with_vector == 0;
-        pipeline_proba_row(m->pipe, &pl->X, i, pl->P + i * m->k);
-        pl->norm[i] = sqrt(row_dot(&pl->X, i, i));
-    }
-    rc = 0;
-out:
-    text_tokens_release(&tt);
-    free(ptr);
-    free(text);
-    free(tc);
-    csv_close(r);
-    return rc;
-}
-
-static void pool_release(struct pool *pl)
-{
-    for (size_t q = 0; pl->cells && q < pl->n * pl->ncols; q++)
-        free(pl->cells[q]);
-    for (size_t c = 0; pl->header && c < pl->ncols; c++)
-        free(pl->header[c]);
-    free(pl->cells);
-    free(pl->header);
-    free(pl->P);
-    free(pl->empty);
-    free(pl->norm);
-    fmat_release(&pl->X);
 }
 
 /* Labels by probability, ties by label order: order[0] is the best guess. */
@@ -280,7 +153,7 @@ int cmd_suggest(int argc, char **argv)
     struct err e = ERR_INIT;
     struct model m = MODEL_INIT;
     struct vecset *vs = NULL;
-    struct pool pl;
+    struct scored pl;
     memset(&pl, 0, sizeof pl);
     struct cand *cands = NULL;
     size_t *picked = NULL;
@@ -290,11 +163,13 @@ int cmd_suggest(int argc, char **argv)
     ofile *o = NULL;
     size_t ncand = 0, npicked = 0, skipped = 0, empty = 0;
     const char *ins[] = { model_path, in, vectors };
+    const char *reserved[4] = { NULL, "why", "uncertainty", "best_guess" };
     if (ofile_check_distinct(out, ins, 3, &e) < 0)
         goto fail;
     if (model_load(&m, model_path, vectors, &vs, &e) < 0)
         goto fail;
-    if (load_pool(&pl, in, &m, &da, &e) < 0)
+    reserved[0] = m.label_col;
+    if (scored_load(&pl, in, &m, &da, reserved, 4, &e) < 0)
         goto fail;
     cands = xcalloc(pl.n, sizeof *cands);
     why = xcalloc(pl.n, sizeof *why);
@@ -319,7 +194,7 @@ int cmd_suggest(int argc, char **argv)
         for (; q < npicked; q++) {
             size_t s = picked[q];
             double den = pl.norm[r] * pl.norm[s];
-            if (den > 0 && row_dot(&pl.X, r, s) / den > similar)
+            if (den > 0 && scored_dot(&pl.X, r, s) / den > similar)
                 break;
         }
         if (q < npicked) {
@@ -374,7 +249,7 @@ done:
     free(picked);
     free(picked_u);
     free(cands);
-    pool_release(&pl);
+    scored_release(&pl);
     model_release(&m);
     vecset_close(vs);
     cli_parser_release(&p);

@@ -97,7 +97,7 @@ printf 'id,body\np1,apple\n' >"$D/nocol.csv"
 run "$VECSIFT" suggest "$D/model.json" "$D/nocol.csv" -n 2 -o "$D/none.csv"
 expect_status 2; expect_err "nocol.csv:1: no column 'text'"; expect_no_file "$D/none.csv"
 run "$VECSIFT" suggest "$D/model.json" "$D/data.csv" -n 2 -o "$D/none.csv"
-expect_status 2; expect_err "already has a column 'label'"; expect_no_file "$D/none.csv"
+expect_status 2; expect_err "input already has a column 'label'"; expect_no_file "$D/none.csv"
 run "$VECSIFT" suggest "$D/model.json" "$D/pool.csv" -n 2 -o "$D/pool.csv"
 expect_status 2; expect_file "$D/pool.csv"
 

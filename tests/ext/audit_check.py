@@ -38,11 +38,11 @@ import tempfile
 FLIP_SHARE = 0.05
 # Measured when written (seed 1, 5 folds, 1 repeat): demo bow top10 6/10,
 # top20 6/10; demo learned vectors + tfidf top10 6/10, top20 8/10; mail
-# (bow) recall 0.76 in the top 50 and in the top 100.  Floors sit 1 below
-# (demo) or 0.16 below (mail).
+# (bow) recall 0.68 in the top 50 and in the top 100 (38 suspects in all).
+# Floors sit 1 below (demo) or 0.18 below (mail).
 MIN_DEMO_BOW = (5, 5)
 MIN_DEMO_VEC = (5, 7)
-MIN_SPAM = (0.6, 0.6)  # recall at k = flipped, at k = 2 x flipped
+MIN_SPAM = (0.5, 0.5)  # recall at k = flipped, at k = 2 x flipped
 
 
 def vecsift(*args):
