@@ -57,6 +57,9 @@ int scored_load(struct scored *pl, const char *path, const struct model *m, cons
     pl->P = xcalloc(xmul(pl->n, m->k), sizeof *pl->P);
     pl->empty = xcalloc(pl->n, sizeof *pl->empty);
     pl->norm = xcalloc(pl->n, sizeof *pl->norm);
+    /* NEEDSWORK: this join of the text columns is the one dataset.c and
+     * cmd_predict.c each do too; a helper beside csv_field (join row cells
+     * with one space) would serve all three. */
     for (size_t i = 0; i < pl->n; i++) {
         size_t len = 0;
         for (size_t t = 0; t < ntext; t++) {
