@@ -221,7 +221,7 @@ static int read_plain(const struct embed_source *src, struct tokdocs *d, size_t 
 static int read_csv(const struct embed_source *src, struct tokdocs *d, size_t *lines, struct err *e)
 {
     struct csv_options co = CSV_OPTIONS_INIT;
-    csv_reader *r = csv_open(src->path, &co, e);
+    csv_reader *r = csv_open(src->path, src->csv ? src->csv : &co, e);
     if (!r)
         return -1;
     long *col = xcalloc(src->ncols ? src->ncols : 1, sizeof *col);
@@ -629,6 +629,9 @@ int embed_train(const struct embed_corpus *c, const struct embed_params *p, floa
             pthread_join(w[t].tid, NULL);
         if (started < T)
             rc = err_io(e, NULL, 0, "cannot start training thread %d of %d", started + 1, T);
+        else if (progress)
+            /* the first thread may finish before the others: report the end */
+            progress(ud, atomic_load(&s.done), s.total);
     }
     free(w);
     free(s.out);

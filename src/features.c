@@ -208,9 +208,13 @@ static int pool_doc(const featurizer *f, const char *const *toks, size_t ntok, d
     long *row = xcalloc(b.n ? b.n : 1, sizeof *row);
     size_t m = word_coefs(f, &b, w, c, row, st);
     for (size_t j = 0; j < m; j++) {
+        /* c[j] in a local: x and c are both double *, so the compiler must
+         * otherwise reload c[j] after every store to x[d] (same sums, in
+         * the same order: bit-identical results) */
         const float *v = vecset_row(f->vs, (size_t)row[j]);
+        const double cj = c[j];
         for (size_t d = 0; d < E; d++)
-            x[d] += c[j] * (double)v[d];
+            x[d] += cj * (double)v[d];
     }
     if (f->u) {
         double dot = 0;

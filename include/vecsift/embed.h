@@ -17,6 +17,7 @@
 
 struct err;
 struct text_options;
+struct csv_options;
 typedef struct vecset vecset;
 
 #define EMBED_MAX_DIM 10000
@@ -62,6 +63,7 @@ struct embed_source {
     const char *const *cols;    /* (ncols) column names, for CSV */
     size_t ncols;
     const struct text_options *text;
+    const struct csv_options *csv;  /* encoding, replacement; NULL for the defaults */
     uint64_t min_freq;          /* words seen fewer times are dropped, >= 1 */
 };
 

@@ -183,6 +183,29 @@ static void write_batch(FILE *fp, const struct job *j, size_t *routed, size_t *r
     }
 }
 
+/* The header row.  Written only once the first batch has been read: a bad
+ * row among the first BATCH rows then leaves nothing on stdout, where no
+ * temporary file can be thrown away (a file output is discarded anyway). */
+static void write_header(FILE *fp, const csv_reader *r, long top, long explain)
+{
+    size_t ncols = csv_ncols(r);
+    for (size_t c = 0; c < ncols; c++)
+        cell(fp, csv_colname(r, c), c == 0);
+    cell(fp, "predicted", 0);
+    cell(fp, "confidence", 0);
+    cell(fp, "route", 0);
+    for (long t = 2; t <= top; t++) {
+        char h[48];
+        snprintf(h, sizeof h, "label_%ld", t);
+        cell(fp, h, 0);
+        snprintf(h, sizeof h, "confidence_%ld", t);
+        cell(fp, h, 0);
+    }
+    if (explain)
+        cell(fp, "evidence", 0);
+    fputs("\r\n", fp);
+}
+
 static void run_batch(struct job *j, int threads)
 {
     size_t T = (size_t)threads < j->n ? (size_t)threads : (j->n ? j->n : 1);
@@ -295,21 +318,6 @@ int cmd_predict(int argc, char **argv)
     if (!(o = ofile_open(out, &e)))
         goto fail;
     FILE *fp = ofile_fp(o);
-    for (size_t c = 0; c < ncols; c++)
-        cell(fp, csv_colname(r, c), c == 0);
-    cell(fp, "predicted", 0);
-    cell(fp, "confidence", 0);
-    cell(fp, "route", 0);
-    for (long t = 2; t <= top; t++) {
-        char h[48];
-        snprintf(h, sizeof h, "label_%ld", t);
-        cell(fp, h, 0);
-        snprintf(h, sizeof h, "confidence_%ld", t);
-        cell(fp, h, 0);
-    }
-    if (explain)
-        cell(fp, "evidence", 0);
-    fputs("\r\n", fp);
 
     j.pipe = m.pipe;
     j.m = &m;
@@ -334,6 +342,8 @@ int cmd_predict(int argc, char **argv)
         }
         if (got < 0)
             goto fail;
+        if (rows == 0)
+            write_header(fp, r, top, explain);
         run_batch(&j, da.threads);
         write_batch(fp, &j, &routed, &review);
         rows += j.n;

@@ -8,6 +8,7 @@
 
 #include "commands.h"
 #include "common.h"
+#include "vecsift/cv.h"
 #include "vecsift/err.h"
 #include "vecsift/jsonv.h"
 #include "vecsift/model.h"
@@ -23,6 +24,7 @@ static const struct cli_opt opts[] = {
     { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict\n"
       "                              (default: the --evaluation file's cut-off, else none)" },
     { "evaluation", 'e', "<file>", "an 'evaluate --json' file of these settings: its summary is stored in the model" },
+    { "search", 0, NULL, "choose C (and gamma) by 3-fold cross-validation on all rows, as evaluate --search does" },
     RUN_OPTIONS,
     { NULL, 0, NULL, NULL }
 };
@@ -126,6 +128,7 @@ int cmd_train(int argc, char **argv)
     const char *out = NULL;
     double review = -1;
     const char *evaluation = NULL;
+    int search = 0;
     struct cli_parser p;
     cli_parser_init(&p, cmd, argc, argv);
     int rc = ERR_OK, i;
@@ -145,6 +148,8 @@ int cmd_train(int argc, char **argv)
             out = val;
         else if (strcmp(name, "evaluation") == 0)
             evaluation = val;
+        else if (strcmp(name, "search") == 0)
+            search = 1;
         else if (strcmp(name, "review-below") == 0 && cli_double(cmd, name, val, 0, 1, &review) < 0) {
             cli_parser_release(&p);
             return ERR_INPUT;
@@ -184,16 +189,37 @@ int cmd_train(int argc, char **argv)
         goto fail;
     if (c.ds.replaced)
         cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", data, c.ds.replaced);
+    if (c.empty_docs == c.ds.n) {
+        err_set(&e, data, 0, "no row has a word in the text column%s ('%s'%s)", dopt.ntext > 1 ? "s" : "",
+                dopt.text_cols[0], dopt.ntext > 1 ? ", ..." : "");
+        err_hint(&e, "check --text-col: is the text in another column?");
+        goto fail;
+    }
     if (c.empty_docs)
         cli_warn("%s: %zu rows have no words in the text columns", data, c.empty_docs);
 
     rows = xcalloc(c.ds.n, sizeof *rows);
     for (size_t r = 0; r < c.ds.n; r++)
         rows[r] = r;
+    if (search) {
+        /* The grid and inner folds of evaluate --search, on every row. */
+        struct pipeline_spec best;
+        if (cv_search(&fa.spec, &c, vs, rows, c.ds.n, 3, da.seed, &best, &e) < 0)
+            goto fail;
+        fa.spec = best;
+        if (!cli_quiet) {
+            fprintf(stderr, "parameter search (3-fold, macro F1) chose C = %g", best.C);
+            if (best.clf == CLF_SVM_RBF)
+                fprintf(stderr, ", gamma = %g x the default", best.gamma < 0 ? -best.gamma : 1.0);
+            fputc('\n', stderr);
+        }
+    }
     struct pipeline_fit_info info;
     m.pipe = pipeline_fit(&fa.spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
-    if (!m.pipe)
+    if (!m.pipe) {
+        err_name_file(&e, data);
         goto fail;
+    }
     if (!info.converged)
         cli_warn("logistic regression stopped at the iteration cap (%d) before reaching its tolerance; "
                  "raise --max-iter or lower --C", info.iters);

@@ -179,6 +179,12 @@ void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *
         for (size_t t = 0; t < T; t++)
             fprintf(fp, " %g", r->chosen_C[t]);
         fprintf(fp, " (one per fold)\n");
+        if (r->chosen_gamma) {
+            fprintf(fp, "and gamma =");
+            for (size_t t = 0; t < T; t++)
+                fprintf(fp, " %g", r->chosen_gamma[t]);
+            fprintf(fp, " x the default (one per fold)\n");
+        }
     }
     struct eval_cut cut;
     evalout_cut(r, s->target, &cut);
@@ -310,10 +316,17 @@ cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const str
     if (sp->clf == CLF_SVM_RBF)
         cJSON_AddItemToObject(st, "gamma", sp->gamma > 0 ? jsonv_number_new(sp->gamma) : cJSON_CreateString("default"));
     cJSON_AddStringToObject(st, "class_weight", sp->balanced ? "balanced" : "none");
+    if (sp->clf == CLF_LOGREG)
+        cJSON_AddNumberToObject(st, "max_iter", sp->max_iter);
     cJSON_AddNumberToObject(st, "folds", s->cp->folds);
     cJSON_AddNumberToObject(st, "repeats", (double)s->cp->repeats);
     cJSON_AddNumberToObject(st, "seed", (double)s->cp->seed);
     cJSON_AddBoolToObject(st, "search", s->cp->search);
+    if (s->cp->search)
+        cJSON_AddNumberToObject(st, "inner_folds", s->cp->inner_folds);
+    static const char *const enc[] = { "utf-8", "windows-1252", "latin-1" };
+    cJSON_AddStringToObject(st, "encoding", enc[s->da->csv.encoding]);
+    cJSON_AddBoolToObject(st, "replace_invalid", s->da->csv.replace_invalid);
     cJSON_AddBoolToObject(st, "keep_accents", s->da->text.keep_accents);
     cJSON_AddBoolToObject(st, "mask_email", s->da->text.mask_email);
     cJSON_AddBoolToObject(st, "mask_number", s->da->text.mask_number);
