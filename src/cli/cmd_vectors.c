@@ -23,6 +23,7 @@ static const struct verb {
     { &vectors_export_info, vectors_export },
     { &vectors_info_info, vectors_info },
     { &cmd_vectors_learn_info, cmd_vectors_learn }, /* src/cli/cmd_vectors_learn.c */
+    { &vectors_map_info, vectors_map },
     { &vectors_near_info, vectors_near },
     { &vectors_pack_info, vectors_pack },
 };
