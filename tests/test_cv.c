@@ -28,6 +28,18 @@
 
 static char path[64];
 
+/* A new temporary CSV at 'path' with its header written, and a seeded rng. */
+static FILE *open_set(const char *header, struct rng *r, uint64_t seed)
+{
+    strcpy(path, "/tmp/vecsift-test-cv-XXXXXX");
+    int fd = mkstemp(path);
+    cr_assert(fd >= 0);
+    FILE *fp = fdopen(fd, "w");
+    fprintf(fp, "%s\n", header);
+    rng_seed(r, seed);
+    return fp;
+}
+
 /* An invented inbox: three queues with their own words, shared filler, and
  * some rows that borrow a word of another queue.  'rare' rows of a fourth
  * label when rare > 0. */
@@ -40,13 +52,8 @@ static void write_set(const char *labels_override, int rare)
     };
     static const char *const names[3] = { "billing", "delivery", "access" };
     static const char *const filler[5] = { "hello", "please", "thanks", "today", "help" };
-    strcpy(path, "/tmp/vecsift-test-cv-XXXXXX");
-    int fd = mkstemp(path);
-    cr_assert(fd >= 0);
-    FILE *fp = fdopen(fd, "w");
-    fputs("text,label\n", fp);
     struct rng r;
-    rng_seed(&r, 42);
+    FILE *fp = open_set("text,label", &r, 42);
     for (int i = 0; i < 90; i++) {
         int k = i % 3;
         for (int w = 0; w < 5; w++) {
@@ -246,5 +253,65 @@ Test(cv, refuses_one_label_and_rare_labels)
     cr_assert_eq(cv_run(&r, &s, &c, NULL, &p, &e), -1);
     cr_assert(strstr(e.msg, "'extras' has 3 rows"), "%s", e.msg);
     cr_assert(strstr(e.msg, "vecsift-test-cv"), "the message names the file: %s", e.msg);
+    corpus_release(&c);
+}
+
+/* Invented noise: random words, random labels, every ticket written twice
+ * with the same id.  Nothing can be learned, so an honest inner score is
+ * near chance (about 0.5 for two labels); an inner split that puts the two
+ * copies on both sides lets the classifier recall the twin and scores near 1.
+ * With groups, the nested search's inner folds must keep copies together
+ * (common practice: group k-fold at every level of a nested search). */
+static void write_twins(void)
+{
+    struct rng r;
+    FILE *fp = open_set("id,text,label", &r, 3);
+    for (int i = 0; i < 60; i++) {
+        char text[256] = "";
+        for (int w = 0; w < 8; w++)
+            snprintf(text + strlen(text), sizeof text - strlen(text), "w%u ", (unsigned)(rng_next(&r) % 300));
+        const char *lab = rng_next(&r) % 2 ? "a" : "b";
+        fprintf(fp, "t%d,%s,%s\nt%d,%s,%s\n", i, text, lab, i, text, lab);
+    }
+    fclose(fp);
+}
+
+Test(cv, nested_search_keeps_groups_together)
+{
+    write_twins();
+    static const char *const cols[] = { "text" };
+    struct dataset_options o = { cols, 1, "label", "id", CSV_OPTIONS_INIT };
+    struct text_options t = TEXT_OPTIONS_INIT;
+    struct err e = ERR_INIT;
+    struct corpus c;
+    memset(&c, 0, sizeof c);
+    cr_assert_eq(corpus_load(&c, path, &o, &t, &e), 0, "%s", e.msg);
+    unlink(path);
+    int *g = calloc(c.ds.n, sizeof *g);
+    for (size_t i = 0; i < c.ds.n; i++)
+        g[i] = atoi(c.ds.group[i] + 1);
+    struct cv_params p = CV_PARAMS_INIT;
+    p.repeats = 1;
+    p.search = 1;
+    p.group = g;
+    p.n_groups = 60;
+    struct cv_result r = CV_RESULT_INIT;
+    run_cv(&c, &p, &r);
+    double grouped = 0, split = 0;
+    for (int f = 0; f < p.folds; f++)
+        grouped += r.chosen_score[f] / p.folds;
+    cr_assert(grouped < 0.65, "mean inner macro F1 %g: copies were split by the inner folds", grouped);
+    cv_release(&r);
+    /* The detector works: without groups the copies are split and the inner
+     * score is far higher (two thirds of the copies have their twin on the
+     * training side of a 3-fold inner split). */
+    p.group = NULL;
+    p.n_groups = 0;
+    run_cv(&c, &p, &r);
+    for (int f = 0; f < p.folds; f++)
+        split += r.chosen_score[f] / p.folds;
+    cr_assert(split > grouped + 0.15, "mean inner macro F1 %g without groups, %g with", split, grouped);
+    cv_release(&r);
+    free(g);
     corpus_release(&c);
 }

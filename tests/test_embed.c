@@ -372,7 +372,7 @@ Test(embed_cli, bad_input_exits_2_without_output, .init = make_dir, .fini = remo
     write_inbox("inbox.txt");
     write_file("empty.txt", "\n\n  \n");
     cr_assert_eq(learn("empty.txt -o out.vecs"), 2);
-    cr_assert(err_has("vecsift: empty.txt: no words"));
+    cr_assert(err_has("vecsift: empty.txt: no words in the corpus: its 3 documents hold none"));
     cr_assert_eq(learn("inbox.txt -o out.vecs --min-freq 1000"), 2);
     cr_assert(err_has("vecsift: inbox.txt: no word occurs 1000 times"));
     cr_assert(err_has("hint: lower --min-freq"));
@@ -411,8 +411,13 @@ Test(embed_cli, csv_columns_give_the_tokens_of_the_joined_text, .init = make_dir
     cr_assert_eq(system(cmd), 0);
     cr_assert_eq(learn("t.csv --text-col nope -o c.vecs"), 2);
     cr_assert(err_has("vecsift: t.csv:1: no column 'nope'"));
-    cr_assert_eq(learn("t.csv -o c.vecs"), 2); /* three columns, none named */
+    cr_assert_eq(learn("t.csv -o c.vecs"), 2); /* three columns, none named, no 'text' */
+    cr_assert(err_has("vecsift: t.csv:1: no --text-col given and no column 'text'"));
     cr_assert(!exists("c.vecs"));
+    write_file("u.csv", "id,text\n1,Printer JAM the tray\n2,\"again, Login password reset\"\n");
+    cr_assert_eq(learn("u.csv --min-freq 1 --dimensions 4 -o u.vecs --write-tokens u.tok --quiet"), 0);
+    snprintf(cmd, sizeof cmd, "grep -qx 'again login password reset' '%s/u.tok'", dir);
+    cr_assert_eq(system(cmd), 0);
 }
 
 /* --start-from: known words begin at the stored vectors; a store of another

@@ -57,7 +57,8 @@ void embed_corpus_release(struct embed_corpus *c);
 
 /* Where a corpus comes from.  Plain text is one document a line; CSV (when
  * 'ncols' > 0 or 'path' ends in ".csv") takes the named columns of each row,
- * joined by a space.  "-" reads standard input. */
+ * joined by a space; with no column named, the only column or else the one
+ * called "text".  "-" reads standard input. */
 struct embed_source {
     const char *path;
     const char *const *cols;    /* (ncols) column names, for CSV */

@@ -13,17 +13,17 @@
 #include "vecsift/text.h"
 #include "vecsift/vecset.h"
 
-/* One row per verb, alphabetical; info and entry point side by side so the
- * two can never fall out of step. */
+/* One row per verb, alphabetical: its description and its entry point. */
 static const struct verb {
     const struct cli_cmd *info;
-    int (*run)(int, char **);
+    int (*run)(int argc, char **argv);
 } verbs[] = {
     { &vectors_analogy_info, vectors_analogy },
     { &vectors_coverage_info, vectors_coverage },
     { &vectors_export_info, vectors_export },
     { &vectors_info_info, vectors_info },
     { &cmd_vectors_learn_info, cmd_vectors_learn }, /* src/cli/cmd_vectors_learn.c */
+    { &vectors_map_info, vectors_map },
     { &vectors_near_info, vectors_near },
     { &vectors_pack_info, vectors_pack },
 };

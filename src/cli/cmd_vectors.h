@@ -18,6 +18,7 @@ VECTORS_VERB(analogy);
 VECTORS_VERB(coverage);
 VECTORS_VERB(export);
 VECTORS_VERB(info);
+VECTORS_VERB(map);
 VECTORS_VERB(near);
 VECTORS_VERB(pack);
 

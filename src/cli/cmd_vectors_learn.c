@@ -39,7 +39,7 @@ static const struct cli_opt opts[] = {
     [O_LR] = { "learning-rate", 0, "<r>", "starting step size, decays linearly (default: 0.025)" },
     [O_START] = { "start-from", 0, "<file>", "begin known words at their vectors in this .vecs" },
     [O_TOKENS] = { "write-tokens", 0, "<file>", "also write the corpus as training sees it, one document a line" },
-    { "text-col", 0, "<name>", "CSV column holding text; repeat to join several" },
+    { "text-col", 0, "<name>", "CSV column holding text; repeat to join several (default: text)" },
     { "encoding", 0, "<name>", "CSV input: utf-8 | windows-1252 | latin-1 (default: utf-8)" },
     { "replace-invalid", 0, NULL, "CSV input: replace invalid UTF-8 by U+FFFD instead of stopping" },
     { "keep-accents", 0, NULL, "keep accents on Latin letters (default: cafe = café)" },

@@ -152,12 +152,12 @@ int evalout_html(const char *path, const struct cv_result *r, const struct corpu
     }
     char mark_label[128];
     struct chart_mark mark = { cut.coverage, cut.precision, mark_label };
-    snprintf(mark_label, sizeof mark_label, "cut-off %.3f", cut.threshold);
+    snprintf(mark_label, sizeof mark_label, "cut-off %s", cut.advice);
     if (cut.reachable)
         snprintf(para, sizeof para,
-                 "Routing automatically only when the confidence is at least %.3f kept %.1f%% of rows at precision "
-                 "%.3f out of fold (target %.2f); the rest go to a person. Use: vecsift predict --review-below %.3f.",
-                 cut.threshold, 100 * cut.coverage, cut.precision, s->target, cut.threshold);
+                 "Routing automatically only when the confidence is at least %s kept %.1f%% of rows at precision "
+                 "%.3f out of fold (target %.2f); the rest go to a person. Use: vecsift predict --review-below %s.",
+                 cut.advice, 100 * cut.coverage, cut.precision, s->target, cut.advice);
     else
         snprintf(para, sizeof para, "No confidence cut-off reaches precision %.2f on these rows.", s->target);
     report_html_section(fp, "Confidence cut-off", para);

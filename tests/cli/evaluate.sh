@@ -89,10 +89,20 @@ expect_status 0
 expect_out '^404 labelled rows in'
 expect_out '^0/0 counts as 0'
 expect_out '^Use it with: vecsift predict --review-below 0\.[0-9]+$'
+# The advised value keeps exactly the out-of-fold rows the cut-off keeps
+# (a value rounded below the cut-off would admit rows never counted).
 expect_file "$T_DIR/ev.json"; expect_file "$T_DIR/oof.csv"; expect_file "$T_DIR/ev.html"
 cut=$(sed -n 's/^Use it with: vecsift predict --review-below //p' "$T_DIR/out")
-json_cut=$(/usr/bin/python3 -c 'import json,sys; print("%.3f" % json.load(open(sys.argv[1]))["threshold"]["cutoff"])' "$T_DIR/ev.json")
-if [ "$cut" = "$json_cut" ]; then ok; else bad "terminal cut-off $cut, JSON $json_cut"; fi
+same=$(/usr/bin/python3 - "$T_DIR/ev.json" "$T_DIR/oof.csv" "$cut" <<'PY'
+import csv, json, sys
+th = json.load(open(sys.argv[1]))["threshold"]
+conf = [float(r["confidence"]) for r in csv.DictReader(open(sys.argv[2]))]
+adv = float(sys.argv[3])
+print(int(adv == th["review_below"] and adv <= th["cutoff"]
+          and [c >= adv for c in conf] == [c >= th["cutoff"] for c in conf]))
+PY
+)
+if [ "$same" = 1 ]; then ok; else bad "advised --review-below $cut does not keep the cut-off's rows"; fi
 run "$VECSIFT" train "$D" "${COLS[@]}" --pool bow -o "$T_DIR/m.json" --quiet
 expect_status 0
 run "$VECSIFT" predict "$T_DIR/m.json" "$D" -o "$T_DIR/routed.csv" --review-below "$cut" --quiet
