@@ -16,15 +16,17 @@
 
 import os
 import re
+import shlex
 import shutil
 import subprocess
 import sys
+import tempfile
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from tally import check, finish  # noqa: E402
 
 SRC = os.environ.get('SRCDIR', os.getcwd())
-VECSIFT = os.environ.get('VECSIFT', os.path.join(SRC, 'build', 'vecsift'))
+VECSIFT = os.path.abspath(os.environ.get('VECSIFT', os.path.join(SRC, 'build', 'vecsift')))
 
 
 def help_of(*args):
@@ -93,6 +95,18 @@ def man_sections(man):
     return {parts[i]: parts[i + 1] for i in range(1, len(parts) - 1, 2)}
 
 
+def man_examples(man):
+    """The commands in the .nf blocks of the EXAMPLES section, with roff
+    escapes undone and continued lines joined."""
+    m = re.search(r'^\.SH EXAMPLES\n(.*?)^\.SH ', man, re.M | re.S)
+    cmds = []
+    for block in re.findall(r'^\.nf\n(.*?)^\.fi$', m.group(1) if m else '', re.M | re.S):
+        text = block.replace('\\-', '-').replace('\\e', '\\')
+        text = re.sub(r'\s*\\\n\s*', ' ', text)
+        cmds += [ln.strip() for ln in text.splitlines() if ln.strip().startswith('vecsift ')]
+    return cmds
+
+
 def has_option(section, opt):
     return re.search(r'(?<![\w-])' + re.escape(opt) + r'(?![\w-])', section) is not None
 
@@ -148,6 +162,22 @@ def main():
     check(p.returncode == 0 and p.stdout == man,
           'vecsift.1 matches tools/make-man output (rerun: tools/make-man > vecsift.1)'
           + (': ' + p.stderr.strip() if p.returncode else ''))
+
+    # Every example in the man page's EXAMPLES section runs (exit status 0)
+    # in a fresh directory holding copies of the demo inbox's files.
+    examples = man_examples(man)
+    check(len(examples) >= 4, 'vecsift.1 has %d example commands' % len(examples))
+    with tempfile.TemporaryDirectory() as tmp:
+        for name in ('labelled.csv', 'unlabelled.csv', 'incoming.csv'):
+            shutil.copy(os.path.join(SRC, 'datasets', 'inbox', name), tmp)
+        shutil.copytree(os.path.join(SRC, 'datasets'), os.path.join(tmp, 'datasets'))
+        for cmd in examples:
+            argv = shlex.split(cmd)
+            argv[0] = VECSIFT
+            r = subprocess.run(argv + ['--quiet'], cwd=tmp, stdout=subprocess.DEVNULL,
+                               stderr=subprocess.PIPE, text=True)
+            check(r.returncode == 0, 'man page example runs: %s%s'
+                  % (cmd, '' if r.returncode == 0 else ' -> %d %s' % (r.returncode, r.stderr.strip())))
 
     groff = shutil.which('groff')
     if groff:
