@@ -15,6 +15,7 @@
 #include "commands.h"
 #include "common.h"
 #include "vecsift/csv.h"
+#include "vecsift/dataset.h"
 #include "vecsift/err.h"
 #include "vecsift/fmat.h"
 #include "vecsift/model.h"
@@ -79,22 +80,14 @@ static void *work(void *arg)
     const char **ptr = NULL;
     size_t cap = 0, tlen = 0, tcap = 0;
     char *text = NULL;
+    const char **parts = xcalloc(j->ntextcol, sizeof *parts);
     const char **words = j->explain ? xcalloc(j->explain, sizeof *words) : NULL;
     double *push = j->explain ? xcalloc(j->explain, sizeof *push) : NULL;
     for (size_t r = j->from; r < j->to; r++) {
-        /* join the text columns with one space, as the training rows were */
-        tlen = 0;
-        for (size_t t = 0; t < j->ntextcol; t++) {
-            const char *s = j->cells[r * j->ncols + (size_t)j->textcol[t]];
-            size_t l = strlen(s);
-            text = xgrow(text, &tcap, tlen + l + 2, 1);
-            if (t)
-                text[tlen++] = ' ';
-            memcpy(text + tlen, s, l);
-            tlen += l;
-        }
-        text = xgrow(text, &tcap, tlen + 1, 1);
-        text[tlen] = '\0';
+        /* the text columns joined as the training rows were */
+        for (size_t t = 0; t < j->ntextcol; t++)
+            parts[t] = j->cells[r * j->ncols + (size_t)j->textcol[t]];
+        tlen = dataset_join_text(&text, &tcap, parts, j->ntextcol);
         text_tokens_clear(&tt);
         struct err e = ERR_INIT;
         if (text_tokenize(text, tlen, &j->m->text, &tt, &e) < 0)
@@ -127,6 +120,7 @@ static void *work(void *arg)
             j->why[r] = b ? b : xstrdup("");
         }
     }
+    free(parts);
     free(words);
     free(push);
     free(text);

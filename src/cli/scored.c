@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "vecsift/csv.h"
+#include "vecsift/dataset.h"
 #include "vecsift/err.h"
 #include "vecsift/model.h"
 #include "vecsift/pipeline.h"
@@ -21,6 +22,7 @@ int scored_load(struct scored *pl, const char *path, const struct model *m, cons
     size_t ntext = da->ntext ? da->ntext : m->ntext, cap = 0, tcap = 0, pcap = 0;
     long *tc = xcalloc(ntext, sizeof *tc);
     char *text = NULL;
+    const char **parts = NULL;
     const char **ptr = NULL;
     struct text_tokens tt = TEXT_TOKENS_INIT;
     for (size_t t = 0; t < ntext; t++)
@@ -57,22 +59,11 @@ int scored_load(struct scored *pl, const char *path, const struct model *m, cons
     pl->P = xcalloc(xmul(pl->n, m->k), sizeof *pl->P);
     pl->empty = xcalloc(pl->n, sizeof *pl->empty);
     pl->norm = xcalloc(pl->n, sizeof *pl->norm);
-    /* NEEDSWORK: this join of the text columns is the one dataset.c and
-     * cmd_predict.c each do too; a helper beside csv_field (join row cells
-     * with one space) would serve all three. */
+    parts = xcalloc(ntext ? ntext : 1, sizeof *parts);
     for (size_t i = 0; i < pl->n; i++) {
-        size_t len = 0;
-        for (size_t t = 0; t < ntext; t++) {
-            const char *s = pl->cells[i * pl->ncols + (size_t)tc[t]];
-            size_t l = strlen(s);
-            text = xgrow(text, &tcap, len + l + 2, 1);
-            if (t)
-                text[len++] = ' ';
-            memcpy(text + len, s, l);
-            len += l;
-        }
-        text = xgrow(text, &tcap, len + 1, 1);
-        text[len] = '\0';
+        for (size_t t = 0; t < ntext; t++)
+            parts[t] = pl->cells[i * pl->ncols + (size_t)tc[t]];
+        size_t len = dataset_join_text(&text, &tcap, parts, ntext);
         text_tokens_clear(&tt);
         if (text_tokenize(text, len, &m->text, &tt, e) < 0)
             text_tokens_clear(&tt); /* cannot happen: the reader checked UTF-8 */
@@ -90,6 +81,7 @@ out:
     text_tokens_release(&tt);
     free(ptr);
     free(text);
+    free(parts);
     free(tc);
     csv_close(r);
     return rc;
