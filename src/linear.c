@@ -87,16 +87,18 @@ static double objective(struct problem *P, const double *theta, double *grad)
     for (size_t i = 0; i < P->X->n; i++) {
         int yi = P->y[i];
         assert(yi >= 0 && (size_t)yi < k);
+        /* All K scores and all K gradient rows per pass over row i. */
+        fmat_dot_k(P->X, i, W, k, z);
         for (size_t c = 0; c < k; c++)
-            z[c] = fmat_dot(P->X, i, W + c * d) + b[c];
+            z[c] += b[c];
         double zy = z[yi];
         double lse = softmax_inplace(z, k);
         loss += P->s[i] * (lse - zy);
         for (size_t c = 0; c < k; c++) {
-            double r = P->s[i] * (z[c] - (c == (size_t)yi));
-            gb[c] += r;
-            fmat_axpy(P->X, i, r, gW + c * d);
+            z[c] = P->s[i] * (z[c] - (c == (size_t)yi));
+            gb[c] += z[c];
         }
+        fmat_axpy_k(P->X, i, z, k, gW);
     }
     double ww = 0;
     for (size_t j = 0; j < kd; j++) {
@@ -188,8 +190,9 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
 void linear_scores(const struct linear_model *m, const struct fmat *X, size_t i, double *z)
 {
     assert(X->d == m->d);
+    fmat_dot_k(X, i, m->W, m->k, z);
     for (size_t c = 0; c < m->k; c++)
-        z[c] = fmat_dot(X, i, m->W + c * m->d) + m->b[c];
+        z[c] += m->b[c];
 }
 
 void linear_proba(const struct linear_model *m, const struct fmat *X, size_t i, double *p)
