@@ -97,6 +97,7 @@ void features_free(featurizer *f)
  * compares cost more than the pooling it serves. */
 struct bag {
     const char **term;
+    uint64_t *hash;   /* vocab_hash of each term, reused for the lookups */
     double *tf;
     size_t n;
     char *pairbuf;
@@ -129,6 +130,7 @@ static void bag_make(struct bag *b, const char *const *toks, size_t ntok, int pa
         slots *= 2;
     uint32_t *slot = xcalloc(slots, sizeof *slot); /* 0 empty, else index into term + 1 */
     uint64_t *hash = xcalloc(m ? m : 1, sizeof *hash);
+    b->hash = hash;
     b->term = xcalloc(m ? m : 1, sizeof *b->term);
     b->tf = xcalloc(m ? m : 1, sizeof *b->tf);
     b->n = 0;
@@ -151,12 +153,12 @@ static void bag_make(struct bag *b, const char *const *toks, size_t ntok, int pa
         }
     }
     free(slot);
-    free(hash);
     free(all);
 }
 
 static void bag_release(struct bag *b)
 {
+    free(b->hash);
     free(b->term);
     free(b->tf);
     free(b->pairbuf);
@@ -176,14 +178,14 @@ static size_t word_coefs(const featurizer *f, const struct bag *b, const char **
     size_t m = 0;
     double total = 0;
     for (size_t i = 0; i < b->n; i++) {
-        long r = vecset_find(f->vs, b->term[i]);
+        long r = vecset_find_hashed(f->vs, b->term[i], b->hash[i]);
         if (st) {
             st->tokens += (uint64_t)b->tf[i];
             st->with_vector += r >= 0 ? (uint64_t)b->tf[i] : 0;
         }
         if (r < 0)
             continue;
-        int32_t id = vocab_find(f->words, b->term[i]);
+        int32_t id = vocab_find_hashed(f->words, b->term[i], b->hash[i]);
         double weight;
         switch (f->p.pool) {
         case POOL_TFIDF:
@@ -291,7 +293,7 @@ static void bow_doc(const featurizer *f, const char *const *toks, size_t ntok, s
     size_t m = 0;
     double norm = 0;
     for (size_t i = 0; i < b.n; i++) {
-        int32_t id = vocab_find(f->words, b.term[i]);
+        int32_t id = vocab_find_hashed(f->words, b.term[i], b.hash[i]);
         int unigram = strchr(b.term[i], ' ') == NULL;
         if (st && unigram) {
             st->tokens += (uint64_t)b.tf[i];
