@@ -129,10 +129,14 @@ static void bag_make(struct bag *b, const char *const *toks, size_t ntok, int pa
     while (slots < 2 * m)
         slots *= 2;
     uint32_t *slot = xcalloc(slots, sizeof *slot); /* 0 empty, else index into term + 1 */
-    uint64_t *hash = xcalloc(m ? m : 1, sizeof *hash);
+    /* tf, hash and term share one block (bag_release frees it through tf):
+     * bags are made once per row of a prediction, where malloc and free
+     * showed up in the profile.  Only the first b->n entries are read. */
+    size_t nt = m ? m : 1;
+    b->tf = xmalloc(xmul(nt, sizeof(double) + sizeof(uint64_t) + sizeof(const char *)));
+    uint64_t *hash = (uint64_t *)(void *)(b->tf + nt);
     b->hash = hash;
-    b->term = xcalloc(m ? m : 1, sizeof *b->term);
-    b->tf = xcalloc(m ? m : 1, sizeof *b->tf);
+    b->term = (const char **)(void *)(hash + nt);
     b->n = 0;
     for (size_t i = 0; i < m; i++) {
         uint64_t h = vocab_hash(all[i], strlen(all[i]));
@@ -158,8 +162,6 @@ static void bag_make(struct bag *b, const char *const *toks, size_t ntok, int pa
 
 static void bag_release(struct bag *b)
 {
-    free(b->hash);
-    free(b->term);
     free(b->tf);
     free(b->pairbuf);
 }
@@ -255,9 +257,12 @@ static int pool_doc(const featurizer *f, const char *const *toks, size_t ntok, d
     size_t E = f->D;
     struct bag b;
     bag_make(&b, toks, ntok, 0);
-    const char **w = xcalloc(b.n ? b.n : 1, sizeof *w);
-    double *c = xcalloc(b.n ? b.n : 1, sizeof *c);
-    long *row = xcalloc(b.n ? b.n : 1, sizeof *row);
+    /* One block for the three per-word arrays: this runs once per row of
+     * a prediction, where malloc and free showed up in the profile. */
+    size_t nw = b.n ? b.n : 1;
+    double *c = xmalloc(xmul(nw, sizeof(double) + sizeof(long) + sizeof(const char *)));
+    long *row = (long *)(void *)(c + nw);
+    const char **w = (const char **)(void *)(row + nw);
     size_t m = word_coefs(f, &b, w, c, row, st);
     weighted_sum(f->vs, row, c, m, E, x);
     if (f->u) {
@@ -267,9 +272,7 @@ static int pool_doc(const featurizer *f, const char *const *toks, size_t ntok, d
         for (size_t d = 0; d < E; d++)
             x[d] -= dot * f->u[d];
     }
-    free(w);
     free(c);
-    free(row);
     bag_release(&b);
     return m > 0;
 }
