@@ -230,6 +230,80 @@ void fmat_axpy_k(const struct fmat *m, size_t i, const double *a, size_t k, doub
     }
 }
 
+/* G[c0..c0+4) columns j..j+4 += sum_i R[i][c] X[i][j..j+4), rows in order,
+ * the sixteen sums in eight vector registers. */
+static void gemm_tn4(const struct fmat *m, const double *R, size_t k, size_t c0, size_t j, double *G)
+{
+    size_t d = m->d;
+    double *g0 = G + c0 * d + j, *g1 = g0 + d, *g2 = g1 + d, *g3 = g2 + d;
+    v2d l0 = load2(g0), h0 = load2(g0 + 2), l1 = load2(g1), h1 = load2(g1 + 2);
+    v2d l2 = load2(g2), h2 = load2(g2 + 2), l3 = load2(g3), h3 = load2(g3 + 2);
+    for (size_t i = 0; i < m->n; i++) {
+        const double *x = m->x + i * d + j, *r = R + i * k + c0;
+        v2d xl = load2(x), xh = load2(x + 2);
+        v2d r0 = { r[0], r[0] }, r1 = { r[1], r[1] }, r2 = { r[2], r[2] }, r3 = { r[3], r[3] };
+        l0 += r0 * xl;
+        h0 += r0 * xh;
+        l1 += r1 * xl;
+        h1 += r1 * xh;
+        l2 += r2 * xl;
+        h2 += r2 * xh;
+        l3 += r3 * xl;
+        h3 += r3 * xh;
+    }
+    store2(g0, l0);
+    store2(g0 + 2, h0);
+    store2(g1, l1);
+    store2(g1 + 2, h1);
+    store2(g2, l2);
+    store2(g2 + 2, h2);
+    store2(g3, l3);
+    store2(g3 + 2, h3);
+}
+
+/* As gemm_tn4 for the one class c. */
+static void gemm_tn1(const struct fmat *m, const double *R, size_t k, size_t c, size_t j, double *G)
+{
+    size_t d = m->d;
+    double *g = G + c * d + j;
+    v2d l = load2(g), h = load2(g + 2);
+    for (size_t i = 0; i < m->n; i++) {
+        const double *x = m->x + i * d + j;
+        v2d r = { R[i * k + c], R[i * k + c] };
+        l += r * load2(x);
+        h += r * load2(x + 2);
+    }
+    store2(g, l);
+    store2(g + 2, h);
+}
+
+void fmat_gemm_tn(const struct fmat *m, const double *R, size_t k, double *G)
+{
+    if (m->sparse) {
+        for (size_t i = 0; i < m->n; i++)
+            fmat_axpy_k(m, i, R + i * k, k, G);
+        return;
+    }
+    /* Blocks of four columns by four classes, each summed over all rows:
+     * the row order per element is that of the row-by-row loop, but G's
+     * block stays in registers instead of being loaded and stored for
+     * every row.  Columns past the last whole block go row by row. */
+    size_t d = m->d, j = 0;
+    for (; j + 4 <= d; j += 4) {
+        size_t c = 0;
+        for (; c + 4 <= k; c += 4)
+            gemm_tn4(m, R, k, c, j, G);
+        for (; c < k; c++)
+            gemm_tn1(m, R, k, c, j, G);
+    }
+    for (size_t i = 0; i < m->n && j < d; i++) {
+        const double *x = m->x + i * d;
+        for (size_t c = 0; c < k; c++)
+            for (size_t jj = j; jj < d; jj++)
+                G[c * d + jj] += R[i * k + c] * x[jj];
+    }
+}
+
 void fmat_select(struct fmat *dst, const struct fmat *src, const size_t *rows, size_t k)
 {
     assert(dst != src);
