@@ -97,6 +97,7 @@ void features_free(featurizer *f)
  * compares cost more than the pooling it serves. */
 struct bag {
     const char **term;
+    uint64_t *hash;   /* vocab_hash of each term, reused for the lookups */
     double *tf;
     size_t n;
     char *pairbuf;
@@ -128,9 +129,14 @@ static void bag_make(struct bag *b, const char *const *toks, size_t ntok, int pa
     while (slots < 2 * m)
         slots *= 2;
     uint32_t *slot = xcalloc(slots, sizeof *slot); /* 0 empty, else index into term + 1 */
-    uint64_t *hash = xcalloc(m ? m : 1, sizeof *hash);
-    b->term = xcalloc(m ? m : 1, sizeof *b->term);
-    b->tf = xcalloc(m ? m : 1, sizeof *b->tf);
+    /* tf, hash and term share one block (bag_release frees it through tf):
+     * bags are made once per row of a prediction, where malloc and free
+     * showed up in the profile.  Only the first b->n entries are read. */
+    size_t nt = m ? m : 1;
+    b->tf = xmalloc(xmul(nt, sizeof(double) + sizeof(uint64_t) + sizeof(const char *)));
+    uint64_t *hash = (uint64_t *)(void *)(b->tf + nt);
+    b->hash = hash;
+    b->term = (const char **)(void *)(hash + nt);
     b->n = 0;
     for (size_t i = 0; i < m; i++) {
         uint64_t h = vocab_hash(all[i], strlen(all[i]));
@@ -151,13 +157,11 @@ static void bag_make(struct bag *b, const char *const *toks, size_t ntok, int pa
         }
     }
     free(slot);
-    free(hash);
     free(all);
 }
 
 static void bag_release(struct bag *b)
 {
-    free(b->term);
     free(b->tf);
     free(b->pairbuf);
 }
@@ -176,14 +180,14 @@ static size_t word_coefs(const featurizer *f, const struct bag *b, const char **
     size_t m = 0;
     double total = 0;
     for (size_t i = 0; i < b->n; i++) {
-        long r = vecset_find(f->vs, b->term[i]);
+        long r = vecset_find_hashed(f->vs, b->term[i], b->hash[i]);
         if (st) {
             st->tokens += (uint64_t)b->tf[i];
             st->with_vector += r >= 0 ? (uint64_t)b->tf[i] : 0;
         }
         if (r < 0)
             continue;
-        int32_t id = vocab_find(f->words, b->term[i]);
+        int32_t id = vocab_find_hashed(f->words, b->term[i], b->hash[i]);
         double weight;
         switch (f->p.pool) {
         case POOL_TFIDF:
@@ -253,9 +257,12 @@ static int pool_doc(const featurizer *f, const char *const *toks, size_t ntok, d
     size_t E = f->D;
     struct bag b;
     bag_make(&b, toks, ntok, 0);
-    const char **w = xcalloc(b.n ? b.n : 1, sizeof *w);
-    double *c = xcalloc(b.n ? b.n : 1, sizeof *c);
-    long *row = xcalloc(b.n ? b.n : 1, sizeof *row);
+    /* One block for the three per-word arrays: this runs once per row of
+     * a prediction, where malloc and free showed up in the profile. */
+    size_t nw = b.n ? b.n : 1;
+    double *c = xmalloc(xmul(nw, sizeof(double) + sizeof(long) + sizeof(const char *)));
+    long *row = (long *)(void *)(c + nw);
+    const char **w = (const char **)(void *)(row + nw);
     size_t m = word_coefs(f, &b, w, c, row, st);
     weighted_sum(f->vs, row, c, m, E, x);
     if (f->u) {
@@ -265,9 +272,7 @@ static int pool_doc(const featurizer *f, const char *const *toks, size_t ntok, d
         for (size_t d = 0; d < E; d++)
             x[d] -= dot * f->u[d];
     }
-    free(w);
     free(c);
-    free(row);
     bag_release(&b);
     return m > 0;
 }
@@ -291,7 +296,7 @@ static void bow_doc(const featurizer *f, const char *const *toks, size_t ntok, s
     size_t m = 0;
     double norm = 0;
     for (size_t i = 0; i < b.n; i++) {
-        int32_t id = vocab_find(f->words, b.term[i]);
+        int32_t id = vocab_find_hashed(f->words, b.term[i], b.hash[i]);
         int unigram = strchr(b.term[i], ' ') == NULL;
         if (st && unigram) {
             st->tokens += (uint64_t)b.tf[i];

@@ -74,6 +74,7 @@ struct problem {
     double C;
     double scale;      /* L-BFGS sees J * scale */
     double *z;         /* (K) scratch */
+    double *R;         /* (N, K) scratch: s_i (p_ik - [y_i = k]) */
 };
 
 /* J at theta = [W (K*D), b (K)]; grad (same layout) is filled. */
@@ -87,17 +88,23 @@ static double objective(struct problem *P, const double *theta, double *grad)
     for (size_t i = 0; i < P->X->n; i++) {
         int yi = P->y[i];
         assert(yi >= 0 && (size_t)yi < k);
+        /* All K scores and all K gradient rows per pass over row i. */
+        fmat_dot_k(P->X, i, W, k, z);
         for (size_t c = 0; c < k; c++)
-            z[c] = fmat_dot(P->X, i, W + c * d) + b[c];
+            z[c] += b[c];
         double zy = z[yi];
         double lse = softmax_inplace(z, k);
         loss += P->s[i] * (lse - zy);
+        double *r = P->R + i * k;
         for (size_t c = 0; c < k; c++) {
-            double r = P->s[i] * (z[c] - (c == (size_t)yi));
-            gb[c] += r;
-            fmat_axpy(P->X, i, r, gW + c * d);
+            r[c] = P->s[i] * (z[c] - (c == (size_t)yi));
+            gb[c] += r[c];
         }
     }
+    /* The residuals first, then G = R^T X in one blocked pass: the same
+     * sums in the same order as adding each row's K gradient rows in turn,
+     * with the gradient block held in registers. */
+    fmat_gemm_tn(P->X, P->R, k, gW);
     double ww = 0;
     for (size_t j = 0; j < kd; j++) {
         ww += W[j] * W[j];
@@ -157,8 +164,9 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
     double ssum = 0;
     for (size_t i = 0; i < X->n; i++)
         ssum += s[i];
-    struct problem P = { X, y, s, k, d, p->C, 1.0 / (p->C * ssum), NULL };
+    struct problem P = { X, y, s, k, d, p->C, 1.0 / (p->C * ssum), NULL, NULL };
     P.z = xcalloc(k, sizeof *P.z);
+    P.R = xcalloc(xmul(X->n, k), sizeof *P.R);
 
     /* ftol: stop once the relative decrease is a few dozen ulps, where the
      * value carries no more information (64 * DBL_EPSILON; the choice
@@ -179,6 +187,7 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
     m->iters = r.iters;
     m->converged = r.converged;
     m->objective = r.f / P.scale;
+    free(P.R);
     free(P.z);
     free(s);
     free(theta);
@@ -188,8 +197,9 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
 void linear_scores(const struct linear_model *m, const struct fmat *X, size_t i, double *z)
 {
     assert(X->d == m->d);
+    fmat_dot_k(X, i, m->W, m->k, z);
     for (size_t c = 0; c < m->k; c++)
-        z[c] = fmat_dot(X, i, m->W + c * m->d) + m->b[c];
+        z[c] += m->b[c];
 }
 
 void linear_proba(const struct linear_model *m, const struct fmat *X, size_t i, double *p)
@@ -207,9 +217,11 @@ double linear_gradient(const struct linear_model *m, const struct fmat *X, const
     memcpy(theta, m->W, k * d * sizeof *theta);
     memcpy(theta + k * d, m->b, k * sizeof *theta);
     double *s = row_weights(y, X->n, k, p->balanced);
-    struct problem P = { X, y, s, k, d, p->C, 1, NULL };
+    struct problem P = { X, y, s, k, d, p->C, 1, NULL, NULL };
     P.z = xcalloc(k, sizeof *P.z);
+    P.R = xcalloc(xmul(X->n, k), sizeof *P.R);
     double f = objective(&P, theta, grad);
+    free(P.R);
     free(P.z);
     free(s);
     free(theta);

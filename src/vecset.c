@@ -495,9 +495,13 @@ const char *vecset_word(const vecset *v, size_t i)
 
 long vecset_find(const vecset *v, const char *tok)
 {
-    size_t len = strlen(tok);
+    return vecset_find_hashed(v, tok, vocab_hash(tok, strlen(tok)));
+}
+
+long vecset_find_hashed(const vecset *v, const char *tok, uint64_t h)
+{
     size_t mask = v->nslots - 1;
-    size_t i = (size_t)vocab_hash(tok, len) & mask;
+    size_t i = (size_t)h & mask;
     for (size_t probes = 0; probes < v->nslots; probes++, i = (i + 1) & mask) {
         uint32_t s = v->slots[i];
         if (s == 0)

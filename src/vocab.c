@@ -169,6 +169,11 @@ int32_t vocab_find(const vocab *v, const char *tok)
     return probe(v, tok, vocab_hash(tok, strlen(tok)))->id;
 }
 
+int32_t vocab_find_hashed(const vocab *v, const char *tok, uint64_t h)
+{
+    return probe(v, tok, h)->id;
+}
+
 size_t vocab_size(const vocab *v)
 {
     return v->n;

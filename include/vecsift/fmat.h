@@ -34,6 +34,17 @@ void fmat_release(struct fmat *m);
 double fmat_dot(const struct fmat *m, size_t i, const double *w);
 /* y += a * row i (y has length d). */
 void fmat_axpy(const struct fmat *m, size_t i, double a, double *y);
+/* Row i against K weight rows at once, reading the row once:
+ * z[c] = row i . W[c*d .. c*d+d) for c < k (W is (k, d) row-major).
+ * Bit-identical to k calls of fmat_dot. */
+void fmat_dot_k(const struct fmat *m, size_t i, const double *W, size_t k, double *z);
+/* G[c*d .. c*d+d) += a[c] * row i for c < k (G is (k, d) row-major).
+ * Bit-identical to k calls of fmat_axpy. */
+void fmat_axpy_k(const struct fmat *m, size_t i, const double *a, size_t k, double *G);
+/* G += R^T m: G[c*d + j] += sum_i R[i*k + c] * m[i][j], for R (n, k) and
+ * G (k, d) row-major.  Each element receives the row terms in row order,
+ * so it is bit-identical to fmat_axpy_k over the rows in turn. */
+void fmat_gemm_tn(const struct fmat *m, const double *R, size_t k, double *G);
 /* A new matrix holding rows[0..k) of 'src', in that order. */
 void fmat_select(struct fmat *dst, const struct fmat *src, const size_t *rows, size_t k);
 

@@ -36,6 +36,9 @@ const char *vecset_path(const vecset *v);
 /* Row index of 'tok' or -1.  Index entries are bounds-checked: a damaged
  * entry reads as "not there", never as an access outside the file. */
 long vecset_find(const vecset *v, const char *tok);
+/* vecset_find with h = vocab_hash(tok, strlen(tok)) already computed, for
+ * callers that hash each token once for several tables. */
+long vecset_find_hashed(const vecset *v, const char *tok, uint64_t h);
 /* Borrowed pointers into the mapping, valid until vecset_close.  For i >=
  * count: vecset_row gives NULL, vecset_norm 0, vecset_word "" (also "" for
  * a damaged string entry). */

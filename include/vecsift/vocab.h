@@ -20,6 +20,8 @@ void vocab_free(vocab *v); /* NULL-safe */
 int32_t vocab_add(vocab *v, const char *tok);
 /* Id of 'tok' or -1.  Does not change counts. */
 int32_t vocab_find(const vocab *v, const char *tok);
+/* vocab_find with h = vocab_hash(tok, strlen(tok)) already computed. */
+int32_t vocab_find_hashed(const vocab *v, const char *tok, uint64_t h);
 size_t vocab_size(const vocab *v);
 /* Borrowed; valid until vocab_free. */
 const char *vocab_word(const vocab *v, int32_t id);

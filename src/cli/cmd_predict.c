@@ -95,7 +95,10 @@ static void *work(void *arg)
         ptr = xgrow(ptr, &cap, tt.n + 1, sizeof *ptr);
         for (size_t q = 0; q < tt.n; q++)
             ptr[q] = text_token(&tt, q);
-        features_alloc(f, 1, &X);
+        /* A dense row is overwritten whole by each transform, so it is
+         * allocated once; a sparse one is appended to and starts afresh. */
+        if (r == j->from || features_sparse(f))
+            features_alloc(f, 1, &X);
         struct features_stats st = { 0, 0, 0 };
         features_transform_tokens(f, ptr, tt.n, &X, 0, &st);
         double *pr = j->prob + r * K;
