@@ -76,8 +76,13 @@ static int inner_score(const struct pipeline_spec *s, const struct corpus *c, co
     return rc;
 }
 
-int cv_search(const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs, const size_t *rows,
-              size_t n, int inner_folds, uint64_t seed, struct pipeline_spec *best, struct err *e)
+/* The search over rows[0..n).  With 'group' (ids of all rows of the corpus),
+ * the inner folds keep each group together too, as the outer ones do:
+ * otherwise copies split across inner folds would favour the settings that
+ * memorise best.  '*best_score' gets the inner macro-F1 of the choice. */
+static int search_rows(const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs,
+                       const size_t *rows, size_t n, const int *group, int n_groups, int inner_folds, uint64_t seed,
+                       struct pipeline_spec *best, double *best_score_out, struct err *e)
 {
     size_t K = c->ds.nlabels;
     int *lab = xcalloc(n, sizeof *lab);
@@ -103,7 +108,17 @@ int cv_search(const struct pipeline_spec *s, const struct corpus *c, const struc
     struct rng r;
     rng_seed(&r, seed);
     struct folds fo = FOLDS_INIT;
-    if (folds_make(&fo, lab, n, (int)K, (const char *const *)c->ds.labels, kin, 1, &r, e) < 0) {
+    int frc;
+    if (group) {
+        int *g = xcalloc(n, sizeof *g);
+        for (size_t i = 0; i < n; i++)
+            g[i] = group[rows[i]];
+        frc = folds_make_grouped(&fo, lab, g, n, (int)K, n_groups, (const char *const *)c->ds.labels, kin, 1, &r, e);
+        free(g);
+    } else {
+        frc = folds_make(&fo, lab, n, (int)K, (const char *const *)c->ds.labels, kin, 1, &r, e);
+    }
+    if (frc < 0) {
         free(lab);
         return -1;
     }
@@ -132,7 +147,15 @@ int cv_search(const struct pipeline_spec *s, const struct corpus *c, const struc
         }
     folds_release(&fo);
     free(lab);
+    if (best_score_out)
+        *best_score_out = best_score;
     return rc;
+}
+
+int cv_search(const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs, const size_t *rows,
+              size_t n, int inner_folds, uint64_t seed, struct pipeline_spec *best, struct err *e)
+{
+    return search_rows(s, c, vs, rows, n, NULL, 0, inner_folds, seed, best, NULL, e);
 }
 
 /* ---- the outer loop ---- */
@@ -142,7 +165,7 @@ struct task_out {
     int failed;
     int unconverged, tiny;
     size_t ntrain;
-    double C, gamma;
+    double C, gamma, inner;
     struct features_stats st;
 };
 
@@ -188,8 +211,8 @@ static void one_fold(void *arg, size_t task)
     }
     o->ntrain = ntr;
     struct pipeline_spec spec = *x->s;
-    if (x->p->search &&
-        cv_search(x->s, x->c, x->vs, tr, ntr, x->p->inner_folds, rng_next(&tr_rng), &spec, &o->e) < 0) {
+    if (x->p->search && search_rows(x->s, x->c, x->vs, tr, ntr, x->p->group, x->p->n_groups, x->p->inner_folds,
+                                    rng_next(&tr_rng), &spec, &o->inner, &o->e) < 0) {
         o->failed = 1;
         goto out;
     }
@@ -268,6 +291,7 @@ int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corp
         }
     if (p->search) {
         r->chosen_C = xcalloc(T, sizeof *r->chosen_C);
+        r->chosen_score = xcalloc(T, sizeof *r->chosen_score);
         if (s->clf == CLF_SVM_RBF)
             r->chosen_gamma = xcalloc(T, sizeof *r->chosen_gamma);
     }
@@ -279,8 +303,10 @@ int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corp
         r->held_out.with_vector += x.out[t].st.with_vector;
         r->held_out.empty_rows += x.out[t].st.empty_rows;
         ntrain += (double)x.out[t].ntrain;
-        if (r->chosen_C)
+        if (r->chosen_C) {
             r->chosen_C[t] = x.out[t].C;
+            r->chosen_score[t] = x.out[t].inner;
+        }
         if (r->chosen_gamma)
             r->chosen_gamma[t] = x.out[t].gamma;
     }
@@ -326,6 +352,7 @@ void cv_release(struct cv_result *r)
     free(r->pred);
     free(r->chosen_C);
     free(r->chosen_gamma);
+    free(r->chosen_score);
     for (size_t t = 0; r->per_fold && t < T; t++)
         metrics_report_release(&r->per_fold[t]);
     free(r->per_fold);

@@ -56,11 +56,28 @@ static void index_labels(struct dataset *d)
         d->y[i] = dataset_label_index(d, d->label[i]);
 }
 
+size_t dataset_join_text(char **buf, size_t *cap, const char *const *parts, size_t n)
+{
+    size_t len = 0;
+    *buf = xgrow(*buf, cap, 1, 1);
+    for (size_t t = 0; t < n; t++) {
+        size_t l = strlen(parts[t]);
+        *buf = xgrow(*buf, cap, len + l + 2, 1);
+        if (t)
+            (*buf)[len++] = ' ';
+        memcpy(*buf + len, parts[t], l);
+        len += l;
+    }
+    (*buf)[len] = '\0';
+    return len;
+}
+
 int dataset_load(struct dataset *d, const char *path, const struct dataset_options *o, struct err *e)
 {
     memset(d, 0, sizeof *d);
     csv_reader *r = NULL;
     long *tc = NULL;            /* (ntext) column indices */
+    const char **parts = NULL;  /* (ntext) the row's text cells */
     long lc = -1, gc = -1;
     size_t cap = 0;
     char *join = NULL;
@@ -75,6 +92,7 @@ int dataset_load(struct dataset *d, const char *path, const struct dataset_optio
         goto fail;
     d->path = xstrdup(csv_path(r));
     tc = xmalloc(xmul(o->ntext, sizeof *tc));
+    parts = xcalloc(o->ntext, sizeof *parts);
     for (size_t k = 0; k < o->ntext; k++)
         if ((tc[k] = csv_require_col(r, o->text_cols[k], e)) < 0)
             goto fail;
@@ -111,17 +129,10 @@ int dataset_load(struct dataset *d, const char *path, const struct dataset_optio
         }
         if (gc >= 0)
             d->group[i] = xstrdup(csv_field(r, (size_t)gc));
-        size_t jl = 0;
-        for (size_t t = 0; t < o->ntext; t++) {
-            const char *f = csv_field(r, (size_t)tc[t]);
-            size_t fl = strlen(f);
-            join = xgrow(join, &jcap, jl + fl + 2, 1);
-            if (t)
-                join[jl++] = ' ';
-            memcpy(join + jl, f, fl);
-            jl += fl;
-        }
-        d->text[i] = xstrndup(join ? join : "", jl);
+        for (size_t t = 0; t < o->ntext; t++)
+            parts[t] = csv_field(r, (size_t)tc[t]);
+        size_t jl = dataset_join_text(&join, &jcap, parts, o->ntext);
+        d->text[i] = xstrndup(join, jl);
         d->line[i] = csv_line(r);
         if (blank(d->text[i]))
             d->empty_text++;
@@ -139,11 +150,13 @@ int dataset_load(struct dataset *d, const char *path, const struct dataset_optio
     csv_close(r);
     free(tc);
     free(join);
+    free(parts);
     return 0;
 fail:
     csv_close(r);
     free(tc);
     free(join);
+    free(parts);
     dataset_release(d);
     return -1;
 }

@@ -90,8 +90,11 @@ static int corpus_finish(struct embed_corpus *c, const struct tokdocs *d, uint64
     size_t nv = d->v ? vocab_size(d->v) : 0;
     c->ndocs = d->n;
     c->tokens_read = d->n ? d->off[d->n] : 0;
+    if (c->tokens_read == 0 && d->n == 0)
+        return err_set(e, name, 0, "no words in the corpus: it is empty");
     if (c->tokens_read == 0)
-        return err_set(e, name, 0, "no words in the corpus (%zu empty documents)", d->n);
+        return err_set(e, name, 0, "no words in the corpus: its %zu %s hold none", d->n,
+                       d->n == 1 ? "document" : "documents");
 
     struct rank *r = xcalloc(nv, sizeof *r);
     size_t V = 0;
@@ -221,16 +224,17 @@ static int read_plain(const struct embed_source *src, struct tokdocs *d, size_t 
 static int read_csv(const struct embed_source *src, struct tokdocs *d, size_t *lines, struct err *e)
 {
     struct csv_options co = CSV_OPTIONS_INIT;
-    csv_reader *r = csv_open(src->path, &co, e);
+    csv_reader *r = csv_open(src->path, src->csv ? src->csv : &co, e);
     if (!r)
         return -1;
     long *col = xcalloc(src->ncols ? src->ncols : 1, sizeof *col);
     size_t ncols = src->ncols;
     int rc = 0;
     if (ncols == 0) {
-        /* a .csv without --text-col: a lone column is the text */
-        if (csv_ncols(r) != 1) {
-            rc = err_set(e, csv_path(r), 1, "%zu columns and no --text-col to choose from", csv_ncols(r));
+        /* a .csv without --text-col: a lone column is the text, else the
+         * column called "text" (the default of the other commands) */
+        if (csv_ncols(r) > 1 && (col[0] = csv_col(r, "text")) < 0) {
+            rc = err_set(e, csv_path(r), 1, "no --text-col given and no column 'text'");
             err_hint(e, "name the text column with --text-col");
         }
         ncols = 1;
@@ -629,6 +633,9 @@ int embed_train(const struct embed_corpus *c, const struct embed_params *p, floa
             pthread_join(w[t].tid, NULL);
         if (started < T)
             rc = err_io(e, NULL, 0, "cannot start training thread %d of %d", started + 1, T);
+        else if (progress)
+            /* the first thread may finish before the others: report the end */
+            progress(ud, atomic_load(&s.done), s.total);
     }
     free(w);
     free(s.out);

@@ -310,6 +310,8 @@ int vecset_pack_text(const char *in, const char *out, const struct text_options 
         return -1;
     const char *p = src.p, *end = src.p + src.len;
     size_t line = 0;
+    if (src.len >= 3 && memcmp(p, "\xEF\xBB\xBF", 3) == 0)
+        p += 3; /* a UTF-8 byte-order mark, as some editors write */
 
     /* the first non-blank line: header or first entry */
     const char *first = NULL, *first_le = NULL;

@@ -12,6 +12,8 @@
 #include "vecsift/embed.h"
 #include "vecsift/err.h"
 #include "vecsift/rng.h"
+#include "vecsift/text.h"
+#include "vecsift/vecset.h"
 
 /* ---- parameters ---- */
 
@@ -370,7 +372,7 @@ Test(embed_cli, bad_input_exits_2_without_output, .init = make_dir, .fini = remo
     write_inbox("inbox.txt");
     write_file("empty.txt", "\n\n  \n");
     cr_assert_eq(learn("empty.txt -o out.vecs"), 2);
-    cr_assert(err_has("vecsift: empty.txt: no words"));
+    cr_assert(err_has("vecsift: empty.txt: no words in the corpus: its 3 documents hold none"));
     cr_assert_eq(learn("inbox.txt -o out.vecs --min-freq 1000"), 2);
     cr_assert(err_has("vecsift: inbox.txt: no word occurs 1000 times"));
     cr_assert(err_has("hint: lower --min-freq"));
@@ -384,4 +386,93 @@ Test(embed_cli, bad_input_exits_2_without_output, .init = make_dir, .fini = remo
     cr_assert_eq(learn("inbox.txt"), 2);
     cr_assert_eq(learn("inbox.txt -o inbox.txt"), 2);
     cr_assert(!exists("out.vecs"));
+}
+
+Test(embed_cli, invalid_utf8_names_file_and_line, .init = make_dir, .fini = remove_dir)
+{
+    write_file("bad.txt", "the printer jams\nthe \xff tray\n");
+    cr_assert_eq(learn("bad.txt -o out.vecs --min-freq 1"), 2);
+    cr_assert(err_has("vecsift: bad.txt:2: invalid UTF-8"));
+    cr_assert(!exists("out.vecs"));
+}
+
+/* CSV input: the named columns joined, the same tokens as plain text. */
+Test(embed_cli, csv_columns_give_the_tokens_of_the_joined_text, .init = make_dir, .fini = remove_dir)
+{
+    write_file("t.csv", "id,subject,body\r\n1,Printer JAM,\"the tray, again\"\r\n2,Login,\"password reset\"\r\n");
+    write_file("t.txt", "Printer JAM the tray, again\nLogin password reset\n");
+    cr_assert_eq(learn("t.csv --text-col subject --text-col body --min-freq 1 --dimensions 4 "
+                       "-o a.vecs --write-tokens a.tok --quiet"), 0);
+    cr_assert_eq(learn("t.txt --min-freq 1 --dimensions 4 -o b.vecs --write-tokens b.tok --quiet"), 0);
+    char cmd[256];
+    snprintf(cmd, sizeof cmd, "cd '%s' && cmp -s a.tok b.tok && cmp -s a.vecs b.vecs", dir);
+    cr_assert_eq(system(cmd), 0);
+    snprintf(cmd, sizeof cmd, "grep -qx 'printer jam the tray again' '%s/a.tok'", dir);
+    cr_assert_eq(system(cmd), 0);
+    cr_assert_eq(learn("t.csv --text-col nope -o c.vecs"), 2);
+    cr_assert(err_has("vecsift: t.csv:1: no column 'nope'"));
+    cr_assert_eq(learn("t.csv -o c.vecs"), 2); /* three columns, none named, no 'text' */
+    cr_assert(err_has("vecsift: t.csv:1: no --text-col given and no column 'text'"));
+    cr_assert(!exists("c.vecs"));
+    write_file("u.csv", "id,text\n1,Printer JAM the tray\n2,\"again, Login password reset\"\n");
+    cr_assert_eq(learn("u.csv --min-freq 1 --dimensions 4 -o u.vecs --write-tokens u.tok --quiet"), 0);
+    snprintf(cmd, sizeof cmd, "grep -qx 'again login password reset' '%s/u.tok'", dir);
+    cr_assert_eq(system(cmd), 0);
+}
+
+/* --start-from: known words begin at the stored vectors; a store of another
+ * dimension is refused. */
+Test(embed_cli, start_from_checks_dimensions, .init = make_dir, .fini = remove_dir)
+{
+    write_inbox("inbox.txt");
+    cr_assert_eq(learn("inbox.txt -o base.vecs --dimensions 8 --quiet"), 0);
+    cr_assert_eq(learn("inbox.txt -o more.vecs --dimensions 8 --start-from base.vecs --quiet"), 0);
+    cr_assert_eq(learn("inbox.txt -o bad.vecs --dimensions 9 --start-from base.vecs"), 2);
+    cr_assert(err_has("vecsift: base.vecs: has 8 dimensions, but --dimensions is 9"));
+    cr_assert(!exists("bad.vecs"));
+}
+
+Test(embed, start_from_copies_known_rows)
+{
+    make_dir();
+    const char *words[] = { "printer", "tray" };
+    const float rows[] = { 1, 2, 3, 4, 5, 6 };
+    char path[128];
+    snprintf(path, sizeof path, "%s/s.vecs", dir);
+    struct err e = ERR_INIT;
+    cr_assert_eq(vecset_write(path, words, rows, 2, 3, &e), 0, "%s", e.msg);
+    vecset *v = vecset_open(path, &e);
+    cr_assert_not_null(v, "%s", e.msg);
+    const char *d1[] = { "tray", "jam", "tray", "jam", "jam" };
+    const char *const *docs[] = { d1 };
+    const size_t lens[] = { 5 };
+    struct embed_corpus c = EMBED_CORPUS_INIT;
+    cr_assert_eq(embed_corpus_from_tokens(&c, docs, lens, 1, 1, "t", &e), 0);
+    float vec[6] = { 0 };
+    unsigned char known[2] = { 0 };
+    cr_assert_eq(embed_start_from(&c, v, 3, vec, known, &e), 1);
+    /* jam (3 times) is row 0 and unknown; tray is row 1 */
+    cr_assert_eq(known[0], 0);
+    cr_assert_eq(known[1], 1);
+    cr_assert_float_eq(vec[3], 4.0f, 0);
+    cr_assert_float_eq(vec[5], 6.0f, 0);
+    cr_assert_eq(embed_start_from(&c, v, 4, vec, known, &e), -1);
+    cr_assert(strstr(e.msg, "3 dimensions"), "%s", e.msg);
+    vecset_close(v);
+    embed_corpus_release(&c);
+    remove_dir();
+}
+
+/* The text options are classification's (common.c): --mask-numbers turns
+ * error codes' digits into text.h's placeholder. */
+Test(embed_cli, text_options_reach_the_tokeniser, .init = make_dir, .fini = remove_dir)
+{
+    write_file("n.txt", "error 404 again\nerror 500 again\n");
+    cr_assert_eq(learn("n.txt --min-freq 1 --mask-numbers -o a.vecs --write-tokens a.tok --quiet"), 0);
+    char cmd[256];
+    snprintf(cmd, sizeof cmd, "grep -qx 'error " TEXT_MASK_NUMBER " again' '%s/a.tok'", dir);
+    cr_assert_eq(system(cmd), 0);
+    cr_assert_eq(learn("n.txt --min-freq 1 -o b.vecs --write-tokens b.tok --quiet"), 0);
+    snprintf(cmd, sizeof cmd, "grep -qx 'error 404 again' '%s/b.tok'", dir);
+    cr_assert_eq(system(cmd), 0);
 }

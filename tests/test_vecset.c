@@ -343,3 +343,48 @@ Test(vecset, plain_tokens_normalise_as_text_does)
     cr_assert_eq(row, vecset_count(v));
     vecset_close(v);
 }
+
+/* The same on 3000 random tokens of lowercase letters and digits (all-digit
+ * ones included), with numbers kept and with numbers masked. */
+Test(vecset, random_plain_tokens_normalise_as_text_does)
+{
+    struct rng r;
+    rng_seed(&r, 5);
+    static const char alnum[] = "abcdefghijklmnopqrstuvwxyz0123456789";
+    size_t cap = 1 << 16, len = 0;
+    char *body = malloc(cap);
+    char toks[3000][12];
+    for (int i = 0; i < 3000; i++) {
+        size_t n = 1 + rng_below(&r, 10);
+        int digits = rng_below(&r, 4) == 0;
+        for (size_t k = 0; k < n; k++)
+            toks[i][k] = digits ? (char)('0' + rng_below(&r, 10)) : alnum[rng_below(&r, 36)];
+        toks[i][n] = '\0';
+        len += (size_t)snprintf(body + len, cap - len, "%s 1\n", toks[i]);
+    }
+    for (int mask = 0; mask <= 1; mask++) {
+        struct text_options to = TEXT_OPTIONS_INIT;
+        to.mask_number = mask;
+        const char *in = tmp(2, "plain.txt"), *out = tmp(1, "rplain.vecs");
+        write_text(in, body);
+        struct err e = ERR_INIT;
+        struct vecset_pack_stats st;
+        cr_assert_eq(vecset_pack_text(in, out, &to, 2, &st, &e), 0, "%s", e.msg);
+        vecset *v = vecset_open(out, &e);
+        size_t row = 0;
+        for (int i = 0; i < 3000; i++) {
+            char *n = text_normalize_token(toks[i], strlen(toks[i]), &to);
+            if (n && vecset_find(v, n) == (long)row) {
+                cr_assert_str_eq(vecset_word(v, row), n);
+                row++;
+            } else if (n) {
+                cr_assert_geq(vecset_find(v, n), 0, "'%s' -> '%s' missing", toks[i], n);
+            }
+            free(n);
+        }
+        cr_assert_eq(row, vecset_count(v), "mask %d: %zu rows, %zu matched", mask, vecset_count(v), row);
+        cr_assert_eq(st.rows + st.merged + st.unusable, 3000);
+        vecset_close(v);
+    }
+    free(body);
+}

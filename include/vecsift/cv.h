@@ -10,7 +10,7 @@
  * k-fold over the outer training rows picks C (and for svm-rbf the gamma
  * factor) by inner macro-F1; the pipeline is then refitted with the choice
  * on all the outer training rows.  The held-out fold never takes part in
- * the choice.
+ * the choice.  With groups, the inner folds keep each group together too.
  */
 #ifndef VECSIFT_CV_H
 #define VECSIFT_CV_H
@@ -51,6 +51,7 @@ struct cv_result {
     int *pred;                      /* (R, N) most probable label (lowest index on ties) */
     double *chosen_C;               /* (R * folds) when search, else NULL */
     double *chosen_gamma;           /* (R * folds) factor of the default gamma, svm-rbf search only */
+    double *chosen_score;           /* (R * folds) inner macro-F1 of the choice, search only */
     int unconverged;                /* fits that hit the iteration cap */
     int tiny_label;                 /* some fit had a label with < 3 rows (svm) */
     size_t train_rows;              /* mean training rows per fit (after train_fraction) */

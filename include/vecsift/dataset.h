@@ -48,6 +48,11 @@ struct dataset {
  * ("FILE:LINE: row has no label in column 'queue'"), no text column asked
  * for, or a file with no data rows ("FILE: no data rows after the header").
  * An empty text is not an error: it is counted in d->empty_text. */
+/* Join parts[0..n) with one space into '*buf' (grown as needed, capacity
+ * in '*cap'), NUL-terminated; returns the length.  This is how the text
+ * columns of a row become one text, in training and prediction alike. */
+size_t dataset_join_text(char **buf, size_t *cap, const char *const *parts, size_t n);
+
 int dataset_load(struct dataset *d, const char *path, const struct dataset_options *o, struct err *e);
 
 /* Free everything 'd' owns and zero it.  NULL-safe; safe on a zeroed struct. */

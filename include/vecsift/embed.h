@@ -17,6 +17,7 @@
 
 struct err;
 struct text_options;
+struct csv_options;
 typedef struct vecset vecset;
 
 #define EMBED_MAX_DIM 10000
@@ -56,12 +57,14 @@ void embed_corpus_release(struct embed_corpus *c);
 
 /* Where a corpus comes from.  Plain text is one document a line; CSV (when
  * 'ncols' > 0 or 'path' ends in ".csv") takes the named columns of each row,
- * joined by a space.  "-" reads standard input. */
+ * joined by a space; with no column named, the only column or else the one
+ * called "text".  "-" reads standard input. */
 struct embed_source {
     const char *path;
     const char *const *cols;    /* (ncols) column names, for CSV */
     size_t ncols;
     const struct text_options *text;
+    const struct csv_options *csv;  /* encoding, replacement; NULL for the defaults */
     uint64_t min_freq;          /* words seen fewer times are dropped, >= 1 */
 };
 

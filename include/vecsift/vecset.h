@@ -33,9 +33,12 @@ uint64_t vecset_fingerprint(const vecset *v);
 void vecset_fingerprint_hex(uint64_t fp, char out[17]);
 const char *vecset_path(const vecset *v);
 
-/* Row index of 'tok' or -1. */
+/* Row index of 'tok' or -1.  Index entries are bounds-checked: a damaged
+ * entry reads as "not there", never as an access outside the file. */
 long vecset_find(const vecset *v, const char *tok);
-/* Borrowed pointers into the mapping, valid until vecset_close. */
+/* Borrowed pointers into the mapping, valid until vecset_close.  For i >=
+ * count: vecset_row gives NULL, vecset_norm 0, vecset_word "" (also "" for
+ * a damaged string entry). */
 const float *vecset_row(const vecset *v, size_t i);   /* (D) as imported */
 float vecset_norm(const vecset *v, size_t i);         /* Euclidean norm of row i */
 const char *vecset_word(const vecset *v, size_t i);

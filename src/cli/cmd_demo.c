@@ -161,12 +161,13 @@ int cmd_demo(int argc, char **argv)
         return cli_fail(&e);
 
     char labelled[4096], unlabelled[4096], incoming[4096], vecs[4096], report[4096], json[4096], oof[4096],
-        routed[4096], model[4096], threads[16], seed[32], cutarg[32];
+        routed[4096], model[4096], cmpreport[4096], threads[16], seed[32];
     snprintf(labelled, sizeof labelled, "%s/labelled.csv", data);
     snprintf(unlabelled, sizeof unlabelled, "%s/unlabelled.csv", data);
     snprintf(incoming, sizeof incoming, "%s/incoming.csv", data);
     snprintf(vecs, sizeof vecs, "%s/inbox.vecs", out);
     snprintf(report, sizeof report, "%s/report.html", out);
+    snprintf(cmpreport, sizeof cmpreport, "%s/comparison.html", out);
     snprintf(json, sizeof json, "%s/evaluation.json", out);
     snprintf(oof, sizeof oof, "%s/out-of-fold.csv", out);
     snprintf(routed, sizeof routed, "%s/incoming-routed.csv", out);
@@ -189,14 +190,14 @@ int cmd_demo(int argc, char **argv)
     double cut = -1, cover = 0, macro = 0;
     if (read_cut(json, &cut, &cover, &macro, &e) < 0)
         return cli_fail(&e);
-    printf("\nThe bag-of-words baseline on the same folds, for comparison:\n");
-    rc = step(cmd_evaluate, "evaluate", labelled, "--text-col", "subject", "--text-col", "body", "--label-col",
-              "queue", "--pool", "bow", "--threads", threads, "--seed", seed, "--quiet", NULL);
+    printf("\nThe learned vectors against the bag-of-words baseline, on the same folds:\n");
+    rc = step(cmd_compare, "compare", labelled, "--text-col", "subject", "--text-col", "body", "--label-col",
+              "queue", "--vectors", vecs, "--pool", "tfidf", "--report", cmpreport, "--threads", threads, "--seed",
+              seed, "--quiet", NULL);
     if (rc)
         return rc;
-    snprintf(cutarg, sizeof cutarg, "%.3f", cut >= 0 ? cut : 1.0);
     rc = step(cmd_train, "train", labelled, "--text-col", "subject", "--text-col", "body", "--label-col", "queue",
-              "--vectors", vecs, "--pool", "tfidf", "--review-below", cutarg, "-o", model, "--seed", seed, NULL);
+              "--vectors", vecs, "--pool", "tfidf", "--evaluation", json, "-o", model, "--seed", seed, NULL);
     if (rc)
         return rc;
     rc = step(cmd_predict, "predict", model, incoming, "-o", routed, "--top", "2", "--explain", "3", "--threads",
@@ -205,13 +206,14 @@ int cmd_demo(int argc, char **argv)
         return rc;
 
     printf("\nWhat was made:\n"
-           "  %-28s word vectors learned from %s\n"
-           "  %-28s the cross-validated report (open it in a browser)\n"
-           "  %-28s every figure as JSON\n"
-           "  %-28s out-of-fold predictions, one row per ticket and repeat\n"
-           "  %-28s the trained model\n"
-           "  %-28s the incoming tickets with predicted, confidence and route\n",
-           vecs, unlabelled, report, json, oof, model, routed);
+           "  %-32s word vectors learned from %s\n"
+           "  %-32s the cross-validated report (open it in a browser)\n"
+           "  %-32s learned vectors against the bag-of-words baseline\n"
+           "  %-32s every figure as JSON\n"
+           "  %-32s out-of-fold predictions, one row per ticket and repeat\n"
+           "  %-32s the trained model\n"
+           "  %-32s the incoming tickets with predicted, confidence and route\n",
+           vecs, unlabelled, report, cmpreport, json, oof, model, routed);
     printf("\nReading: out of fold, macro F1 was %.3f with learned vectors. ", macro);
     if (cut >= 0)
         printf("Routing automatically only above confidence %.3f kept %.0f%% of tickets at 95%% precision;\n"

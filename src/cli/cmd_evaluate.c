@@ -38,7 +38,9 @@ const struct cli_cmd cmd_evaluate_info = {
     "on its training rows only; held-out rows never inform their own prediction.\n"
     "Figures are pooled over all out-of-fold predictions, with the standard\n"
     "deviation over folds.  The cut-off is the smallest confidence at which\n"
-    "automatic routing reaches the target precision out of fold."
+    "automatic routing reaches the target precision out of fold.  When one of\n"
+    "--json, --predictions, --report is '-' (stdout), the label table and the\n"
+    "summary go to stderr."
 };
 
 struct eval_args {
@@ -108,6 +110,28 @@ static int *group_ids(const struct corpus *c, int *ngroups)
     return g;
 }
 
+/* With --group-col, a label whose rows lie in fewer groups than folds is
+ * missing from some folds: its per-fold figures count those folds as 0 (the
+ * 0/0 rule).  Say so; the pooled figures are unaffected. */
+static void warn_few_groups(const struct corpus *c, const char *col, const int *g, int ngroups, int folds)
+{
+    size_t K = c->ds.nlabels;
+    unsigned char *seen = xcalloc(xmul(K, (size_t)(ngroups ? ngroups : 1)), 1);
+    size_t *n = xcalloc(K ? K : 1, sizeof *n);
+    for (size_t i = 0; i < c->ds.n; i++) {
+        unsigned char *s = &seen[(size_t)c->ds.y[i] * (size_t)ngroups + (size_t)g[i]];
+        n[c->ds.y[i]] += !*s;
+        *s = 1;
+    }
+    for (size_t k = 0; k < K; k++)
+        if (n[k] && n[k] < (size_t)folds)
+            cli_warn("%s: label '%s' spans only %zu values of '%s', fewer than the %d folds: some folds hold none of "
+                     "its rows, and its per-fold figures count them as 0",
+                     c->ds.path, c->ds.labels[k], n[k], col, folds);
+    free(n);
+    free(seen);
+}
+
 int cmd_evaluate(int argc, char **argv)
 {
     struct eval_args a;
@@ -134,9 +158,20 @@ int cmd_evaluate(int argc, char **argv)
     cJSON *js = NULL;
     const char *ins[] = { data, a.fa.vectors };
     const char *outs[] = { a.json, a.preds, a.report };
-    for (size_t q = 0; q < 3; q++)
+    /* An output written to stdout ("-") takes stdout alone: the label table
+     * and the summary then go to stderr, so the file stays parseable. */
+    FILE *term = stdout;
+    for (size_t q = 0; q < 3; q++) {
         if (outs[q] && ofile_check_distinct(outs[q], ins, 2, &e) < 0)
             goto fail;
+        if (outs[q] && strcmp(outs[q], "-") == 0) {
+            if (term == stderr) {
+                rc = cli_usage(&cmd_evaluate_info, "only one of --json, --predictions, --report can be '-'");
+                goto done;
+            }
+            term = stderr;
+        }
+    }
     struct dataset_options dopt;
     data_args_dataset(&a.da, 1, &dopt);
     if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
@@ -144,19 +179,21 @@ int cmd_evaluate(int argc, char **argv)
     if (fit_args_open_vectors(&a.fa, &vs, &e) < 0)
         goto fail;
     if (!cli_quiet) {
-        evalout_label_table(stdout, &c, a.cp.folds);
-        fflush(stdout);
+        evalout_label_table(term, &c, a.cp.folds);
+        fflush(term);
         size_t conflicting, dup = evalout_duplicates(&c, &conflicting);
         if (dup)
-            cli_note("%zu rows repeat another row word for word after normalisation (%zu of them with another "
+            cli_note("%zu %s another row word for word after normalisation (%zu of them with another "
                      "label); duplicates split across folds flatter the scores: remove them or use --group-col",
-                     dup, conflicting);
+                     dup, dup == 1 ? "row repeats" : "rows repeat", conflicting);
         if (c.empty_docs)
             cli_warn("%s: %zu rows have no words in the text columns", data, c.empty_docs);
     }
     if (c.ds.group) {
         groups = group_ids(&c, &a.cp.n_groups);
         a.cp.group = groups;
+        if (!cli_quiet)
+            warn_few_groups(&c, a.da.group_col, groups, a.cp.n_groups, a.cp.folds);
     }
     if (cv_run(&r, &a.fa.spec, &c, vs, &a.cp, &e) < 0)
         goto fail;
@@ -167,7 +204,8 @@ int cmd_evaluate(int argc, char **argv)
         cli_warn("a label had fewer than 3 training rows in some fold: SVM probabilities for it are unreliable");
 
     struct eval_setup s = { data, &a.da, &a.fa, &a.cp, a.target };
-    evalout_terminal(stdout, &r, &c, &s);
+    evalout_terminal(term, &r, &c, &s);
+    fflush(term);
     if (a.json || a.report)
         js = evalout_json(&r, &c, &s);
     if (a.json && evalout_write_json(a.json, js, &e) < 0)

@@ -104,6 +104,9 @@ int cmd_features(int argc, char **argv)
     const char *ins[] = { data, model_path, fa.vectors };
     if (ofile_check_distinct(out, ins, 3, &e) < 0)
         goto fail;
+    /* only a label column the user named must exist: the model's own is
+     * a default, and new data to featurize usually has no labels */
+    const char *asked_label = da.label_col;
     if (model_path) {
         if (model_load(&m, model_path, fa.vectors, &vs, &e) < 0)
             goto fail;
@@ -119,8 +122,8 @@ int cmd_features(int argc, char **argv)
     int labelled = has_column(data, &da.csv, dopt.label_col, &e);
     if (labelled < 0)
         goto fail;
-    if (!labelled && da.label_col) {
-        err_set(&e, data, 1, "no column '%s'", da.label_col);
+    if (!labelled && asked_label) {
+        err_set(&e, data, 1, "no column '%s'", asked_label);
         goto fail;
     }
     data_args_dataset(&da, labelled, &dopt);
@@ -134,8 +137,10 @@ int cmd_features(int argc, char **argv)
     } else {
         if (fit_args_open_vectors(&fa, &vs, &e) < 0)
             goto fail;
-        if (!(own = features_fit(&fa.spec.feat, &c.docs, rows, c.ds.n, vs, &e)))
+        if (!(own = features_fit(&fa.spec.feat, &c.docs, rows, c.ds.n, vs, &e))) {
+            err_name_file(&e, data);
             goto fail;
+        }
         f = own;
     }
     struct features_stats st = { 0, 0, 0 };

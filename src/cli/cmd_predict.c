@@ -15,6 +15,7 @@
 #include "commands.h"
 #include "common.h"
 #include "vecsift/csv.h"
+#include "vecsift/dataset.h"
 #include "vecsift/err.h"
 #include "vecsift/fmat.h"
 #include "vecsift/model.h"
@@ -79,22 +80,14 @@ static void *work(void *arg)
     const char **ptr = NULL;
     size_t cap = 0, tlen = 0, tcap = 0;
     char *text = NULL;
+    const char **parts = xcalloc(j->ntextcol, sizeof *parts);
     const char **words = j->explain ? xcalloc(j->explain, sizeof *words) : NULL;
     double *push = j->explain ? xcalloc(j->explain, sizeof *push) : NULL;
     for (size_t r = j->from; r < j->to; r++) {
-        /* join the text columns with one space, as the training rows were */
-        tlen = 0;
-        for (size_t t = 0; t < j->ntextcol; t++) {
-            const char *s = j->cells[r * j->ncols + (size_t)j->textcol[t]];
-            size_t l = strlen(s);
-            text = xgrow(text, &tcap, tlen + l + 2, 1);
-            if (t)
-                text[tlen++] = ' ';
-            memcpy(text + tlen, s, l);
-            tlen += l;
-        }
-        text = xgrow(text, &tcap, tlen + 1, 1);
-        text[tlen] = '\0';
+        /* the text columns joined as the training rows were */
+        for (size_t t = 0; t < j->ntextcol; t++)
+            parts[t] = j->cells[r * j->ncols + (size_t)j->textcol[t]];
+        tlen = dataset_join_text(&text, &tcap, parts, j->ntextcol);
         text_tokens_clear(&tt);
         struct err e = ERR_INIT;
         if (text_tokenize(text, tlen, &j->m->text, &tt, &e) < 0)
@@ -127,6 +120,7 @@ static void *work(void *arg)
             j->why[r] = b ? b : xstrdup("");
         }
     }
+    free(parts);
     free(words);
     free(push);
     free(text);
@@ -181,6 +175,29 @@ static void write_batch(FILE *fp, const struct job *j, size_t *routed, size_t *r
             cell(fp, j->why[r], 0);
         fputs("\r\n", fp);
     }
+}
+
+/* The header row.  Written only once the first batch has been read: a bad
+ * row among the first BATCH rows then leaves nothing on stdout, where no
+ * temporary file can be thrown away (a file output is discarded anyway). */
+static void write_header(FILE *fp, const csv_reader *r, long top, long explain)
+{
+    size_t ncols = csv_ncols(r);
+    for (size_t c = 0; c < ncols; c++)
+        cell(fp, csv_colname(r, c), c == 0);
+    cell(fp, "predicted", 0);
+    cell(fp, "confidence", 0);
+    cell(fp, "route", 0);
+    for (long t = 2; t <= top; t++) {
+        char h[48];
+        snprintf(h, sizeof h, "label_%ld", t);
+        cell(fp, h, 0);
+        snprintf(h, sizeof h, "confidence_%ld", t);
+        cell(fp, h, 0);
+    }
+    if (explain)
+        cell(fp, "evidence", 0);
+    fputs("\r\n", fp);
 }
 
 static void run_batch(struct job *j, int threads)
@@ -295,21 +312,6 @@ int cmd_predict(int argc, char **argv)
     if (!(o = ofile_open(out, &e)))
         goto fail;
     FILE *fp = ofile_fp(o);
-    for (size_t c = 0; c < ncols; c++)
-        cell(fp, csv_colname(r, c), c == 0);
-    cell(fp, "predicted", 0);
-    cell(fp, "confidence", 0);
-    cell(fp, "route", 0);
-    for (long t = 2; t <= top; t++) {
-        char h[48];
-        snprintf(h, sizeof h, "label_%ld", t);
-        cell(fp, h, 0);
-        snprintf(h, sizeof h, "confidence_%ld", t);
-        cell(fp, h, 0);
-    }
-    if (explain)
-        cell(fp, "evidence", 0);
-    fputs("\r\n", fp);
 
     j.pipe = m.pipe;
     j.m = &m;
@@ -334,6 +336,8 @@ int cmd_predict(int argc, char **argv)
         }
         if (got < 0)
             goto fail;
+        if (rows == 0)
+            write_header(fp, r, top, explain);
         run_batch(&j, da.threads);
         write_batch(fp, &j, &routed, &review);
         rows += j.n;

@@ -1,12 +1,16 @@
 /* cmd_train.c -- `vecsift train`: fit a pipeline on every labelled row and
  * write the model file. */
+#include <cjson/cJSON.h>
+#include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "commands.h"
 #include "common.h"
+#include "vecsift/cv.h"
 #include "vecsift/err.h"
+#include "vecsift/jsonv.h"
 #include "vecsift/model.h"
 #include "vecsift/ofile.h"
 #include "vecsift/pipeline.h"
@@ -17,7 +21,10 @@ static const struct cli_opt opts[] = {
     { "output", 'o', "<file>", "where to write the model (required; JSON)" },
     PIPELINE_OPTIONS,
     DATA_OPTIONS,
-    { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict (default: none)" },
+    { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict\n"
+      "                              (default: the --evaluation file's cut-off, else none)" },
+    { "evaluation", 'e', "<file>", "an 'evaluate --json' file of these settings: its summary is stored in the model" },
+    { "search", 0, NULL, "choose C (and gamma) by 3-fold cross-validation on all rows, as evaluate --search does" },
     RUN_OPTIONS,
     { NULL, 0, NULL, NULL }
 };
@@ -33,6 +40,64 @@ const struct cli_cmd cmd_train_info = {
     "texts are, under the applicable law and your organisation's policy.\n"
     "Measure before you deploy: 'vecsift evaluate' with the same options."
 };
+
+/* The summary of an `evaluate --json` file, checked to describe the same
+ * pooling and classifier; its cut-off becomes the default review cut-off. */
+static int read_evaluation(const char *path, const struct fit_args *fa, cJSON **summary, double *review,
+                           struct err *e)
+{
+    size_t len = 0, cap = 0, got;
+    char *buf = NULL, tmp[65536];
+    FILE *fp = fopen(path, "rb");
+    if (!fp)
+        return err_set(e, path, 0, "cannot open: %s", strerror(errno));
+    while ((got = fread(tmp, 1, sizeof tmp, fp)) > 0) {
+        buf = xgrow(buf, &cap, len + got + 1, 1);
+        memcpy(buf + len, tmp, got);
+        len += got;
+    }
+    fclose(fp);
+    cJSON *root = jsonv_parse(path, buf ? buf : "", len, e);
+    free(buf);
+    if (!root)
+        return -1;
+    struct jsonv_ctx c = { path, "settings", e };
+    const cJSON *st = cJSON_IsObject(root) ? cJSON_GetObjectItemCaseSensitive(root, "settings") : NULL;
+    const char *pool = st ? jsonv_str(&c, st, "pool") : NULL;
+    const char *clf = pool ? jsonv_str(&c, st, "classifier") : NULL;
+    int rc = 0;
+    if (!st || !clf) {
+        err_clear(e);
+        rc = err_set(e, path, 0, "not an 'evaluate --json' file");
+    } else if (strcmp(pool, features_pool_name(fa->spec.feat.pool)) != 0 ||
+               strcmp(clf, pipeline_classifier_name(fa->spec.clf)) != 0) {
+        rc = err_set(e, path, 0, "evaluated %s with pooling %s, but this model is %s with pooling %s", clf, pool,
+                     pipeline_classifier_name(fa->spec.clf), features_pool_name(fa->spec.feat.pool));
+        err_hint(e, "train with the settings that were evaluated, or evaluate these settings");
+    }
+    if (rc == 0) {
+        *summary = cJSON_CreateObject();
+        static const char *keep[] = { "labels", "pooled", "per_fold", "settings" };
+        for (size_t i = 0; i < sizeof keep / sizeof keep[0]; i++) {
+            const cJSON *it = cJSON_GetObjectItemCaseSensitive(root, keep[i]);
+            if (it)
+                cJSON_AddItemToObject(*summary, keep[i], cJSON_Duplicate(it, 1));
+        }
+        const cJSON *th = cJSON_GetObjectItemCaseSensitive(root, "threshold");
+        const cJSON *cut = th ? cJSON_GetObjectItemCaseSensitive(th, "cutoff") : NULL;
+        if (th) {
+            cJSON *t = cJSON_Duplicate(th, 1);
+            cJSON_DeleteItemFromObjectCaseSensitive(t, "curve"); /* the curve stays in the evaluation file */
+            cJSON_AddItemToObject(*summary, "threshold", t);
+        }
+        if (*review < 0 && cut && cJSON_IsNumber(cut) && cut->valuedouble >= 0 && cut->valuedouble <= 1)
+            *review = cut->valuedouble;
+        else if (*review < 0 && th && cut && cJSON_IsNull(cut))
+            *review = 1.0; /* no cut-off reached the target: a person decides every row */
+    }
+    cJSON_Delete(root);
+    return rc;
+}
 
 /* Labels with a single row cannot be learned (nor evaluated): refuse. */
 static int check_labels(const struct corpus *c, size_t *rows_per, struct err *e)
@@ -62,6 +127,8 @@ int cmd_train(int argc, char **argv)
     fit_args_init(&fa);
     const char *out = NULL;
     double review = -1;
+    const char *evaluation = NULL;
+    int search = 0;
     struct cli_parser p;
     cli_parser_init(&p, cmd, argc, argv);
     int rc = ERR_OK, i;
@@ -79,6 +146,10 @@ int cmd_train(int argc, char **argv)
             continue;
         if (strcmp(name, "output") == 0)
             out = val;
+        else if (strcmp(name, "evaluation") == 0)
+            evaluation = val;
+        else if (strcmp(name, "search") == 0)
+            search = 1;
         else if (strcmp(name, "review-below") == 0 && cli_double(cmd, name, val, 0, 1, &review) < 0) {
             cli_parser_release(&p);
             return ERR_INPUT;
@@ -102,8 +173,10 @@ int cmd_train(int argc, char **argv)
     struct vecset *vs = NULL;
     struct model m = MODEL_INIT;
     size_t *rows_per = NULL, *rows = NULL;
-    const char *ins[] = { data, fa.vectors };
-    if (ofile_check_distinct(out, ins, 2, &e) < 0)
+    const char *ins[] = { data, fa.vectors, evaluation };
+    if (ofile_check_distinct(out, ins, 3, &e) < 0)
+        goto fail;
+    if (evaluation && read_evaluation(evaluation, &fa, &m.evaluation, &review, &e) < 0)
         goto fail;
     struct dataset_options dopt;
     data_args_dataset(&da, 1, &dopt);
@@ -116,16 +189,37 @@ int cmd_train(int argc, char **argv)
         goto fail;
     if (c.ds.replaced)
         cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", data, c.ds.replaced);
+    if (c.empty_docs == c.ds.n) {
+        err_set(&e, data, 0, "no row has a word in the text column%s ('%s'%s)", dopt.ntext > 1 ? "s" : "",
+                dopt.text_cols[0], dopt.ntext > 1 ? ", ..." : "");
+        err_hint(&e, "check --text-col: is the text in another column?");
+        goto fail;
+    }
     if (c.empty_docs)
         cli_warn("%s: %zu rows have no words in the text columns", data, c.empty_docs);
 
     rows = xcalloc(c.ds.n, sizeof *rows);
     for (size_t r = 0; r < c.ds.n; r++)
         rows[r] = r;
+    if (search) {
+        /* The grid and inner folds of evaluate --search, on every row. */
+        struct pipeline_spec best;
+        if (cv_search(&fa.spec, &c, vs, rows, c.ds.n, 3, da.seed, &best, &e) < 0)
+            goto fail;
+        fa.spec = best;
+        if (!cli_quiet) {
+            fprintf(stderr, "parameter search (3-fold, macro F1) chose C = %g", best.C);
+            if (best.clf == CLF_SVM_RBF)
+                fprintf(stderr, ", gamma = %g x the default", best.gamma < 0 ? -best.gamma : 1.0);
+            fputc('\n', stderr);
+        }
+    }
     struct pipeline_fit_info info;
     m.pipe = pipeline_fit(&fa.spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
-    if (!m.pipe)
+    if (!m.pipe) {
+        err_name_file(&e, data);
         goto fail;
+    }
     if (!info.converged)
         cli_warn("logistic regression stopped at the iteration cap (%d) before reaching its tolerance; "
                  "raise --max-iter or lower --C", info.iters);

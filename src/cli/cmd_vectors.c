@@ -13,22 +13,25 @@
 #include "vecsift/text.h"
 #include "vecsift/vecset.h"
 
-static const struct cli_cmd *const verbs[] = {
-    &vectors_analogy_info,
-    &vectors_export_info,
-    &vectors_info_info,
-    &cmd_vectors_learn_info,
-    &vectors_near_info,
-    &vectors_pack_info,
-};
-static int (*const runs[])(int, char **) = {
-    vectors_analogy, vectors_export, vectors_info, cmd_vectors_learn, vectors_near, vectors_pack,
+/* One row per verb, alphabetical: its description and its entry point. */
+static const struct verb {
+    const struct cli_cmd *info;
+    int (*run)(int argc, char **argv);
+} verbs[] = {
+    { &vectors_analogy_info, vectors_analogy },
+    { &vectors_coverage_info, vectors_coverage },
+    { &vectors_export_info, vectors_export },
+    { &vectors_info_info, vectors_info },
+    { &cmd_vectors_learn_info, cmd_vectors_learn }, /* src/cli/cmd_vectors_learn.c */
+    { &vectors_map_info, vectors_map },
+    { &vectors_near_info, vectors_near },
+    { &vectors_pack_info, vectors_pack },
 };
 #define NVERBS (sizeof verbs / sizeof verbs[0])
 
 const struct cli_cmd cmd_vectors_info = {
     "vectors", "<verb> [options] [arguments]",
-    "word vector sets: pack a text file, inspect, query neighbours, export",
+    "word vector sets: pack a text file, learn from text, inspect, query neighbours, export",
     NULL, NULL,
 };
 
@@ -36,7 +39,7 @@ static void list_verbs(FILE *fp)
 {
     fprintf(fp, "usage: vecsift vectors <verb> [options] [arguments]\n\n%s\n\nverbs:\n", cmd_vectors_info.summary);
     for (size_t i = 0; i < NVERBS; i++)
-        fprintf(fp, "  %-9s %s\n", verbs[i]->name + strlen("vectors "), verbs[i]->summary);
+        fprintf(fp, "  %-9s %s\n", verbs[i].info->name + strlen("vectors "), verbs[i].info->summary);
     fprintf(fp, "\n'vecsift vectors <verb> --help' tells more.\n"
                 "exit status: 0 success, 1 input/output or internal failure, 2 usage error or bad input\n");
 }
@@ -55,9 +58,9 @@ int cmd_vectors(int argc, char **argv)
     const char *best = NULL;
     size_t bestd = (size_t)-1;
     for (size_t i = 0; i < NVERBS; i++) {
-        const char *name = verbs[i]->name + strlen("vectors ");
+        const char *name = verbs[i].info->name + strlen("vectors ");
         if (strcmp(name, verb) == 0)
-            return runs[i](argc - 1, argv + 1);
+            return verbs[i].run(argc - 1, argv + 1);
         size_t d = cli_distance(verb, name);
         if (d < bestd) {
             bestd = d;

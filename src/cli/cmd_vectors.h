@@ -15,8 +15,10 @@ typedef struct vecset vecset;
     int vectors_##x(int argc, char **argv)
 
 VECTORS_VERB(analogy);
+VECTORS_VERB(coverage);
 VECTORS_VERB(export);
 VECTORS_VERB(info);
+VECTORS_VERB(map);
 VECTORS_VERB(near);
 VECTORS_VERB(pack);
 

@@ -14,6 +14,7 @@
 #include <unistd.h>
 
 #include "commands.h"
+#include "common.h"
 #include "vecsift/embed.h"
 #include "vecsift/err.h"
 #include "vecsift/ofile.h"
@@ -22,13 +23,13 @@
 #include "vecsift/xalloc.h"
 
 enum {
-    O_OUTPUT, O_TEXT_COL, O_DIM, O_WINDOW, O_NEG, O_EPOCHS, O_MIN_FREQ, O_SUBSAMPLE, O_LR,
-    O_THREADS, O_SEED, O_START, O_ACCENTS, O_TOKENS, O_QUIET
+    O_OUTPUT, O_DIM, O_WINDOW, O_NEG, O_EPOCHS, O_MIN_FREQ, O_SUBSAMPLE, O_LR, O_START, O_TOKENS
 };
 
+/* Text, CSV and run options are parsed by common.c's data_args, so the
+ * tokeniser settings mean exactly what they mean for classification. */
 static const struct cli_opt opts[] = {
     [O_OUTPUT] = { "output", 'o', "<file>", "packed vector set to write (.vecs); required" },
-    [O_TEXT_COL] = { "text-col", 0, "<name>", "CSV column holding text; repeat to join several" },
     [O_DIM] = { "dimensions", 0, "<n>", "numbers per word vector, 1..10000 (default: 100)" },
     [O_WINDOW] = { "window", 0, "<n>", "widest distance to a context word (default: 5)" },
     [O_NEG] = { "negatives", 0, "<n>", "noise words drawn per context word (default: 5)" },
@@ -36,12 +37,17 @@ static const struct cli_opt opts[] = {
     [O_MIN_FREQ] = { "min-freq", 0, "<n>", "ignore words seen fewer times (default: 5)" },
     [O_SUBSAMPLE] = { "subsample", 0, "<t>", "thin out words more frequent than t; 0 = off (default: 1e-4)" },
     [O_LR] = { "learning-rate", 0, "<r>", "starting step size, decays linearly (default: 0.025)" },
-    [O_THREADS] = { "threads", 0, "<n>", "training threads (default: 1; 1 repeats exactly)" },
-    [O_SEED] = { "seed", 's', "<n>", "random seed (default: 1)" },
     [O_START] = { "start-from", 0, "<file>", "begin known words at their vectors in this .vecs" },
-    [O_ACCENTS] = { "keep-accents", 0, NULL, "keep accents on Latin letters (as in classification)" },
     [O_TOKENS] = { "write-tokens", 0, "<file>", "also write the corpus as training sees it, one document a line" },
-    [O_QUIET] = { "quiet", 'q', NULL, "no progress or summary on stderr" },
+    { "text-col", 0, "<name>", "CSV column holding text; repeat to join several (default: text)" },
+    { "encoding", 0, "<name>", "CSV input: utf-8 | windows-1252 | latin-1 (default: utf-8)" },
+    { "replace-invalid", 0, NULL, "CSV input: replace invalid UTF-8 by U+FFFD instead of stopping" },
+    { "keep-accents", 0, NULL, "keep accents on Latin letters (default: cafe = café)" },
+    { "mask-numbers", 0, NULL, "replace numbers by a placeholder token (default: keep them)" },
+    { "keep-emails", 0, NULL, "keep e-mail addresses and URLs (default: masked: personal data)" },
+    { "seed", 's', "<n>", "random seed (default: 1)" },
+    { "threads", 't', "<n>", "training threads (default: 1, which repeats exactly)" },
+    { "quiet", 'q', NULL, "no progress or summary on stderr" },
     { NULL, 0, NULL, NULL },
 };
 
@@ -52,7 +58,7 @@ const struct cli_cmd cmd_vectors_learn_info = {
     opts,
     "The corpus is plain text, one document a line, or CSV (when --text-col is\n"
     "given or the name ends in .csv).  Text is tokenised exactly as for\n"
-    "classification, so use the same --keep-accents setting in both.  Words are\n"
+    "classification, so give both the same text options.  Words are\n"
     "written most frequent first.  With --threads 1 the same --seed gives the\n"
     "same file byte for byte; with more threads updates race (by design, for\n"
     "speed) and results differ slightly from run to run.",
@@ -112,31 +118,32 @@ int cmd_vectors_learn(int argc, char **argv)
 {
     const struct cli_cmd *cmd = &cmd_vectors_learn_info;
     struct embed_params p = EMBED_PARAMS_INIT;
-    struct text_options to = TEXT_OPTIONS_INIT;
     struct embed_corpus c = EMBED_CORPUS_INIT;
+    struct data_args da;
     struct err e = ERR_INIT;
     struct cli_parser ps;
     const char *out = NULL, *start = NULL, *tokens = NULL;
-    const char **cols = xcalloc((size_t)argc + 1, sizeof *cols);
-    size_t ncols = 0;
     long min_freq = 5;
     float *vec = NULL;
     unsigned char *known = NULL;
     vecset *from = NULL;
-    int status = ERR_INPUT, opt;
+    int status = ERR_INPUT, opt, took;
     const char *val;
     long n;
 
     cli_quiet = 0;
+    data_args_init(&da);
+    da.threads = 1; /* repeatable unless asked otherwise */
     cli_parser_init(&ps, cmd, argc, argv);
     while ((opt = cli_next(&ps, &val)) >= 0) {
+        if ((took = data_args_option(&da, cmd, opt_name(cmd, opt), val)) < 0)
+            goto out;
+        if (took)
+            continue;
         switch (opt) {
         case O_OUTPUT: out = val; break;
-        case O_TEXT_COL: cols[ncols++] = val; break;
         case O_START: start = val; break;
         case O_TOKENS: tokens = val; break;
-        case O_ACCENTS: to.keep_accents = 1; break;
-        case O_QUIET: cli_quiet = 1; break;
         case O_SUBSAMPLE:
             if (cli_double(cmd, opts[opt].name, val, 0, 0.999, &p.subsample) < 0)
                 goto out;
@@ -144,11 +151,6 @@ int cmd_vectors_learn(int argc, char **argv)
         case O_LR:
             if (cli_double(cmd, opts[opt].name, val, 1e-9, 10, &p.learning_rate) < 0)
                 goto out;
-            break;
-        case O_SEED:
-            if (cli_long(cmd, opts[opt].name, val, 0, LONG_MAX, &n) < 0)
-                goto out;
-            p.seed = (uint64_t)n;
             break;
         case O_MIN_FREQ:
             if (cli_long(cmd, opts[opt].name, val, 1, LONG_MAX, &min_freq) < 0)
@@ -158,7 +160,7 @@ int cmd_vectors_learn(int argc, char **argv)
             /* the whole-number options, each with its range */
             static const struct { int opt; long lo, hi; } range[] = {
                 { O_DIM, 1, EMBED_MAX_DIM }, { O_WINDOW, 1, 1000 }, { O_NEG, 1, 1000 },
-                { O_EPOCHS, 1, 100000 }, { O_THREADS, 1, 1024 },
+                { O_EPOCHS, 1, 100000 },
             };
             for (size_t i = 0; i < sizeof range / sizeof range[0]; i++)
                 if (range[i].opt == opt &&
@@ -172,11 +174,11 @@ int cmd_vectors_learn(int argc, char **argv)
                 p.negatives = (int)n;
             else if (opt == O_EPOCHS)
                 p.epochs = (int)n;
-            else if (opt == O_THREADS)
-                p.threads = (int)n;
         }
         }
     }
+    p.seed = da.seed;
+    p.threads = da.threads;
     if (opt == CLI_HELP) {
         status = ERR_OK;
         goto out;
@@ -204,7 +206,7 @@ int cmd_vectors_learn(int argc, char **argv)
         goto out;
     }
 
-    struct embed_source src = { corpus, cols, ncols, &to, (uint64_t)min_freq };
+    struct embed_source src = { corpus, da.text_cols, da.ntext, &da.text, &da.csv, (uint64_t)min_freq };
     if (embed_corpus_read(&c, &src, &e) < 0)
         goto fail;
     vec = xcalloc(c.nwords, xmul(p.dim, sizeof *vec));
@@ -243,6 +245,5 @@ out:
     free(known);
     embed_corpus_release(&c);
     cli_parser_release(&ps);
-    free(cols);
     return status;
 }

@@ -36,8 +36,11 @@ const struct cli_cmd vectors_analogy_info = {
 };
 
 /* Shared by both verbs: the query is sum_i sign[i] * unit(row[i]).  For
- * 'near' all signs are +1 (the mean has the same direction as the sum);
- * for 'analogy' they are -1, +1, +1 for a, b, c. */
+ * 'near' all signs are +1 (the mean has the same direction as the sum, and
+ * cosine ignores length); for 'analogy' they are -1, +1, +1 for a, b, c:
+ * 3CosAdd, argmax over x not in {a, b, c} of cos(x, b - a + c) on unit
+ * vectors, as in Mikolov, Yih and Zweig (2013), "Linguistic Regularities
+ * in Continuous Space Word Representations", NAACL-HLT. */
 static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords_min, size_t nwords_max,
                  const int *sign)
 {

@@ -18,6 +18,8 @@ static const struct cli_opt pack_opts[] = {
     { "threads", 0, "<n>", "parsing threads (default: processors online)" },
     { "keep-accents", 0, NULL, "keep accents on Latin letters (default: strip them, as text is)" },
     { "quiet", 'q', NULL, "no summary on stderr" },
+    { "mask-numbers", 0, NULL, "as the data will be read: number tokens become a placeholder (default: kept)" },
+    { "keep-emails", 0, NULL, "as the data will be read: e-mail addresses and URLs kept (default: masked)" },
     { NULL, 0, NULL, NULL },
 };
 
@@ -48,6 +50,8 @@ int vectors_pack(int argc, char **argv)
         case 1: if (cli_long(cmd, "threads", val, 1, 64, &threads) < 0) goto out; break;
         case 2: to.keep_accents = 1; break;
         case 3: cli_quiet = 1; break;
+        case 4: to.mask_number = 1; break;
+        case 5: to.mask_email = to.mask_url = 0; break;
         }
     }
     if (o == CLI_HELP) {

@@ -15,10 +15,15 @@
     int cmd_##x(int argc, char **argv)
 
 /* Keep alphabetical, like the table in main.c. */
+VECSIFT_COMMAND(audit);
+VECSIFT_COMMAND(compare);
+VECSIFT_COMMAND(curve);
 VECSIFT_COMMAND(demo);
 VECSIFT_COMMAND(evaluate);
 VECSIFT_COMMAND(features);
+VECSIFT_COMMAND(map);
 VECSIFT_COMMAND(predict);
+VECSIFT_COMMAND(suggest);
 VECSIFT_COMMAND(train);
 VECSIFT_COMMAND(vectors);
 VECSIFT_COMMAND(vectors_learn);

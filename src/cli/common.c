@@ -126,6 +126,18 @@ int fit_args_option(struct fit_args *f, const struct cli_cmd *cmd, const char *n
     return 1;
 }
 
+void err_name_file(struct err *e, const char *path)
+{
+    size_t n = strlen(path);
+    if (strncmp(e->msg, path, n) == 0 && e->msg[n] == ':')
+        return;
+    struct err inner = *e;
+    err_clear(e);
+    err_set(e, path, 0, "%s", inner.msg);
+    e->code = inner.code;
+    memcpy(e->hint, inner.hint, sizeof e->hint);
+}
+
 int fit_args_open_vectors(const struct fit_args *f, struct vecset **vs, struct err *e)
 {
     *vs = NULL;

@@ -70,6 +70,11 @@ struct fit_args {
 void fit_args_init(struct fit_args *f);
 int fit_args_option(struct fit_args *f, const struct cli_cmd *cmd, const char *name, const char *val);
 
+/* Errors from fitting (features_fit, pipeline_fit) cannot know which file
+ * the rows came from: prefix 'path' unless the message already starts with
+ * it, keeping the code and the hint, so every bad-input message names a file. */
+void err_name_file(struct err *e, const char *path);
+
 /* Open the vector set when the pooling needs one (error when missing). */
 int fit_args_open_vectors(const struct fit_args *f, struct vecset **vs, struct err *e);
 

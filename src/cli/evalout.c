@@ -35,6 +35,22 @@ void evalout_cut(const struct cv_result *r, double target, struct eval_cut *out)
         out->threshold = c[i].threshold;
         out->precision = c[i].precision;
         out->coverage = c[i].coverage;
+        /* A rounded cut-off printed as "%.3f" could fall below the threshold
+         * and admit rows the out-of-fold precision never counted.  Use the
+         * shortest decimal in (next lower confidence, threshold]: predict
+         * (route when confidence >= p) then keeps exactly the same rows. */
+        double t = c[i].threshold, below = (size_t)i + 1 < n ? c[i + 1].threshold : -1.0;
+        jsonv_format_double(t, out->advice, sizeof out->advice);
+        for (int d = 1; d <= 16; d++) {
+            char buf[40];
+            double scale = pow(10.0, d);
+            snprintf(buf, sizeof buf, "%.*f", d, floor(t * scale) / scale);
+            double v = strtod(buf, NULL);
+            if (v <= t && v > below) {
+                snprintf(out->advice, sizeof out->advice, "%s", buf);
+                break;
+            }
+        }
     }
     free(c);
 }
@@ -179,15 +195,20 @@ void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *
         for (size_t t = 0; t < T; t++)
             fprintf(fp, " %g", r->chosen_C[t]);
         fprintf(fp, " (one per fold)\n");
+        if (r->chosen_gamma) {
+            fprintf(fp, "and gamma =");
+            for (size_t t = 0; t < T; t++)
+                fprintf(fp, " %g", r->chosen_gamma[t]);
+            fprintf(fp, " x the default (one per fold)\n");
+        }
     }
     struct eval_cut cut;
     evalout_cut(r, s->target, &cut);
     if (cut.reachable)
-        fprintf(fp, "\nCut-off: route automatically when confidence >= %.3f. Out of fold this kept %.1f%% of rows "
+        fprintf(fp, "\nCut-off: route automatically when confidence >= %s. Out of fold this kept %.1f%% of rows "
                     "at precision %.3f (target %.2f); the other %.1f%% go to a person.\n"
-                    "Use it with: vecsift predict --review-below %.3f\n",
-                cut.threshold, 100 * cut.coverage, cut.precision, s->target, 100 * (1 - cut.coverage),
-                cut.threshold);
+                    "Use it with: vecsift predict --review-below %s\n",
+                cut.advice, 100 * cut.coverage, cut.precision, s->target, 100 * (1 - cut.coverage), cut.advice);
     else
         fprintf(fp, "\nCut-off: no confidence cut-off reaches precision %.2f on these rows; every ticket needs a "
                     "person, or more labelled examples.\n",
@@ -271,6 +292,7 @@ cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const str
         cJSON_AddItemToObject(th, "cutoff", jsonv_number_new(cut.threshold));
         cJSON_AddItemToObject(th, "precision", jsonv_number_new(cut.precision));
         cJSON_AddItemToObject(th, "coverage", jsonv_number_new(cut.coverage));
+        cJSON_AddItemToObject(th, "review_below", cJSON_CreateRaw(cut.advice));
     } else {
         cJSON_AddNullToObject(th, "cutoff");
     }
@@ -310,10 +332,17 @@ cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const str
     if (sp->clf == CLF_SVM_RBF)
         cJSON_AddItemToObject(st, "gamma", sp->gamma > 0 ? jsonv_number_new(sp->gamma) : cJSON_CreateString("default"));
     cJSON_AddStringToObject(st, "class_weight", sp->balanced ? "balanced" : "none");
+    if (sp->clf == CLF_LOGREG)
+        cJSON_AddNumberToObject(st, "max_iter", sp->max_iter);
     cJSON_AddNumberToObject(st, "folds", s->cp->folds);
     cJSON_AddNumberToObject(st, "repeats", (double)s->cp->repeats);
     cJSON_AddNumberToObject(st, "seed", (double)s->cp->seed);
     cJSON_AddBoolToObject(st, "search", s->cp->search);
+    if (s->cp->search)
+        cJSON_AddNumberToObject(st, "inner_folds", s->cp->inner_folds);
+    static const char *const enc[] = { "utf-8", "windows-1252", "latin-1" };
+    cJSON_AddStringToObject(st, "encoding", enc[s->da->csv.encoding]);
+    cJSON_AddBoolToObject(st, "replace_invalid", s->da->csv.replace_invalid);
     cJSON_AddBoolToObject(st, "keep_accents", s->da->text.keep_accents);
     cJSON_AddBoolToObject(st, "mask_email", s->da->text.mask_email);
     cJSON_AddBoolToObject(st, "mask_number", s->da->text.mask_number);
@@ -321,6 +350,7 @@ cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const str
     if (r->chosen_C) {
         size_t T = r->repeats * (size_t)r->folds;
         cJSON_AddItemToObject(root, "chosen_C", jsonv_doubles_new(r->chosen_C, T));
+        cJSON_AddItemToObject(root, "chosen_inner_macro_f1", jsonv_doubles_new(r->chosen_score, T));
         if (r->chosen_gamma)
             cJSON_AddItemToObject(root, "chosen_gamma_factor", jsonv_doubles_new(r->chosen_gamma, T));
     }

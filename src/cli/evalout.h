@@ -26,6 +26,9 @@ struct eval_setup {
 struct eval_cut {
     int reachable;
     double threshold, precision, coverage;
+    char advice[40];        /* the shortest decimal that keeps exactly the same
+                             * out-of-fold rows as 'threshold': the value to
+                             * pass to predict --review-below */
 };
 
 /* The smallest confidence cut-off whose pooled out-of-fold precision

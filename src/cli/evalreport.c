@@ -36,17 +36,45 @@ int evalout_html(const char *path, const struct cv_result *r, const struct corpu
     /* Summary table */
     struct eval_cut cut;
     evalout_cut(r, s->target, &cut);
-    char p1[64], p2[64], p3[64], p4[64];
+    char p1[64], p2[64], p3[64], p4[64], p5[64];
     report_fmt_mean_sd(p1, sizeof p1, r->pooled.accuracy, r->spread.accuracy.sd, 3);
     report_fmt_mean_sd(p2, sizeof p2, r->pooled.macro_f1, r->spread.macro_f1.sd, 3);
     report_fmt_mean_sd(p3, sizeof p3, r->pooled.weighted_f1, r->spread.weighted_f1.sd, 3);
     report_fmt_mean_sd(p4, sizeof p4, r->pooled.log_loss, r->spread.log_loss.sd, 3);
-    char para[2048];
-    snprintf(para, sizeof para,
-             "%s. Accuracy %s, macro F1 %s, weighted F1 %s, log loss %s. Figures are pooled over all out-of-fold "
-             "predictions; \xC2\xB1 is the standard deviation over the %zu folds. %s.",
-             what, p1, p2, p3, p4, T, METRICS_ZERO_DIVISION_RULE);
+    report_fmt_mean_sd(p5, sizeof p5, r->pooled.brier, r->spread.brier.sd, 3);
+    char para[2048], cval[64];
+    if (r->chosen_C)
+        snprintf(cval, sizeof cval, "C chosen in each fold");
+    else
+        snprintf(cval, sizeof cval, "C %g", s->fa->spec.C);
+    snprintf(para, sizeof para, "%s, %s, class weight %s.", what, cval, s->fa->spec.balanced ? "balanced" : "none");
     report_html_section(fp, "Summary", para);
+    /* the overall figures as a small table, so they stand out */
+    const char *sum_hdr[] = { "overall", "pooled \xC2\xB1 sd over folds" };
+    const char *sum_cells[] = { "accuracy", p1, "macro F1", p2, "weighted F1", p3, "log loss", p4, "Brier", p5 };
+    static const int sum_numeric[] = { 0, 1 };
+    report_html_table(fp, sum_hdr, 2, sum_cells, 5, sum_numeric);
+    snprintf(para, sizeof para,
+             "Figures are pooled over all out-of-fold predictions; \xC2\xB1 is the standard deviation over the "
+             "%zu folds. %s.",
+             T, METRICS_ZERO_DIVISION_RULE);
+    report_html_paragraph(fp, para);
+    if (r->chosen_C) {
+        /* what the nested search chose, fold by fold */
+        size_t len = (size_t)snprintf(para, sizeof para, "The parameter search chose, fold by fold: C =");
+        for (size_t t = 0; t < T && len < sizeof para; t++)
+            len += (size_t)snprintf(para + len, sizeof para - len, " %g", r->chosen_C[t]);
+        for (size_t t = 0; r->chosen_gamma && t < T && len < sizeof para; t++)
+            len += (size_t)snprintf(para + len, sizeof para - len, "%s %g", t ? "" : "; gamma factor =",
+                                    r->chosen_gamma[t]);
+        if (len < sizeof para)
+            snprintf(para + len, sizeof para - len, ".");
+        report_html_paragraph(fp, para);
+    }
+    if (r->unconverged) {
+        snprintf(para, sizeof para, "%d of %zu fits stopped at the iteration cap.", r->unconverged, T);
+        report_html_paragraph(fp, para);
+    }
 
     /* Per-label table, worst F1 first */
     const char *hdr[] = { "label", "rows", "precision", "recall", "F1", "most often taken for" };
@@ -103,11 +131,15 @@ int evalout_html(const char *path, const struct cv_result *r, const struct corpu
     /* Confusion heat map */
     double *conf = xcalloc(K * K, sizeof *conf);
     for (size_t i = 0; i < K * K; i++)
-        conf[i] = (double)r->pooled.conf[i] / (double)r->repeats;
-    report_html_section(fp, "Confusion",
-                        "Rows are the given label, columns the predicted one; counts are averaged over repeats "
-                        "and shading is each row's share.");
-    chart_heatmap(fp, "Confusion (true x predicted)", (const char *const *)c->ds.labels,
+        conf[i] = (double)r->pooled.conf[i];
+    /* Whole counts over all repeats (as in the JSON), not averages: thirds
+     * such as 0.333 next to 79.3 were hard to read. */
+    snprintf(para, sizeof para,
+             "Rows are the given label, columns the predicted one. Counts are over all %zu repeats (each row is "
+             "predicted once per repeat, so a label's row sums to %zu times its rows); shading is each row's share.",
+             r->repeats, r->repeats);
+    report_html_section(fp, "Confusion", para);
+    chart_heatmap(fp, "Confusion (given x predicted label)", (const char *const *)c->ds.labels,
                   (const char *const *)c->ds.labels, K, conf, "given label", "predicted label");
 
     /* Precision-coverage curve */
@@ -120,12 +152,12 @@ int evalout_html(const char *path, const struct cv_result *r, const struct corpu
     }
     char mark_label[128];
     struct chart_mark mark = { cut.coverage, cut.precision, mark_label };
-    snprintf(mark_label, sizeof mark_label, "cut-off %.3f", cut.threshold);
+    snprintf(mark_label, sizeof mark_label, "cut-off %s", cut.advice);
     if (cut.reachable)
         snprintf(para, sizeof para,
-                 "Routing automatically only when the confidence is at least %.3f kept %.1f%% of rows at precision "
-                 "%.3f out of fold (target %.2f); the rest go to a person. Use: vecsift predict --review-below %.3f.",
-                 cut.threshold, 100 * cut.coverage, cut.precision, s->target, cut.threshold);
+                 "Routing automatically only when the confidence is at least %s kept %.1f%% of rows at precision "
+                 "%.3f out of fold (target %.2f); the rest go to a person. Use: vecsift predict --review-below %s.",
+                 cut.advice, 100 * cut.coverage, cut.precision, s->target, cut.advice);
     else
         snprintf(para, sizeof para, "No confidence cut-off reaches precision %.2f on these rows.", s->target);
     report_html_section(fp, "Confidence cut-off", para);

@@ -28,10 +28,15 @@ struct cmd_entry {
 };
 
 static const struct cmd_entry cmds[] = {
+    { &cmd_audit_info, cmd_audit },
+    { &cmd_compare_info, cmd_compare },
+    { &cmd_curve_info, cmd_curve },
     { &cmd_demo_info, cmd_demo },
     { &cmd_evaluate_info, cmd_evaluate },
     { &cmd_features_info, cmd_features },
+    { &cmd_map_info, cmd_map },
     { &cmd_predict_info, cmd_predict },
+    { &cmd_suggest_info, cmd_suggest },
     { &cmd_train_info, cmd_train },
     { &cmd_vectors_info, cmd_vectors },
     { NULL, NULL }

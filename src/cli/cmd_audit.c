@@ -1,0 +1,240 @@
+/* cmd_audit.c -- `vecsift audit`: the labelled rows whose given label looks
+ * wrong.
+ *
+ * Every row is scored by pipelines that never saw it (cross-validation, as
+ * in evaluate); with --repeats the out-of-fold probabilities are averaged
+ * over the repeats.  Those probabilities go to the confident-learning audit
+ * of labelcheck.h (Northcutt, Jiang and Chuang 2021).  The command only
+ * points at rows; it never changes the data.
+ */
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "commands.h"
+#include "common.h"
+#include "excerpt.h"
+#include "vecsift/cv.h"
+#include "vecsift/err.h"
+#include "vecsift/labelcheck.h"
+#include "vecsift/ofile.h"
+#include "vecsift/vecset.h"
+#include "vecsift/vocab.h"
+#include "vecsift/xalloc.h"
+
+static const struct cli_opt opts[] = {
+    { "output", 'o', "<file>", "where to write the suspect rows as CSV (default: - for stdout)" },
+    { "excerpt", 0, "<n>", "bytes of text kept in the excerpt column (default: 160)" },
+    PIPELINE_OPTIONS,
+    { "folds", 'k', "<n>", "folds, >= 2 (default: 5)" },
+    { "repeats", 'R', "<n>", "repeats with fresh shuffles; probabilities are averaged (default: 1)" },
+    { "group-col", 'g', "<name>", "keep rows sharing this column's value (a customer, a thread) in one fold" },
+    DATA_OPTIONS,
+    RUN_OPTIONS,
+    { NULL, 0, NULL, NULL }
+};
+
+const struct cli_cmd cmd_audit_info = {
+    "audit", "[options] DATA.csv [-o SUSPECTS.csv]",
+    "list the labelled rows whose label looks wrong, most suspect first",
+    opts,
+    "Each row is scored out of fold: by pipelines fitted without it.  A row is\n"
+    "a suspect when another label is confidently more likely than its own\n"
+    "(confident learning: Northcutt, Jiang and Chuang 2021).  Output columns:\n"
+    "row (1-based data row), given, suggested, score (probability of the\n"
+    "suggested label minus that of the given one), excerpt, p_given,\n"
+    "p_suggested.  A suspect is a row to look at, not a proven mistake: some\n"
+    "are texts that really belong to two queues.  A summary goes to stderr."
+};
+
+struct audit_args {
+    struct data_args da;
+    struct fit_args fa;
+    struct cv_params cp;
+    const char *out;
+    long excerpt;
+};
+
+static int parse(int argc, char **argv, struct audit_args *a, const char **data)
+{
+    const struct cli_cmd *cmd = &cmd_audit_info;
+    struct cli_parser p;
+    cli_parser_init(&p, cmd, argc, argv);
+    int i;
+    long v;
+    const char *val;
+    while ((i = cli_next(&p, &val)) >= 0) {
+        const char *name = opt_name(cmd, i);
+        int t = data_args_option(&a->da, cmd, name, val);
+        if (t == 0)
+            t = fit_args_option(&a->fa, cmd, name, val);
+        if (t < 0)
+            break;
+        if (t > 0)
+            continue;
+        if (strcmp(name, "output") == 0) {
+            a->out = val;
+        } else if (strcmp(name, "excerpt") == 0) {
+            if (cli_long(cmd, name, val, 8, 100000, &a->excerpt) < 0)
+                break;
+        } else if (strcmp(name, "folds") == 0) {
+            if (cli_long(cmd, name, val, 2, 1000, &v) < 0)
+                break;
+            a->cp.folds = (int)v;
+        } else if (strcmp(name, "repeats") == 0) {
+            if (cli_long(cmd, name, val, 1, 1000, &v) < 0)
+                break;
+            a->cp.repeats = (size_t)v;
+        }
+    }
+    int rc = i == CLI_HELP ? -1 : i != CLI_END ? ERR_INPUT : 0;
+    if (rc == 0 && p.npos != 1)
+        rc = cli_usage(cmd, "audit takes one data file");
+    if (rc == 0)
+        *data = p.pos[0];
+    cli_parser_release(&p);
+    return rc;
+}
+
+/* Mean over the R repeats of the (R, N, K) out-of-fold probabilities. */
+static double *mean_proba(const struct cv_result *r)
+{
+    size_t NK = xmul(r->n, r->k);
+    double *P = xcalloc(NK ? NK : 1, sizeof *P);
+    for (size_t q = 0; q < r->repeats; q++)
+        for (size_t i = 0; i < NK; i++)
+            P[i] += r->proba[q * NK + i];
+    for (size_t i = 0; i < NK; i++)
+        P[i] /= (double)r->repeats;
+    return P;
+}
+
+static void cell(FILE *fp, const char *s)
+{
+    fputc(',', fp);
+    csv_put(fp, s, strlen(s), 1);
+}
+
+static int write_suspects(const char *out, const struct labelcheck_result *lr, const struct corpus *c,
+                          const double *P, size_t excerpt, struct err *e)
+{
+    ofile *o = ofile_open(out, e);
+    if (!o)
+        return -1;
+    FILE *fp = ofile_fp(o);
+    size_t K = c->ds.nlabels;
+    fputs("row,given,suggested,score,excerpt,p_given,p_suggested\r\n", fp);
+    for (size_t s = 0; s < lr->n_suspects; s++) {
+        const struct labelcheck_suspect *x = &lr->suspect[s];
+        fprintf(fp, "%zu", x->row + 1);
+        cell(fp, c->ds.labels[x->given]);
+        cell(fp, c->ds.labels[x->suggested]);
+        fprintf(fp, ",%.4f", x->score);
+        char *ex = excerpt_new(c->ds.text[x->row], excerpt);
+        cell(fp, ex);
+        free(ex);
+        fprintf(fp, ",%.4f,%.4f\r\n", P[x->row * K + (size_t)x->given], P[x->row * K + (size_t)x->suggested]);
+    }
+    return ofile_commit(o, e);
+}
+
+/* Suspects per given label, and the most common given -> suggested pair. */
+static void summary(const struct labelcheck_result *lr, const struct corpus *c, size_t folds, size_t repeats)
+{
+    size_t K = c->ds.nlabels, N = c->ds.n;
+    size_t *per = xcalloc(K, sizeof *per), *rows = xcalloc(K, sizeof *rows);
+    for (size_t i = 0; i < N; i++)
+        rows[c->ds.y[i]]++;
+    for (size_t s = 0; s < lr->n_suspects; s++)
+        per[lr->suspect[s].given]++;
+    cli_note("%zu of %zu rows (%.1f%%) have a label that looks wrong (%zu folds x %zu repeat%s, out of fold)",
+             lr->n_suspects, N, N ? 100.0 * (double)lr->n_suspects / (double)N : 0.0, folds, repeats,
+             repeats == 1 ? "" : "s");
+    cli_note("%-20s %6s %8s  %s", "given label", "rows", "suspect", "most often suggested instead");
+    for (size_t k = 0; k < K; k++) {
+        size_t best = K, bestn = 0;
+        for (size_t j = 0; j < K; j++)
+            if (j != k && lr->joint[k * K + j] > bestn)
+                bestn = lr->joint[k * K + j], best = j;
+        char more[128] = "";
+        if (best < K)
+            snprintf(more, sizeof more, "%.80s (%zu)", c->ds.labels[best], bestn);
+        cli_note("%-20.20s %6zu %8zu  %s", c->ds.labels[k], rows[k], per[k], more);
+    }
+    cli_note("a suspect is a row to check by hand, not a proven mistake: some texts fit two labels");
+    free(per);
+    free(rows);
+}
+
+int cmd_audit(int argc, char **argv)
+{
+    struct audit_args a;
+    memset(&a, 0, sizeof a);
+    data_args_init(&a.da);
+    fit_args_init(&a.fa);
+    struct cv_params cp0 = CV_PARAMS_INIT;
+    a.cp = cp0;
+    a.cp.repeats = 1;
+    a.out = "-";
+    a.excerpt = 160;
+    const char *data = NULL;
+    int rc = parse(argc, argv, &a, &data);
+    if (rc != 0)
+        return rc < 0 ? ERR_OK : rc;
+    a.cp.seed = a.da.seed;
+    a.cp.threads = a.da.threads;
+    a.fa.spec.seed = a.da.seed;
+
+    struct err e = ERR_INIT;
+    struct corpus c;
+    memset(&c, 0, sizeof c);
+    struct vecset *vs = NULL;
+    struct cv_result r = CV_RESULT_INIT;
+    struct labelcheck_result lr = LABELCHECK_RESULT_INIT;
+    double *P = NULL;
+    int *groups = NULL;
+    const char *ins[] = { data, a.fa.vectors };
+    if (ofile_check_distinct(a.out, ins, 2, &e) < 0)
+        goto fail;
+    struct dataset_options dopt;
+    data_args_dataset(&a.da, 1, &dopt);
+    if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
+        goto fail;
+    if (c.ds.nlabels < 2) {
+        err_set(&e, data, 0, "an audit needs at least 2 labels, the data has %zu", c.ds.nlabels);
+        goto fail;
+    }
+    if (fit_args_open_vectors(&a.fa, &vs, &e) < 0)
+        goto fail;
+    if (c.ds.group) {
+        vocab *gv = vocab_new();
+        groups = xcalloc(c.ds.n, sizeof *groups);
+        for (size_t i = 0; i < c.ds.n; i++)
+            groups[i] = vocab_add(gv, c.ds.group[i]);
+        a.cp.n_groups = (int)vocab_size(gv);
+        vocab_free(gv);
+        a.cp.group = groups;
+    }
+    if (cv_run(&r, &a.fa.spec, &c, vs, &a.cp, &e) < 0)
+        goto fail;
+    if (r.unconverged)
+        cli_warn("%d of %zu fits stopped at the iteration cap; raise --max-iter or lower --C", r.unconverged,
+                 r.repeats * (size_t)r.folds);
+    P = mean_proba(&r);
+    if (labelcheck_run(P, c.ds.y, c.ds.n, (int)c.ds.nlabels, &lr, &e) < 0)
+        goto fail;
+    if (write_suspects(a.out, &lr, &c, P, (size_t)a.excerpt, &e) < 0)
+        goto fail;
+    summary(&lr, &c, (size_t)a.cp.folds, a.cp.repeats);
+    goto done;
+fail:
+    rc = cli_fail(&e);
+done:
+    free(P);
+    free(groups);
+    labelcheck_release(&lr);
+    cv_release(&r);
+    vecset_close(vs);
+    corpus_release(&c);
+    return rc;
+}

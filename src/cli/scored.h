@@ -1,0 +1,35 @@
+/* scored.h -- the rows of a CSV file scored by a saved model, held in
+ * memory with their features: what `suggest` ranks.  Private to src/cli. */
+#ifndef VECSIFT_CLI_SCORED_H
+#define VECSIFT_CLI_SCORED_H
+
+#include <stddef.h>
+
+#include "common.h"
+#include "vecsift/fmat.h"
+
+struct err;
+struct model;
+
+struct scored {
+    size_t n, ncols;
+    char **cells;       /* (n, ncols), owned */
+    char **header;      /* (ncols), owned */
+    double *P;          /* (n, K) */
+    int *empty;         /* (n) no token had a vector or column */
+    struct fmat X;      /* (n, D) the model's features */
+    double *norm;       /* (n) Euclidean norms of the rows of X */
+};
+
+/* Read every row of 'path' (text columns from 'da', else the model's),
+ * featurize each with the model's featurizer and score it.  The header may
+ * not hold a column named in 'reserved' (nreserved names): the output adds
+ * them.  Returns 0, or -1 with 'e' set (file:line). */
+int scored_load(struct scored *pl, const char *path, const struct model *m, const struct data_args *da,
+                const char *const *reserved, size_t nreserved, struct err *e);
+void scored_release(struct scored *pl);
+
+/* Row i of X dotted with row j (dense, or sparse with ascending columns). */
+double scored_dot(const struct fmat *X, size_t i, size_t j);
+
+#endif

@@ -1,0 +1,200 @@
+#!/usr/bin/python3
+"""bench_compare.py -- on-demand benchmark (not part of meson test): the
+wall time of `vecsift compare` over a grid of 3 vector sets x 3 poolings
+(mean, tfidf, sif) x 2 classifiers (logreg, svm-rbf), plus the bag-of-words
+baseline with both classifiers (20 set-ups, 5 folds x 3 repeats), against
+the same grid built with scikit-learn (Debian's python3-sklearn), both
+measured in this run, printed as a ratio.  Goal: vecsift at least 10x faster.
+
+Data: the invented demo inbox (datasets/inbox/labelled.csv, 404 rows, 7
+queues).  Vector sets (svdvec.py): PPMI-SVD of the unlabelled tickets with
+50 and 100 dimensions, and random numbers with 50.
+
+Same folds: scikit-learn uses vecsift's fold assignment, read from
+`evaluate --predictions` with the same seed (not timed).  The reference
+pipeline follows features.h: pooled vectors (mean; tf-idf weighted with
+smoothed idf from the training rows; SIF weights a/(a + p(w)) with a = 1e-3
+and the first singular vector of the training rows removed), standardised,
+then LogisticRegression(C=1, lbfgs) or SVC(rbf, C=1, gamma='scale',
+probability=True); bag of words: TfidfVectorizer(ngram_range=(1, 2)), which
+is what our bow does.  Tokens: lower-cased runs of letters and digits (a
+simplification of our tokeniser).  Scores are printed side by side as a
+sanity check; they need not be equal (tokenisers and solvers differ).
+
+usage: BUILDDIR=build /usr/bin/python3 tests/bench/bench_compare.py
+"""
+import csv
+import json
+import os
+import subprocess
+import sys
+import tempfile
+import time
+
+import numpy as np
+from scipy import sparse
+from sklearn.decomposition import TruncatedSVD
+from sklearn.feature_extraction.text import CountVectorizer, TfidfVectorizer
+from sklearn.linear_model import LogisticRegression
+from sklearn.metrics import f1_score
+from sklearn.preprocessing import StandardScaler
+from sklearn.svm import SVC
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "ext"))
+import svdvec  # noqa: E402
+
+VECSIFT = os.path.join(os.environ.get("BUILDDIR", "build"), "vecsift")
+DATA = "datasets/inbox/labelled.csv"
+COLS = ["--text-col", "subject", "--text-col", "body", "--label-col", "queue"]
+FOLDS, REPEATS, SEED = 5, 3, 1
+
+
+def load_text_vectors(path):
+    with open(path, encoding="utf-8") as f:
+        f.readline()
+        words, rows = [], []
+        for line in f:
+            p = line.rstrip("\n").split(" ")
+            words.append(p[0])
+            rows.append([float(x) for x in p[1:]])
+    return words, np.array(rows)
+
+
+def pooled(C, E, has, pool, tr):
+    """C: (N, V) counts; E: (V, D) vectors (0 where none); has: (V,) 0/1."""
+    if pool == "mean":
+        W = C
+    elif pool == "tfidf":
+        df = np.asarray((C[tr] > 0).sum(axis=0)).ravel()
+        idf = np.log((1 + len(tr)) / (1 + df)) + 1
+        W = C @ sparse.diags(idf)
+    else:  # sif
+        tot = np.asarray(C[tr].sum(axis=0)).ravel()
+        p = tot / tot.sum()
+        W = C @ sparse.diags(1e-3 / (1e-3 + p))
+    n = np.asarray((C if pool == "sif" else W) @ has).ravel()
+    X = (W @ E) / np.maximum(n, 1e-300)[:, None]
+    X[n == 0] = 0
+    if pool == "sif":
+        u = TruncatedSVD(1, algorithm="arpack").fit(X[tr]).components_[0]
+        X = X - np.outer(X @ u, u)
+    return X
+
+
+def sklearn_grid(texts, y, folds, vec_paths):
+    """Returns {(vectors, pool, classifier): mean per-fold macro F1} and the
+    seconds spent fitting and scoring per classifier."""
+    out = {}
+    spent = {"logreg": 0.0, "svm-rbf": 0.0}
+    counts = CountVectorizer(tokenizer=svdvec.tokens, lowercase=False, token_pattern=None)
+    C = counts.fit_transform(texts).tocsr().astype(np.float64)
+    vocab = counts.get_feature_names_out()
+    setups = [(None, "bow")]
+    mats = {}
+    for vp in vec_paths:
+        words, V = load_text_vectors(vp)
+        idx = {w: i for i, w in enumerate(words)}
+        E = np.zeros((len(vocab), V.shape[1]))
+        has = np.zeros(len(vocab))
+        for j, w in enumerate(vocab):
+            if w in idx:
+                E[j] = V[idx[w]]
+                has[j] = 1
+        mats[vp] = (E, has)
+        setups += [(vp, p) for p in ("mean", "tfidf", "sif")]
+    for vp, pool in setups:
+        for clf in ("logreg", "svm-rbf"):
+            t0 = time.perf_counter()
+            scores = []
+            for fold in folds:
+                for f in range(FOLDS):
+                    te = np.flatnonzero(fold == f)
+                    tr = np.flatnonzero(fold != f)
+                    if pool == "bow":
+                        tv = TfidfVectorizer(tokenizer=svdvec.tokens, lowercase=False, token_pattern=None,
+                                             ngram_range=(1, 2))
+                        Xtr = tv.fit_transform([texts[i] for i in tr])
+                        Xte = tv.transform([texts[i] for i in te])
+                    else:
+                        X = pooled(C, *mats[vp], pool, tr)
+                        sc = StandardScaler().fit(X[tr])
+                        Xtr, Xte = sc.transform(X[tr]), sc.transform(X[te])
+                    if clf == "logreg":
+                        m = LogisticRegression(C=1.0, max_iter=1000)
+                    else:
+                        m = SVC(C=1.0, kernel="rbf", gamma="scale", probability=True, random_state=SEED)
+                    m.fit(Xtr, y[tr])
+                    P = m.predict_proba(Xte)
+                    scores.append(f1_score(y[te], m.classes_[P.argmax(axis=1)], average="macro", zero_division=0))
+            out[(vp, pool, clf)] = float(np.mean(scores))
+            spent[clf] += time.perf_counter() - t0
+    return out, spent
+
+
+def main():
+    with tempfile.TemporaryDirectory() as tmp:
+        texts_u = svdvec.texts_from_csv("datasets/inbox/unlabelled.csv", ["subject", "body"])
+        vocab, v100 = svdvec.ppmi_svd(texts_u, dim=100)
+        sets = [("svd50", v100[:, :50]), ("svd100", v100), ("random50", svdvec.random_like(vocab, 50, 9))]
+        paths = []
+        for name, v in sets:
+            txt = os.path.join(tmp, name + ".txt")
+            svdvec.write_text(txt, vocab, v)
+            paths.append(txt)
+            subprocess.run([VECSIFT, "vectors", "pack", txt, "-o", os.path.join(tmp, name + ".vecs"), "-q"],
+                           check=True)
+        # our fold assignment, exported once (not timed)
+        oof = os.path.join(tmp, "oof.csv")
+        subprocess.run([VECSIFT, "evaluate", DATA, *COLS, "--pool", "bow", "--folds", str(FOLDS), "--repeats",
+                        str(REPEATS), "--seed", str(SEED), "--predictions", oof, "-q"], check=True,
+                       stdout=subprocess.DEVNULL)
+        with open(DATA, newline="", encoding="utf-8") as f:
+            n = sum(1 for _ in csv.DictReader(f))
+        folds = [np.zeros(n, dtype=int) for _ in range(REPEATS)]
+        with open(oof, newline="") as f:
+            for row in csv.DictReader(f):
+                folds[int(row["repeat"]) - 1][int(row["row"]) - 1] = int(row["fold"]) - 1
+
+        ours = {}
+        for threads in (1, 2):
+            js = os.path.join(tmp, f"c{threads}.json")
+            t0 = time.perf_counter()
+            subprocess.run([VECSIFT, "compare", DATA, *COLS, *sum((["--vectors", os.path.join(tmp, nm + ".vecs")]
+                                                                   for nm, _ in sets), []),
+                            "--pool", "mean,tfidf,sif", "--classifier", "logreg,svm-rbf", "--folds", str(FOLDS),
+                            "--repeats", str(REPEATS), "--seed", str(SEED), "--threads", str(threads), "--json", js,
+                            "-q"], check=True, stdout=subprocess.DEVNULL)
+            ours[threads] = time.perf_counter() - t0
+        res = json.load(open(os.path.join(tmp, "c1.json")))["results"]
+
+        t0 = time.perf_counter()
+        with open(DATA, newline="", encoding="utf-8") as f:
+            rows = list(csv.DictReader(f))
+        texts = [r["subject"] + " " + r["body"] for r in rows]
+        y = np.array([r["queue"] for r in rows])
+        ref, spent = sklearn_grid(texts, y, folds, paths)
+        theirs = time.perf_counter() - t0
+
+    name = {os.path.join(tmp, nm + ".vecs"): nm for nm, _ in sets}
+    tname = {p: nm for (nm, _), p in zip(sets, paths)}
+    print(f"grid: {len(res)} set-ups x {FOLDS * REPEATS} folds (same folds) on {DATA}, {n} rows\n")
+    print(f"{'vectors':10} {'pool':6} {'classifier':10} {'vecsift F1':>10} {'sklearn F1':>10}")
+    for r in res:
+        v = name.get(r["vectors"], "-")
+        key = (next((p for p, nm in tname.items() if nm == v), None), r["pool"], r["classifier"])
+        print(f"{v:10} {r['pool']:6} {r['classifier']:10} {r['macro_f1']['mean']:10.3f} {ref[key]:10.3f}")
+    print(f"\n{'run':34} {'seconds':>8} {'ratio':>7}")
+    print(f"{'scikit-learn ' + __import__('sklearn').__version__ + ' (one process)':34} {theirs:8.2f} {1:7.1f}")
+    for t in (1, 2):
+        print(f"{'vecsift compare --threads %d' % t:34} {ours[t]:8.2f} {theirs / ours[t]:7.1f}x")
+    print("\nper classifier (sum of per-set-up seconds; vecsift: --threads 1 run's JSON, which includes")
+    print("pooling; scikit-learn: pooling, fitting and scoring inside that classifier's loops):")
+    for clf in ("logreg", "svm-rbf"):
+        o = sum(r["seconds"] for r in res if r["classifier"] == clf)
+        print(f"  {clf:8} vecsift {o:7.2f} s   scikit-learn {spent[clf]:7.2f} s   ratio {spent[clf] / o:5.1f}x")
+    print(f"\ngoal: vecsift >= 10x faster; {'met' if theirs / ours[1] >= 10 else 'NOT met'} on one thread, "
+          f"{'met' if theirs / ours[2] >= 10 else 'NOT met'} on two")
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,336 @@
+/* test_features.c -- pooling, sparse tf-idf, scaling, counts, persistence.
+ * The comparison with scikit-learn's TfidfVectorizer and StandardScaler on
+ * open data lives in tests/ext/features_vs_sklearn.py. */
+#include <criterion/criterion.h>
+#include <math.h>
+#include <string.h>
+
+#include "fixtures.h"
+#include "vecsift/features.h"
+#include "vecsift/fmat.h"
+
+/* Four words with 3-d vectors; "hen" and "owl" have none. */
+static const char *const WORDS[] = { "cat", "sat", "ran", "dog" };
+static const float VECS[] = { 1, 0, 2, /* cat */
+                              3, 0, 4, /* sat */
+                              5, 0, 0, /* ran */
+                              10, 1, 1 /* dog */ };
+
+static vecset *four_words(void)
+{
+    return fx_vectors(fx_tmpdir(), "v.vecs", WORDS, VECS, 4, 3);
+}
+
+static featurizer *fit(enum features_pool pool, int scale, const struct tokdocs *d, const size_t *rows, size_t n,
+                       const vecset *vs)
+{
+    struct features_params p = FEATURES_PARAMS_INIT;
+    p.pool = pool;
+    p.scale = scale;
+    struct err e = ERR_INIT;
+    featurizer *f = features_fit(&p, d, rows, n, vs, &e);
+    cr_assert_not_null(f, "%s", e.msg);
+    return f;
+}
+
+/* Value of term 'name' in sparse row i (0 when absent). */
+static double bow_value(const featurizer *f, const struct fmat *X, size_t i, const char *name)
+{
+    for (size_t q = X->rowptr[i]; q < X->rowptr[i + 1]; q++)
+        if (strcmp(features_term(f, X->col[q]), name) == 0)
+            return X->val[q];
+    return 0;
+}
+
+/* Worked by hand with the smoothed idf of features.h (Manning, Raghavan and
+ * Schuetze 2008, ch. 6.2; the form scikit-learn uses), N = 3 documents:
+ *   d1 "cat sat", d2 "cat ran", d3 "cat cat sat"
+ *   df: cat 3, sat 2, ran 1
+ *   idf(cat) = ln(4/4) + 1 = 1
+ *   idf(sat) = ln(4/3) + 1 = 1.2876820724517809
+ *   idf(ran) = ln(4/2) + 1 = 1.6931471805599454
+ *   d1: (cat 1, sat 1.28768207), length sqrt(1 + 1.65812512) = 1.63037576
+ *       -> cat 0.61335553702497170, sat 0.78980692906609051
+ *   d2: (cat 1, ran 1.69314718), length 1.96640468
+ *       -> cat 0.50854232037832670, ran 0.86103699594397642
+ *   d3: (cat 2, sat 1.28768207), length 2.37868138
+ *       -> cat 0.84080197317211114, sat 0.54134281366790538 */
+Test(features, bow_three_documents_worked_by_hand)
+{
+    static const char *const texts[] = { "cat sat", "cat ran", "cat cat sat" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 3);
+    size_t rows[] = { 0, 1, 2 };
+    struct features_params p = FEATURES_PARAMS_INIT;
+    p.pool = POOL_BOW;
+    p.bigrams = 0;
+    struct err e = ERR_INIT;
+    featurizer *f = features_fit(&p, &d, rows, 3, NULL, &e);
+    cr_assert_not_null(f, "%s", e.msg);
+    cr_assert_eq(features_dim(f), 3);
+    cr_assert(features_sparse(f));
+    struct fmat X = FMAT_INIT;
+    features_transform(f, &d, rows, 3, &X, NULL);
+    static const struct {
+        size_t row;
+        const char *term;
+        double want;
+    } cells[] = {
+        { 0, "cat", 0.61335553702497170 }, { 0, "sat", 0.78980692906609051 }, { 0, "ran", 0 },
+        { 1, "cat", 0.50854232037832670 }, { 1, "ran", 0.86103699594397642 }, { 1, "sat", 0 },
+        { 2, "cat", 0.84080197317211114 }, { 2, "sat", 0.54134281366790538 }, { 2, "ran", 0 },
+    };
+    for (size_t c = 0; c < sizeof cells / sizeof cells[0]; c++)
+        cr_assert_float_eq(bow_value(f, &X, cells[c].row, cells[c].term), cells[c].want, 1e-15, "row %zu term %s",
+                           cells[c].row, cells[c].term);
+    fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+}
+
+Test(features, mean_of_two_words_is_their_average)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 2);
+    size_t rows[] = { 0, 1 };
+    featurizer *f = fit(POOL_MEAN, 0, &d, rows, 2, vs);
+    const char *toks[] = { "sat", "cat" };
+    struct fmat X = FMAT_INIT;
+    features_alloc(f, 1, &X);
+    features_transform_tokens(f, toks, 2, &X, 0, NULL);
+    for (size_t q = 0; q < 3; q++)
+        cr_assert_float_eq(X.x[q], ((double)VECS[q] + VECS[3 + q]) / 2, 1e-15, "dim %zu", q);
+    fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* Arora, Liang and Ma (2017): after removing the first component u, every
+ * pooled row is orthogonal to u, training rows and new rows alike. */
+Test(features, sif_rows_are_orthogonal_to_the_removed_component)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog dog", "cat ran", "sat sat dog", "dog" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 5);
+    size_t rows[] = { 0, 1, 2, 3, 4 };
+    featurizer *f = fit(POOL_SIF, 0, &d, rows, 5, vs);
+    const double *u = features_sif_component(f);
+    cr_assert_not_null(u);
+    double len = 0;
+    for (size_t q = 0; q < 3; q++)
+        len += u[q] * u[q];
+    cr_assert_float_eq(len, 1.0, 1e-12);
+    struct fmat X = FMAT_INIT;
+    features_transform(f, &d, rows, 5, &X, NULL);
+    for (size_t i = 0; i < 5; i++) {
+        double dot = 0, nrm = 0;
+        for (size_t q = 0; q < 3; q++) {
+            dot += u[q] * X.x[i * 3 + q];
+            nrm += X.x[i * 3 + q] * X.x[i * 3 + q];
+        }
+        cr_assert(fabs(dot) <= 1e-12 * (1 + sqrt(nrm)), "row %zu: u . x = %g", i, dot);
+    }
+    const char *held_out[] = { "cat", "dog", "hen" };
+    features_alloc(f, 1, &X);
+    features_transform_tokens(f, held_out, 3, &X, 0, NULL);
+    double dot = 0;
+    for (size_t q = 0; q < 3; q++)
+        dot += u[q] * X.x[q];
+    cr_assert(fabs(dot) <= 1e-12, "held-out row: u . x = %g", dot);
+    fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* Training rows cat, sat, ran (one word each, so the pooled row is the
+ * vector); the held-out row dog must be scaled with the training mean
+ * (3, 0, 2) and sd (sqrt(8/3), 1 for the constant column, sqrt(8/3)), sd
+ * with divisor N as scikit-learn's StandardScaler: (10-3)/1.6329931618554521
+ * = 4.2866070498705620, (1-0)/1 = 1, (1-2)/1.6329931618554521 = -0.61237243569579447. */
+Test(features, scaler_is_fitted_on_training_rows_only)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat", "sat", "ran", "dog" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 4);
+    size_t train[] = { 0, 1, 2 }, held[] = { 3 };
+    featurizer *f = fit(POOL_MEAN, 1, &d, train, 3, vs);
+    const double *mean, *sd;
+    features_scaler(f, &mean, &sd);
+    cr_assert_not_null(mean);
+    const double want_mean[] = { 3, 0, 2 }, want_sd[] = { 1.6329931618554521, 1, 1.6329931618554521 };
+    for (size_t q = 0; q < 3; q++) {
+        cr_assert_float_eq(mean[q], want_mean[q], 1e-15);
+        cr_assert_float_eq(sd[q], want_sd[q], 1e-15);
+    }
+    struct fmat X = FMAT_INIT;
+    features_transform(f, &d, held, 1, &X, NULL);
+    cr_assert_float_eq(X.x[0], 4.2866070498705620, 1e-14);
+    cr_assert_float_eq(X.x[1], 1.0, 1e-15);
+    cr_assert_float_eq(X.x[2], -0.61237243569579447, 1e-15);
+    fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+Test(features, tokens_without_a_vector_are_skipped_and_counted)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 2);
+    size_t rows[] = { 0, 1 };
+    featurizer *f = fit(POOL_MEAN, 0, &d, rows, 2, vs);
+    const char *toks[] = { "hen", "cat", "hen", "sat", "owl" };
+    struct fmat X = FMAT_INIT;
+    features_alloc(f, 1, &X);
+    struct features_stats st = { 0, 0, 0 };
+    features_transform_tokens(f, toks, 5, &X, 0, &st);
+    cr_assert_eq(st.tokens, 5);
+    cr_assert_eq(st.with_vector, 2);
+    cr_assert_eq(st.empty_rows, 0);
+    for (size_t q = 0; q < 3; q++)
+        cr_assert_float_eq(X.x[q], ((double)VECS[q] + VECS[3 + q]) / 2, 1e-15);
+    fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+Test(features, a_text_without_known_words_becomes_zero_and_is_counted)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog", "hen owl", "" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 4);
+    size_t rows[] = { 0, 1, 2, 3 };
+    for (int pool = POOL_MEAN; pool <= POOL_SIF; pool++) {
+        featurizer *f = fit((enum features_pool)pool, 0, &d, rows, 4, vs);
+        struct fmat X = FMAT_INIT;
+        struct features_stats st = { 0, 0, 0 };
+        features_transform(f, &d, rows, 4, &X, &st);
+        cr_assert_eq(st.empty_rows, 2, "pool %s", features_pool_name((enum features_pool)pool));
+        cr_assert_eq(st.tokens, 6);
+        cr_assert_eq(st.with_vector, 4);
+        for (size_t i = 2; i < 4; i++)
+            for (size_t q = 0; q < 3; q++)
+                cr_assert_eq(X.x[i * 3 + q], 0.0, "pool %s row %zu", features_pool_name((enum features_pool)pool), i);
+        fmat_release(&X);
+        features_free(f);
+    }
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+Test(features, fit_errors_are_reported)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "hen owl", "" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 2);
+    size_t rows[] = { 0, 1 };
+    struct features_params p = FEATURES_PARAMS_INIT;
+    struct err e = ERR_INIT;
+    cr_assert_null(features_fit(&p, &d, rows, 2, NULL, &e));
+    cr_assert(strstr(e.msg, "needs a vector set"), "%s", e.msg);
+    err_clear(&e);
+    cr_assert_null(features_fit(&p, &d, rows, 2, vs, &e));
+    cr_assert(strstr(e.msg, "no training row has a single word with a vector"), "%s", e.msg);
+    err_clear(&e);
+    cr_assert_null(features_fit(&p, &d, rows, 0, vs, &e));
+    cr_assert(strstr(e.msg, "no training rows"), "%s", e.msg);
+    err_clear(&e);
+    p.pool = POOL_BOW;
+    size_t empty[] = { 1 };
+    cr_assert_null(features_fit(&p, &d, empty, 1, NULL, &e));
+    cr_assert(strstr(e.msg, "no words"), "%s", e.msg);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* Every pooling, saved, printed, parsed and loaded, gives the same numbers
+ * bit for bit, also for a word never seen in training ("dog" below). */
+Test(features, save_and_load_give_identical_features)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat sat", "ran cat hen", "sat ran", "dog owl", "cat dog ran" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 5);
+    size_t train[] = { 0, 1, 2 }, all[] = { 0, 1, 2, 3, 4 };
+    for (int pool = POOL_MEAN; pool <= POOL_BOW; pool++) {
+        for (int sub = 0; sub <= 1; sub++) {
+            struct features_params p = FEATURES_PARAMS_INIT;
+            p.pool = (enum features_pool)pool;
+            p.sublinear_tf = sub;
+            struct err e = ERR_INIT;
+            featurizer *f = features_fit(&p, &d, train, 3, vs, &e);
+            cr_assert_not_null(f, "%s", e.msg);
+            cJSON *obj = cJSON_CreateObject();
+            features_save(f, obj);
+            obj = fx_reparse(obj);
+            struct jsonv_ctx c = { "mem.json", "features", &e };
+            featurizer *g = features_load(&c, obj, vs);
+            cr_assert_not_null(g, "%s", e.msg);
+            cr_assert_eq(features_dim(g), features_dim(f));
+            struct fmat A = FMAT_INIT, B = FMAT_INIT;
+            features_transform(f, &d, all, 5, &A, NULL);
+            features_transform(g, &d, all, 5, &B, NULL);
+            for (size_t i = 0; i < 5; i++) {
+                size_t n = fmat_nnz_row(&A, i);
+                cr_assert_eq(fmat_nnz_row(&B, i), n);
+                cr_assert(memcmp(fmat_row_values(&A, i), fmat_row_values(&B, i), n * sizeof(double)) == 0,
+                          "pool %s sublinear %d row %zu differs", features_pool_name(p.pool), sub, i);
+            }
+            fmat_release(&A);
+            fmat_release(&B);
+            features_free(f);
+            features_free(g);
+            cJSON_Delete(obj);
+        }
+    }
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+Test(features, load_rejects_damaged_fields)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 2);
+    size_t rows[] = { 0, 1 };
+    featurizer *f = fit(POOL_TFIDF, 1, &d, rows, 2, vs);
+    static const struct {
+        const char *key, *json, *says;
+    } cases[] = {
+        { "idf", "[0.5, 1, 1, 1]", "field 'features.idf' entry 0 is below 1" },
+        { "idf", "[1, 1]", "field 'features.idf' has 2 entries, expected 4" },
+        { "scale_sd", "[1, 0, 1]", "field 'features.scale_sd' entry 1 is not positive" },
+        { "scale_mean", "[1, 1e999, 1]", "field 'features.scale_mean' entry 1 is not a finite number" },
+        { "dimensions", "7", "field 'features.dimensions' is 7 but the vector set has 3" },
+        { "pool", "\"max\"", "field 'features.pool' is 'max'" },
+        { "words", "[\"cat\", \"cat\", \"ran\", \"dog\"]", "field 'features.words' repeats 'cat'" },
+        { "sublinear_tf", "1", "field 'features.sublinear_tf' is not true or false" },
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        cJSON *obj = cJSON_CreateObject();
+        features_save(f, obj);
+        cJSON_ReplaceItemInObjectCaseSensitive(obj, cases[k].key, cJSON_Parse(cases[k].json));
+        obj = fx_reparse(obj);
+        struct err e = ERR_INIT;
+        struct jsonv_ctx c = { "m.json", "features", &e };
+        cr_assert_null(features_load(&c, obj, vs), "case %zu loaded", k);
+        cr_assert(strstr(e.msg, cases[k].says), "case %zu: %s", k, e.msg);
+        cr_assert(strncmp(e.msg, "m.json", 6) == 0, "no file name: %s", e.msg);
+        cJSON_Delete(obj);
+    }
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}

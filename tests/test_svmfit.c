@@ -1,0 +1,196 @@
+/* test_svmfit.c -- the libsvm adapter: label order, sign convention,
+ * persistence, validation of damaged model fields, training errors.  The
+ * comparison with scikit-learn's SVC lives in
+ * tests/ext/classifiers_vs_sklearn.py. */
+#include <criterion/criterion.h>
+#include <math.h>
+#include <string.h>
+
+#include "fixtures.h"
+#include "vecsift/fmat.h"
+#include "vecsift/rng.h"
+#include "vecsift/svmfit.h"
+
+/* N rows, D = 4 normal features; label = the largest of three noisy
+ * scores, so the classes overlap a little. */
+static void problem(size_t n, uint64_t seed, struct fmat *X, int *y)
+{
+    struct rng r;
+    rng_seed(&r, seed);
+    fmat_dense(X, n, 4);
+    for (size_t i = 0; i < n; i++) {
+        for (size_t j = 0; j < 4; j++)
+            X->x[i * 4 + j] = rng_normal(&r);
+        double s[3] = { X->x[i * 4] + 0.3 * rng_normal(&r), X->x[i * 4 + 1] + 0.3 * rng_normal(&r),
+                        -X->x[i * 4] - X->x[i * 4 + 1] + 0.3 * rng_normal(&r) };
+        y[i] = s[0] > s[1] ? (s[0] > s[2] ? 0 : 2) : (s[1] > s[2] ? 1 : 2);
+    }
+}
+
+static svmfit_model *train(const struct fmat *X, const int *y, size_t k, enum svmfit_kernel kern)
+{
+    struct svmfit_params p = SVMFIT_PARAMS_INIT;
+    p.kernel = kern;
+    struct err e = ERR_INIT;
+    svmfit_model *m = svmfit_train(X, y, k, &p, NULL, &e);
+    cr_assert_not_null(m, "%s", e.msg);
+    return m;
+}
+
+/* Label 1 comes first in the rows, so libsvm's class slots are (1, 0):
+ * the adapter must still report probabilities and decision values in our
+ * order.  Points below 0 are label 0; a decision value for the pair (0, 1)
+ * is positive for label 0 (svmfit.h). */
+Test(svmfit, label_order_and_sign_follow_our_labels)
+{
+    static const double xs[] = { 2, 3, 1.5, 2.5, 4, -2, -3, -1.5, -2.5, -4 };
+    int y[10] = { 1, 1, 1, 1, 1, 0, 0, 0, 0, 0 };
+    struct fmat X = FMAT_INIT;
+    fmat_dense(&X, 10, 1);
+    memcpy(X.x, xs, sizeof xs);
+    svmfit_model *m = train(&X, y, 2, SVMFIT_LINEAR);
+    for (size_t i = 0; i < 10; i++) {
+        double dec, p[2];
+        svmfit_decision(m, &X, i, &dec);
+        svmfit_proba(m, &X, i, p);
+        cr_assert(y[i] == 0 ? dec > 0 : dec < 0, "row %zu: decision %g", i, dec);
+        cr_assert(p[y[i]] > 0.5, "row %zu: p(own label) = %g", i, p[y[i]]);
+        cr_assert_float_eq(p[0] + p[1], 1.0, 1e-12);
+    }
+    svmfit_free(m);
+    fmat_release(&X);
+}
+
+Test(svmfit, save_and_load_give_identical_outputs)
+{
+    struct fmat X = FMAT_INIT;
+    int y[60];
+    problem(60, 3, &X, y);
+    for (int kern = SVMFIT_LINEAR; kern <= SVMFIT_RBF; kern++) {
+        svmfit_model *m = train(&X, y, 3, (enum svmfit_kernel)kern);
+        cJSON *obj = cJSON_CreateObject();
+        svmfit_save(m, obj);
+        obj = fx_reparse(obj);
+        struct err e = ERR_INIT;
+        struct jsonv_ctx c = { "m.json", "classifier", &e };
+        svmfit_model *g = svmfit_load(&c, obj, 4, 3);
+        cr_assert_not_null(g, "%s", e.msg);
+        cr_assert_eq(svmfit_support_vectors(g), svmfit_support_vectors(m));
+        cr_assert_eq(svmfit_gamma(g), svmfit_gamma(m));
+        for (size_t i = 0; i < 60; i++) {
+            double p1[3], p2[3], d1[3], d2[3];
+            svmfit_proba(m, &X, i, p1);
+            svmfit_proba(g, &X, i, p2);
+            svmfit_decision(m, &X, i, d1);
+            svmfit_decision(g, &X, i, d2);
+            cr_assert(memcmp(p1, p2, sizeof p1) == 0, "kernel %d row %zu: probabilities differ", kern, i);
+            cr_assert(memcmp(d1, d2, sizeof d1) == 0, "kernel %d row %zu: decision values differ", kern, i);
+        }
+        svmfit_free(m);
+        svmfit_free(g);
+        cJSON_Delete(obj);
+    }
+    fmat_release(&X);
+}
+
+/* Replace field 'key' of a saved model by 'json' (or, when 'sv' is set, the
+ * first support vector's "at" array) and expect load to fail saying 'says'. */
+static void expect_rejected(const svmfit_model *m, const char *key, const char *json, int sv, const char *says)
+{
+    cJSON *obj = cJSON_CreateObject();
+    svmfit_save(m, obj);
+    if (sv) {
+        cJSON *first = cJSON_GetArrayItem(cJSON_GetObjectItem(obj, "support_vectors"), 0);
+        cJSON_ReplaceItemInObjectCaseSensitive(first, key, cJSON_Parse(json));
+    } else {
+        cJSON_ReplaceItemInObjectCaseSensitive(obj, key, cJSON_Parse(json));
+    }
+    obj = fx_reparse(obj);
+    struct err e = ERR_INIT;
+    struct jsonv_ctx c = { "m.json", "classifier", &e };
+    svmfit_model *g = svmfit_load(&c, obj, 4, 3);
+    cr_assert_null(g, "%s = %s was accepted", key, json);
+    cr_assert(strstr(e.msg, says), "%s = %s: %s", key, json, e.msg);
+    cr_assert(strncmp(e.msg, "m.json", 6) == 0, "no file name: %s", e.msg);
+    cJSON_Delete(obj);
+}
+
+Test(svmfit, load_rejects_damaged_fields)
+{
+    struct fmat X = FMAT_INIT;
+    int y[60];
+    problem(60, 3, &X, y);
+    svmfit_model *m = train(&X, y, 3, SVMFIT_RBF);
+    expect_rejected(m, "gamma", "-0.5", 0, "field 'classifier.gamma' is -0.5, outside");
+    expect_rejected(m, "gamma", "\"wide\"", 0, "field 'classifier.gamma' is not a number");
+    expect_rejected(m, "kernel", "\"poly\"", 0, "field 'classifier.kernel' is 'poly'");
+    expect_rejected(m, "rho", "[0.1, 0.2]", 0, "field 'classifier.rho' has 2 entries, expected 3");
+    expect_rejected(m, "platt_a", "[0.1, 0.2, 1e999]", 0, "field 'classifier.platt_a' entry 2 is not a finite number");
+    expect_rejected(m, "dual_coef", "[1, 2, 3]", 0, "field 'classifier.dual_coef' has 3 entries");
+    expect_rejected(m, "slot_label", "[0, 0, 1]", 0, "field 'classifier.slot_label' repeats a label");
+    expect_rejected(m, "slot_label", "[0, 1, 3]", 0, "field 'classifier.slot_label' entry 2 is not a whole number in [0, 2]");
+    expect_rejected(m, "slot_label", "[0, 0.5, 2]", 0, "entry 1 is not a whole number");
+    expect_rejected(m, "slot_support", "[1, 1, 1]", 0, "field 'classifier.support_vectors' must be an array of 3 vectors");
+    expect_rejected(m, "slot_support", "[-1, 1, 1]", 0, "field 'classifier.slot_support' entry 0 is not a whole number");
+    expect_rejected(m, "support_vectors", "{}", 0, "field 'classifier.support_vectors' must be an array");
+    expect_rejected(m, "at", "[2, 1, 0, 3]", 1, "has a feature index out of order or outside [0, 4)");
+    expect_rejected(m, "at", "[0, 1, 2, 4]", 1, "has a feature index out of order or outside [0, 4)");
+    expect_rejected(m, "at", "[0, 0, 1, 2]", 1, "has a feature index out of order");
+    expect_rejected(m, "at", "[0, 1]", 1, "field 'classifier.support_vectors[].value' has 4 entries, expected 2");
+    expect_rejected(m, "at", "7", 1, "has an entry without an 'at' array");
+    svmfit_free(m);
+    fmat_release(&X);
+}
+
+Test(svmfit, training_errors_and_tiny_labels)
+{
+    struct fmat X = FMAT_INIT;
+    int y[60];
+    problem(60, 5, &X, y);
+    struct svmfit_params p = SVMFIT_PARAMS_INIT;
+    struct err e = ERR_INIT;
+    cr_assert_null(svmfit_train(&X, y, 1, &p, NULL, &e));
+    cr_assert(strstr(e.msg, "at least two labels"), "%s", e.msg);
+    err_clear(&e);
+    cr_assert_null(svmfit_train(&X, y, 4, &p, NULL, &e)); /* label 3 has no row */
+    cr_assert(strstr(e.msg, "label 3 has no training rows"), "%s", e.msg);
+    err_clear(&e);
+    p.C = -1;
+    cr_assert_null(svmfit_train(&X, y, 3, &p, NULL, &e));
+    cr_assert(strstr(e.msg, "SVM settings rejected"), "%s", e.msg);
+    p.C = 1;
+    /* two rows of label 2 only: flagged as tiny */
+    int yt[60];
+    size_t seen2 = 0;
+    for (size_t i = 0; i < 60; i++)
+        yt[i] = y[i] == 2 && seen2++ >= 2 ? (int)(i % 2) : y[i];
+    int tiny = 0;
+    svmfit_model *m = svmfit_train(&X, yt, 3, &p, &tiny, &e);
+    cr_assert_not_null(m, "%s", e.msg);
+    cr_assert_eq(tiny, 1);
+    svmfit_free(m);
+    m = svmfit_train(&X, y, 3, &p, &tiny, &e);
+    cr_assert_not_null(m, "%s", e.msg);
+    cr_assert_eq(tiny, 0);
+    svmfit_free(m);
+    fmat_release(&X);
+}
+
+/* Same seed, same probabilities: libsvm's Platt step draws from rand(),
+ * which svmfit seeds. */
+Test(svmfit, same_seed_same_probabilities)
+{
+    struct fmat X = FMAT_INIT;
+    int y[60];
+    problem(60, 9, &X, y);
+    svmfit_model *a = train(&X, y, 3, SVMFIT_RBF), *b = train(&X, y, 3, SVMFIT_RBF);
+    for (size_t i = 0; i < 60; i++) {
+        double p1[3], p2[3];
+        svmfit_proba(a, &X, i, p1);
+        svmfit_proba(b, &X, i, p2);
+        cr_assert(memcmp(p1, p2, sizeof p1) == 0, "row %zu", i);
+    }
+    svmfit_free(a);
+    svmfit_free(b);
+    fmat_release(&X);
+}
