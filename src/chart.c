@@ -239,15 +239,17 @@ static void grid(FILE *fp, const struct axis *a, int across, double p0, double p
     }
 }
 
-/* A whisker with end caps, drawn twice (a white halo under dark ink) so it
- * stays visible over a filled bar as well as over the background. */
+/* A whisker with the same end cap at both ends, one dark stroke.  No white
+ * halo: over a filled bar a halo drew a pale box around the cap inside the
+ * bar while the cap outside it had none, so the two ends looked different.
+ * Dark ink keeps at least 3:1 contrast on the first seven palette colours
+ * (lowest: blue, about 3.3:1), the minimum of WCAG 2.1 success criterion
+ * 1.4.11 for graphical objects. */
 static void whisker_h(FILE *fp, double xa, double xb, double y, double cap)
 {
-    static const char *const look[2][2] = { { "#ffffff", "3.2" }, { INK, "1.3" } };
-    for (int k = 0; k < 2; k++)
-        fprintf(fp, "<path d=\"M%.1f %.1fH%.1fM%.1f %.1fV%.1fM%.1f %.1fV%.1f\" stroke=\"%s\" "
-                    "stroke-width=\"%s\" fill=\"none\"/>\n",
-                xa, y, xb, xa, y - cap, y + cap, xb, y - cap, y + cap, look[k][0], look[k][1]);
+    fprintf(fp, "<path d=\"M%.1f %.1fH%.1fM%.1f %.1fV%.1fM%.1f %.1fV%.1f\" stroke=\"" INK "\" "
+                "stroke-width=\"1.3\" fill=\"none\"/>\n",
+            xa, y, xb, xa, y - cap, y + cap, xb, y - cap, y + cap);
 }
 
 static double clamp01(double v)
@@ -258,6 +260,24 @@ static double clamp01(double v)
 /* ---- heat map ---- */
 
 #define HEAT_LABEL_COLS 24
+
+/* One number of decimals for every cell, so a column of counts reads
+ * evenly: none when all counts are whole, else one (two when every count
+ * is below 1, e.g. averages of rare confusions).  NaN cells are skipped. */
+static int heat_decimals(const double *counts, size_t n)
+{
+    int whole = 1;
+    double big = 0;
+    for (size_t i = 0; i < n; i++) {
+        double c = counts[i];
+        if (isnan(c))
+            continue;
+        if (c != floor(c) || !(fabs(c) < 1e15))
+            whole = 0;
+        big = fmax(big, fabs(c));
+    }
+    return whole ? 0 : big < 1 ? 2 : 1;
+}
 
 void chart_heatmap(FILE *fp, const char *title, const char *const *row_labels,
                    const char *const *col_labels, size_t k, const double *counts,
@@ -275,6 +295,8 @@ void chart_heatmap(FILE *fp, const char *title, const char *const *row_labels,
     double h = y0 + gw + 40;
     if (h < y0 + 230)
         h = y0 + 230;
+
+    int decimals = heat_decimals(counts, k * k);
 
     svg_open(fp, w, h, title);
     if (col_axis)
@@ -304,10 +326,8 @@ void chart_heatmap(FILE *fp, const char *title, const char *const *row_labels,
             const char *ink = ramp(share, fill);
             if (isnan(c))
                 snprintf(num, sizeof num, "n/a");
-            else if (c == floor(c) && fabs(c) < 1e9)
-                snprintf(num, sizeof num, "%.0f", c);
             else
-                snprintf(num, sizeof num, "%.3g", c);
+                snprintf(num, sizeof num, "%.*f", decimals, c);
             fputs("<g><title>", fp);
             report_escape(fp, row_labels[i], 0);
             fputs(" \xE2\x86\x92 ", fp);   /* U+2192 rightwards arrow */
@@ -344,18 +364,34 @@ void chart_heatmap(FILE *fp, const char *title, const char *const *row_labels,
 /* ---- grouped bars ---- */
 
 #define BAR_LABEL_COLS 28
+#define BAR_NOTE_COLS 60
 
 void chart_bars(FILE *fp, const char *title, const char *const *labels, size_t n,
                 const struct chart_group *groups, size_t ngroups, const char *value_axis)
+{
+    chart_bars_noted(fp, title, labels, n, groups, ngroups, value_axis,
+                     "whisker: \xC2\xB1 1 sd");
+}
+
+void chart_bars_noted(FILE *fp, const char *title, const char *const *labels, size_t n,
+                      const struct chart_group *groups, size_t ngroups, const char *value_axis,
+                      const char *legend_note)
 {
     double bar = 11, step = bar + 3, band = step * (double)ngroups + 12;
     double x0 = 16 + max_text_px(labels, n, BAR_LABEL_COLS) + 12, pw = 520;
     double x1 = x0 + pw, y0 = 62, y1 = y0 + band * (double)n;
     double w = x1 + 24, h = y1 + 52;
     struct axis a = axis_make(0, 1, 1);
+    /* The legend row may be wider than the plot: widen the chart to fit. */
+    double legend_w = 0;
+    for (size_t g = 0; g < ngroups; g++)
+        legend_w += 17 + text_px(groups[g].name, 24) + 22;
+    if (legend_note && *legend_note)
+        legend_w += 8 + text_px(legend_note, BAR_NOTE_COLS);
+    w = fmax(w, x0 + legend_w + 12);
 
     svg_open(fp, w, h, title);
-    /* Legend row. */
+    /* Legend row: one swatch per group, then what bar and whisker show. */
     double lx = x0;
     for (size_t g = 0; g < ngroups; g++) {
         fprintf(fp, "<rect x=\"%.1f\" y=\"34\" width=\"12\" height=\"12\" fill=\"%s\"/>\n", lx,
@@ -363,8 +399,8 @@ void chart_bars(FILE *fp, const char *title, const char *const *labels, size_t n
         text_at(fp, lx + 17, 44.5, "start", NULL, groups[g].name, 24);
         lx += 17 + text_px(groups[g].name, 24) + 22;
     }
-    fprintf(fp, "<text x=\"%.1f\" y=\"44.5\" fill=\"" MUTED "\">whiskers: mean \xC2\xB1 sd"
-                "</text>\n", lx + 8);
+    if (legend_note && *legend_note)
+        text_at(fp, lx + 8, 44.5, "start", "fill=\"" MUTED "\"", legend_note, BAR_NOTE_COLS);
     for (size_t i = 0; i < n; i += 2)
         fprintf(fp, "<rect x=\"%.1f\" y=\"%.1f\" width=\"%.1f\" height=\"%.1f\" "
                     "fill=\"#f4f6f8\"/>\n", 8.0, y0 + band * (double)i, x1 - 8, band);
@@ -411,9 +447,36 @@ static int point_ok(const double *x, const double *y, size_t i)
     return !isnan(x[i]) && !isnan(y[i]);
 }
 
+/* A y axis zoomed on the data: [lo, hi] plus 5 % of the range on each side
+ * (at least 0.005, so a flat line still gets a band), kept inside [0, 1]
+ * when the data are, then widened to round ticks by axis_make. */
+static struct axis axis_zoom(double lo, double hi)
+{
+    if (!isfinite(lo) || !isfinite(hi))
+        return axis_make(lo, hi, 1);
+    int unit = lo >= 0 && hi <= 1;
+    double pad = fmax(0.05 * (hi - lo), 0.005);
+    lo -= pad;
+    hi += pad;
+    if (unit) {
+        lo = fmax(lo, 0);
+        hi = fmin(hi, 1);
+    }
+    return axis_make(lo, hi, 0);
+}
+
 void chart_curve(FILE *fp, const char *title, const double *x, const double *y, size_t n,
                  const char *x_axis, const char *y_axis, const double *band_lo,
                  const double *band_hi, const struct chart_mark *mark)
+{
+    chart_curve_ranged(fp, title, x, y, n, x_axis, y_axis, band_lo, band_hi, mark,
+                       CHART_Y_UNIT);
+}
+
+void chart_curve_ranged(FILE *fp, const char *title, const double *x, const double *y, size_t n,
+                        const char *x_axis, const char *y_axis, const double *band_lo,
+                        const double *band_hi, const struct chart_mark *mark,
+                        enum chart_yrange yrange)
 {
     double xmin = INFINITY, xmax = -INFINITY, ymin = INFINITY, ymax = -INFINITY;
     for (size_t i = 0; i < n; i++) {
@@ -434,14 +497,30 @@ void chart_curve(FILE *fp, const char *title, const double *x, const double *y, 
         ymin = fmin(ymin, mark->y);
         ymax = fmax(ymax, mark->y);
     }
-    struct axis ax = axis_make(xmin, xmax, 1), ay = axis_make(ymin, ymax, 1);
-    double w = 660, h = 400, x0 = 70, x1 = w - 30, y0 = 40, y1 = h - 60;
+    struct axis ax = axis_make(xmin, xmax, 1);
+    struct axis ay = yrange == CHART_Y_DATA ? axis_zoom(ymin, ymax) : axis_make(ymin, ymax, 1);
+    /* A zoomed axis above 0 exaggerates differences: say so on the axis. */
+    int cut_axis = yrange == CHART_Y_DATA && ay.lo > 1e-12;
+    double w = 660, h = cut_axis ? 418 : 400, x0 = 70, x1 = w - 30, y0 = 40, y1 = 340;
 
     svg_open(fp, w, h, title);
     grid(fp, &ax, 1, x0, x1, y0, y1);
     grid(fp, &ay, 0, y1, y0, x0, x1);
-    fprintf(fp, "<path d=\"M%.1f %.1fV%.1fH%.1f\" stroke=\"" MUTED "\" fill=\"none\"/>\n",
-            x0, y0, y1, x1);
+    if (cut_axis) {
+        /* Axis line with a gap and two slanted strokes at its foot (the
+         * usual mark of a broken axis, common practice), and in words under
+         * the lowest tick label. */
+        fprintf(fp, "<path d=\"M%.1f %.1fV%.1fM%.1f %.1fV%.1fH%.1f\" stroke=\"" MUTED "\" "
+                    "fill=\"none\"/>\n", x0, y0, y1 - 16, x0, y1 - 8, y1, x1);
+        fprintf(fp, "<path d=\"M%.1f %.1fL%.1f %.1fM%.1f %.1fL%.1f %.1f\" stroke=\"" MUTED "\" "
+                    "stroke-width=\"1.3\" fill=\"none\"/>\n", x0 - 5, y1 - 14, x0 + 5, y1 - 18,
+                x0 - 5, y1 - 6, x0 + 5, y1 - 10);
+        fprintf(fp, "<text x=\"8\" y=\"%.1f\" font-size=\"11\" fill=\"" MUTED "\">"
+                    "y axis starts at %.*f, not 0</text>\n", h - 6, ay.decimals, ay.lo);
+    } else {
+        fprintf(fp, "<path d=\"M%.1f %.1fV%.1fH%.1f\" stroke=\"" MUTED "\" fill=\"none\"/>\n",
+                x0, y0, y1, x1);
+    }
     if (band_lo && band_hi) {
         /* Lower edge left to right, then upper edge back. */
         int first = 1;
@@ -483,7 +562,19 @@ void chart_curve(FILE *fp, const char *title, const double *x, const double *y, 
                     ACCENT "\" stroke-width=\"2.5\"/>\n", mx, my);
         if (mark->label) {
             int right = mx < (x0 + x1) / 2;
-            double ty = my - 12 < y0 + 12 ? my + 22 : my - 12;
+            /* Above the point unless the line runs above it where the
+             * label goes (or there is no room above): then below. */
+            double lw = text_px(mark->label, 48), la = right ? mx + 10 : mx - 10 - lw;
+            double sum = 0, cnt = 0;
+            for (size_t i = 0; i < n; i++) {
+                double px = point_ok(x, y, i) ? axis_pos(&ax, x[i], x0, x1) : NAN;
+                if (px >= la && px <= la + lw) {
+                    sum += axis_pos(&ay, y[i], y1, y0);
+                    cnt++;
+                }
+            }
+            int below = my - 12 < y0 + 12 || (cnt > 0 && sum / cnt < my);
+            double ty = below && my + 22 <= y1 - 4 ? my + 22 : my - 12;
             text_at(fp, right ? mx + 10 : mx - 10, ty, right ? "start" : "end",
                     "font-weight=\"600\" fill=\"" ACCENT "\"", mark->label, 48);
         }

@@ -2,6 +2,8 @@
 #include "vecsift/jsonv.h"
 
 #include <cjson/cJSON.h>
+#include <errno.h>
+#include <sys/stat.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdint.h>
@@ -170,6 +172,45 @@ cJSON *jsonv_doubles_new(const double *x, size_t n)
         cJSON_AddItemToArray(a, cJSON_CreateRaw(buf));
     }
     return a;
+}
+
+cJSON *jsonv_load(const char *path, const char *what, size_t max_bytes, struct err *e)
+{
+    FILE *fp = fopen(path, "rb");
+    if (!fp) {
+        err_set(e, path, 0, "cannot open %s: %s", what, strerror(errno));
+        return NULL;
+    }
+    struct stat st;
+    if (fstat(fileno(fp), &st) != 0 || !S_ISREG(st.st_mode)) {
+        fclose(fp);
+        err_set(e, path, 0, "not a regular file");
+        return NULL;
+    }
+    if ((size_t)st.st_size > max_bytes) {
+        fclose(fp);
+        err_set(e, path, 0, "%s file is larger than %zu bytes", what, max_bytes);
+        return NULL;
+    }
+    size_t n = (size_t)st.st_size;
+    char *buf = xmalloc(n + 1);
+    if (fread(buf, 1, n, fp) != n) {
+        fclose(fp);
+        free(buf);
+        err_io(e, path, 0, "read failed");
+        return NULL;
+    }
+    fclose(fp);
+    buf[n] = '\0';
+    cJSON *root = NULL;
+    if (n == 0)
+        err_set(e, path, 0, "empty file, not a %s", what);
+    else if (memchr(buf, '\0', n))
+        err_set(e, path, 0, "not a %s file (contains NUL bytes)", what);
+    else
+        root = jsonv_parse(path, buf, n, e);
+    free(buf);
+    return root;
 }
 
 cJSON *jsonv_parse(const char *file, const char *text, size_t len, struct err *e)

@@ -6,7 +6,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 
 #include "vecsift/err.h"
 #include "vecsift/jsonv.h"
@@ -136,48 +135,6 @@ int model_save(const struct model *m, const char *path, struct err *e)
     return ofile_commit(o, e);
 }
 
-static char *slurp(const char *path, size_t *len, struct err *e)
-{
-    FILE *fp = fopen(path, "rb");
-    if (!fp) {
-        err_set(e, path, 0, "cannot open model: %s", strerror(errno));
-        return NULL;
-    }
-    struct stat st;
-    if (fstat(fileno(fp), &st) != 0 || !S_ISREG(st.st_mode)) {
-        fclose(fp);
-        err_set(e, path, 0, "not a regular file");
-        return NULL;
-    }
-    if ((size_t)st.st_size > MODEL_MAX_BYTES) {
-        fclose(fp);
-        err_set(e, path, 0, "model file is larger than %zu bytes", MODEL_MAX_BYTES);
-        return NULL;
-    }
-    size_t n = (size_t)st.st_size;
-    char *buf = xmalloc(n + 1);
-    if (fread(buf, 1, n, fp) != n) {
-        fclose(fp);
-        free(buf);
-        err_io(e, path, 0, "read failed");
-        return NULL;
-    }
-    fclose(fp);
-    buf[n] = '\0';
-    if (n == 0) {
-        free(buf);
-        err_set(e, path, 0, "empty file, not a model");
-        return NULL;
-    }
-    if (memchr(buf, '\0', n)) {
-        free(buf);
-        err_set(e, path, 0, "not a model file (contains NUL bytes)");
-        return NULL;
-    }
-    *len = n;
-    return buf;
-}
-
 static int get_bool(const struct jsonv_ctx *c, const cJSON *obj, const char *key, int *out)
 {
     const cJSON *v = jsonv_get(c, obj, key);
@@ -194,12 +151,7 @@ int model_load(struct model *m, const char *path, const char *vectors, vecset **
     memset(m, 0, sizeof *m);
     m->review_below = -1;
     *vs = NULL;
-    size_t len;
-    char *text = slurp(path, &len, e);
-    if (!text)
-        return -1;
-    cJSON *root = jsonv_parse(path, text, len, e);
-    free(text);
+    cJSON *root = jsonv_load(path, "model", MODEL_MAX_BYTES, e);
     if (!root) {
         err_hint(e, "a model file is written by 'vecsift train'");
         return -1;

@@ -144,6 +144,16 @@ Test(report, text_width_counts_columns)
     cr_assert_eq(report_text_width(NULL), 0);
 }
 
+/* What report_table_print writes (caller frees). */
+static char *table_text(const char *const *head, size_t ncols, const char *const *cells,
+                        size_t nrows, const char *align)
+{
+    struct mem m;
+    mem_open(&m);
+    report_table_print(m.fp, head, ncols, cells, nrows, align);
+    return mem_done(&m);
+}
+
 Test(report, table_aligns_accented_and_wide_text)
 {
     const char *head[2] = { "queue", "count" };
@@ -152,10 +162,7 @@ Test(report, table_aligns_accented_and_wide_text)
         "日本語", "22",
         "cafe\xCC\x81", "333",
     };
-    struct mem m;
-    mem_open(&m);
-    report_table_print(m.fp, head, 2, cells, 3, "lr");
-    char *s = mem_done(&m);
+    char *s = table_text(head, 2, cells, 3, "lr");
     /* Worked by hand: column widths 6 and 5, two spaces apart. */
     cr_assert_str_eq(s,
                      "queue   count\n"
@@ -170,12 +177,25 @@ Test(report, table_default_alignment_and_no_escape_codes)
 {
     const char *head[3] = { "a", "b", "c" };
     const char *cells[] = { "x\x1b[2J", NULL, "yy" };
-    struct mem m;
-    mem_open(&m);
-    report_table_print(m.fp, head, 3, cells, 1, NULL);
-    char *s = mem_done(&m);
+    char *s = table_text(head, 3, cells, 1, NULL);
     cr_assert_null(strchr(s, 0x1b), "ESC must never reach the terminal");
     cr_assert_str_eq(s, "a     b   c\n-----------\nx[2J     yy\n");
+    free(s);
+}
+
+/* A cell with U+00B1 (2 bytes, 1 column): the rule and the padding follow
+ * display columns, not bytes.  Expected text worked by hand: column widths
+ * 5 ("queue") and 13 ("0.873 \u00b1 0.021"), two spaces apart: 20 columns. */
+Test(report, table_rule_counts_columns_of_plus_minus)
+{
+    const char *head[2] = { "queue", "F1" };
+    const char *cells[] = { "fault", "0.873 \xC2\xB1 0.021", "ideas", "0.5" };
+    char *s = table_text(head, 2, cells, 2, "lr");
+    cr_assert_str_eq(s,
+                     "queue             F1\n"
+                     "--------------------\n"
+                     "fault  0.873 \xC2\xB1 0.021\n"
+                     "ideas            0.5\n");
     free(s);
 }
 
@@ -236,14 +256,19 @@ Test(report, charts_escape_labels)
     free(s);
 }
 
-Test(report, heatmap_writes_counts_and_shades_by_row)
+/* The SVG of a 2 x 2 heat map of 'counts' (caller frees). */
+static char *heat2(const double counts[4])
 {
     const char *lab[2] = { "billing", "delivery" };
-    double counts[4] = { 30, 10, 0, 8 };
     struct mem m;
     mem_open(&m);
     chart_heatmap(m.fp, NULL, lab, lab, 2, counts, "true", "predicted");
-    char *s = mem_done(&m);
+    return mem_done(&m);
+}
+
+Test(report, heatmap_writes_counts_and_shades_by_row)
+{
+    char *s = heat2((const double[4]){ 30, 10, 0, 8 });
     cr_assert_not_null(strstr(s, ">30</text>"));
     cr_assert_not_null(strstr(s, ">10</text>"));
     cr_assert_not_null(strstr(s, ": 30 (75.0% of row)"));
@@ -275,5 +300,128 @@ Test(report, charts_accept_empty_and_missing_input)
     cr_assert_null(strstr(s, "inf"));
     cr_assert_null(strstr(s, "nowhere"), "a mark without coordinates is not drawn");
     cr_assert_eq(count(s, ">n/a<"), 6, "three missing bars, three missing intervals");
+    free(s);
+}
+
+/* Counts that are not whole (averages over repeats) all get one decimal, so
+ * 1/3 and 79.3 do not come out as "0.333" next to "79.3". */
+Test(report, heatmap_uses_one_number_of_decimals)
+{
+    char *s = heat2((const double[4]){ 79.3, 1.0 / 3, 0, 2 });
+    cr_assert_not_null(strstr(s, ">79.3</text>"));
+    cr_assert_not_null(strstr(s, ">0.3</text>"));
+    cr_assert_not_null(strstr(s, ">0.0</text>"));
+    cr_assert_not_null(strstr(s, ">2.0</text>"));
+    cr_assert_null(strstr(s, "0.333"));
+    free(s);
+    /* all below 1: two decimals */
+    s = heat2((const double[4]){ 0.5, 0.25, 0, 0.125 });
+    cr_assert_not_null(strstr(s, ">0.50</text>"));
+    cr_assert_not_null(strstr(s, ">0.00</text>"));
+    cr_assert_not_null(strstr(s, ">0.12</text>"));   /* printf rounds half to even */
+    free(s);
+}
+
+/* The legend says what bar and whisker show; the default note no longer
+ * claims the bar is a mean. */
+Test(report, bars_legend_note_is_the_callers)
+{
+    const char *lab[2] = { "access", "fault" };
+    double mean[2] = { 0.6, 0.8 }, sd[2] = { 0.1, 0.05 };
+    struct chart_group g = { "F1", mean, sd };
+    struct mem m;
+    mem_open(&m);
+    chart_bars_noted(m.fp, NULL, lab, 2, &g, 1, "score", "bar: pooled; whisker: sd over folds");
+    chart_bars(m.fp, NULL, lab, 2, &g, 1, "score");
+    chart_bars_noted(m.fp, NULL, lab, 2, &g, 1, "score", NULL);
+    char *s = mem_done(&m);
+    cr_assert_eq(count(s, ">bar: pooled; whisker: sd over folds</text>"), 1);
+    cr_assert_eq(count(s, ">whisker: \xC2\xB1 1 sd</text>"), 1);
+    cr_assert_null(strstr(s, "mean \xC2\xB1 sd"));
+    free(s);
+}
+
+/* Every whisker is one path "Mxa yHxb Mxa y-cVy+c Mxb y-cVy+c": the caps at
+ * both ends have the same length and the same stroke, and no second (halo)
+ * stroke is drawn under it. */
+Test(report, whisker_ends_are_alike)
+{
+    const char *lab[3] = { "access", "fault", "ideas" };
+    double mean[3] = { 0.6, 0.8, 0.3 }, sd[3] = { 0.1, 0.05, 0.2 };
+    double lo[3] = { 0.5, 0.75, 0.1 }, hi[3] = { 0.7, 0.85, 0.5 };
+    struct chart_group g = { "F1", mean, sd };
+    struct mem m;
+    mem_open(&m);
+    chart_bars(m.fp, NULL, lab, 3, &g, 1, "score");
+    chart_intervals(m.fp, NULL, lab, 3, mean, lo, hi, 0, NULL, NULL);
+    char *s = mem_done(&m);
+    size_t n = 0;
+    for (const char *p = strstr(s, "<path d=\"M"); p; p = strstr(p + 1, "<path d=\"M")) {
+        double xa, y, xb, xa2, ya1, ya2, xb2, yb1, yb2;
+        if (sscanf(p, "<path d=\"M%lf %lfH%lfM%lf %lfV%lfM%lf %lfV%lf\"", &xa, &y, &xb, &xa2, &ya1,
+                   &ya2, &xb2, &yb1, &yb2) != 9)
+            continue;
+        n++;
+        cr_assert_float_eq(xa2, xa, 1e-9);
+        cr_assert_float_eq(xb2, xb, 1e-9);
+        cr_assert_float_eq(ya2 - ya1, yb2 - yb1, 1e-9, "caps differ");
+        cr_assert_float_eq((ya1 + ya2) / 2, y, 0.051);
+        const char *end = strchr(p, '>');
+        cr_assert(strstr(p, "stroke=\"#ffffff\"") == NULL || strstr(p, "stroke=\"#ffffff\"") > end,
+                  "whisker drawn with a white halo");
+    }
+    cr_assert_eq(n, 6, "three bar whiskers and three interval whiskers (found %zu)", n);
+    free(s);
+}
+
+/* Tick labels on the y axis (text-anchor end, left of the plot). */
+static size_t y_ticks(const char *s, double *v, size_t max)
+{
+    size_t n = 0;
+    for (const char *p = strstr(s, "text-anchor=\"end\" fill=\"#5a5f66\">"); p && n < max;
+         p = strstr(p + 1, "text-anchor=\"end\" fill=\"#5a5f66\">"))
+        v[n++] = strtod(strchr(p, '>') + 1, NULL);
+    return n;
+}
+
+/* A precision curve between 0.85 and 1.0.  Zoomed: 5 % margin gives
+ * [0.8425, 1.0]; a fifth of that is 0.0315, so the round step is 0.05 and
+ * the axis runs 0.80..1.00 in five steps (worked by hand), and says it
+ * does not start at 0.  Unit: 0..1 in steps of 0.2, no such note. */
+Test(report, curve_zooms_on_data_when_asked)
+{
+    double x[4] = { 0.2, 0.5, 0.8, 1.0 }, y[4] = { 1.0, 0.97, 0.92, 0.85 };
+    double v[16];
+    struct mem m;
+    mem_open(&m);
+    chart_curve_ranged(m.fp, NULL, x, y, 4, "coverage", "precision", NULL, NULL, NULL, CHART_Y_DATA);
+    char *s = mem_done(&m);
+    size_t n = y_ticks(s, v, 16);
+    cr_assert_eq(n, 5, "found %zu y ticks", n);
+    for (size_t i = 0; i < n; i++)
+        cr_assert_float_eq(v[i], 0.80 + 0.05 * (double)i, 1e-9);
+    cr_assert_not_null(strstr(s, ">0.80<"));
+    cr_assert_not_null(strstr(s, "y axis starts at 0.80, not 0"));
+    free(s);
+
+    mem_open(&m);
+    chart_curve(m.fp, NULL, x, y, 4, "coverage", "precision", NULL, NULL, NULL);
+    s = mem_done(&m);
+    n = y_ticks(s, v, 16);
+    cr_assert_eq(n, 6);
+    cr_assert_float_eq(v[0], 0.0, 1e-9);
+    cr_assert_float_eq(v[5], 1.0, 1e-9);
+    cr_assert_null(strstr(s, "not 0"));
+    free(s);
+
+    /* data reaching 0: zoomed axis starts at 0, no note */
+    double y0[4] = { 0.4, 0.3, 0.1, 0.0 };
+    mem_open(&m);
+    chart_curve_ranged(m.fp, NULL, x, y0, 4, "coverage", "precision", NULL, NULL, NULL, CHART_Y_DATA);
+    s = mem_done(&m);
+    n = y_ticks(s, v, 16);
+    cr_assert(n >= 2);
+    cr_assert_float_eq(v[0], 0.0, 1e-9);
+    cr_assert_null(strstr(s, "not 0"));
     free(s);
 }

@@ -51,6 +51,12 @@ struct cJSON *jsonv_number_new(double x);
 /* New JSON array of n doubles, printed so that they read back bit for bit. */
 struct cJSON *jsonv_doubles_new(const double *x, size_t n);
 
+/* Read and parse the JSON file 'path', a "what" ("model", "evaluation")
+ * for messages: missing, not a regular file, larger than 'max_bytes',
+ * empty, NUL bytes or a syntax error are ERR_INPUT errors naming the file
+ * (and line).  Returns a tree the caller frees with cJSON_Delete, or NULL. */
+struct cJSON *jsonv_load(const char *path, const char *what, size_t max_bytes, struct err *e);
+
 /* Parse 'text' (len bytes) from 'file'; on a syntax error the message names
  * the line.  Returns a tree the caller frees with cJSON_Delete, or NULL. */
 struct cJSON *jsonv_parse(const char *file, const char *text, size_t len, struct err *e);

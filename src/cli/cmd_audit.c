@@ -61,13 +61,14 @@ static int parse(int argc, char **argv, struct audit_args *a, const char **data)
     struct cli_parser p;
     cli_parser_init(&p, cmd, argc, argv);
     int i;
-    long v;
     const char *val;
     while ((i = cli_next(&p, &val)) >= 0) {
         const char *name = opt_name(cmd, i);
         int t = data_args_option(&a->da, cmd, name, val);
         if (t == 0)
             t = fit_args_option(&a->fa, cmd, name, val);
+        if (t == 0)
+            t = cv_args_option(&a->cp, cmd, name, val);
         if (t < 0)
             break;
         if (t > 0)
@@ -77,14 +78,6 @@ static int parse(int argc, char **argv, struct audit_args *a, const char **data)
         } else if (strcmp(name, "excerpt") == 0) {
             if (cli_long(cmd, name, val, 8, 100000, &a->excerpt) < 0)
                 break;
-        } else if (strcmp(name, "folds") == 0) {
-            if (cli_long(cmd, name, val, 2, 1000, &v) < 0)
-                break;
-            a->cp.folds = (int)v;
-        } else if (strcmp(name, "repeats") == 0) {
-            if (cli_long(cmd, name, val, 1, 1000, &v) < 0)
-                break;
-            a->cp.repeats = (size_t)v;
         }
     }
     int rc = i == CLI_HELP ? -1 : i != CLI_END ? ERR_INPUT : 0;

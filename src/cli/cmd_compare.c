@@ -144,7 +144,7 @@ static int parse(int argc, char **argv, struct cmp_args *a, const char **data)
         if (t == 0)
             t = fit_args_option(&a->fa, cmd, name, val);
         if (t == 0)
-            t = compare_cv_option(&a->cp, cmd, name, val);
+            t = cv_args_option(&a->cp, cmd, name, val);
         if (t < 0)
             break;
         if (t > 0)

@@ -79,20 +79,7 @@ static int step(int (*fn)(int, char **), ...)
 /* The cut-off evaluate chose, from its JSON. */
 static int read_cut(const char *path, double *cut, double *cover, double *macro, struct err *e)
 {
-    FILE *fp = fopen(path, "rb");
-    if (!fp)
-        return err_io(e, path, 0, "cannot open: %s", strerror(errno));
-    char *buf = NULL;
-    size_t len = 0, cap = 0, got;
-    char tmp[65536];
-    while ((got = fread(tmp, 1, sizeof tmp, fp)) > 0) {
-        buf = xgrow(buf, &cap, len + got + 1, 1);
-        memcpy(buf + len, tmp, got);
-        len += got;
-    }
-    fclose(fp);
-    cJSON *root = jsonv_parse(path, buf ? buf : "", len, e);
-    free(buf);
+    cJSON *root = jsonv_load(path, "evaluation", (size_t)1 << 30, e);
     if (!root)
         return -1;
     struct jsonv_ctx c = { path, "threshold", e };

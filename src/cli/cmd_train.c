@@ -1,7 +1,6 @@
 /* cmd_train.c -- `vecsift train`: fit a pipeline on every labelled row and
  * write the model file. */
 #include <cjson/cJSON.h>
-#include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -46,19 +45,7 @@ const struct cli_cmd cmd_train_info = {
 static int read_evaluation(const char *path, const struct fit_args *fa, cJSON **summary, double *review,
                            struct err *e)
 {
-    size_t len = 0, cap = 0, got;
-    char *buf = NULL, tmp[65536];
-    FILE *fp = fopen(path, "rb");
-    if (!fp)
-        return err_set(e, path, 0, "cannot open: %s", strerror(errno));
-    while ((got = fread(tmp, 1, sizeof tmp, fp)) > 0) {
-        buf = xgrow(buf, &cap, len + got + 1, 1);
-        memcpy(buf + len, tmp, got);
-        len += got;
-    }
-    fclose(fp);
-    cJSON *root = jsonv_parse(path, buf ? buf : "", len, e);
-    free(buf);
+    cJSON *root = jsonv_load(path, "evaluation", (size_t)1 << 30, e);
     if (!root)
         return -1;
     struct jsonv_ctx c = { path, "settings", e };

@@ -4,6 +4,7 @@
 #include <string.h>
 #include <unistd.h>
 
+#include "vecsift/cv.h"
 #include "vecsift/err.h"
 #include "vecsift/vecset.h"
 
@@ -136,6 +137,25 @@ void err_name_file(struct err *e, const char *path)
     err_set(e, path, 0, "%s", inner.msg);
     e->code = inner.code;
     memcpy(e->hint, inner.hint, sizeof e->hint);
+}
+
+int cv_args_option(struct cv_params *cp, const struct cli_cmd *cmd, const char *name, const char *val)
+{
+    long v;
+    if (strcmp(name, "folds") == 0) {
+        if (cli_long(cmd, name, val, 2, 1000, &v) < 0)
+            return -1;
+        cp->folds = (int)v;
+    } else if (strcmp(name, "repeats") == 0) {
+        if (cli_long(cmd, name, val, 1, 1000, &v) < 0)
+            return -1;
+        cp->repeats = (size_t)v;
+    } else if (strcmp(name, "search") == 0) {
+        cp->search = 1;
+    } else {
+        return 0;
+    }
+    return 1;
 }
 
 int fit_args_open_vectors(const struct fit_args *f, struct vecset **vs, struct err *e)

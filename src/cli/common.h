@@ -75,6 +75,11 @@ int fit_args_option(struct fit_args *f, const struct cli_cmd *cmd, const char *n
  * it, keeping the code and the hint, so every bad-input message names a file. */
 void err_name_file(struct err *e, const char *path);
 
+/* --folds, --repeats and --search, for the commands that cross-validate:
+ * 1 taken, 0 not one of them, -1 after a usage error. */
+struct cv_params;
+int cv_args_option(struct cv_params *cp, const struct cli_cmd *cmd, const char *name, const char *val);
+
 /* Open the vector set when the pooling needs one (error when missing). */
 int fit_args_open_vectors(const struct fit_args *f, struct vecset **vs, struct err *e);
 

@@ -13,23 +13,6 @@
 #include "vecsift/report.h"
 #include "vecsift/xalloc.h"
 
-int compare_cv_option(struct cv_params *cp, const struct cli_cmd *cmd, const char *name, const char *val)
-{
-    long v;
-    if (strcmp(name, "folds") == 0) {
-        if (cli_long(cmd, name, val, 2, 1000, &v) < 0)
-            return -1;
-        cp->folds = (int)v;
-    } else if (strcmp(name, "repeats") == 0) {
-        if (cli_long(cmd, name, val, 1, 1000, &v) < 0)
-            return -1;
-        cp->repeats = (size_t)v;
-    } else {
-        return 0;
-    }
-    return 1;
-}
-
 void compare_wrap(FILE *fp, const char *text, size_t width)
 {
     /* greedy: break at the last space that keeps a line within 'width'

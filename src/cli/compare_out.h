@@ -59,10 +59,6 @@ struct cJSON *compare_json(const struct compare_row *rows, const size_t *order, 
 int compare_html(const char *path, const struct compare_row *rows, const size_t *order, size_t n,
                  const struct compare_setup *s, struct err *e);
 
-/* --folds and --repeats, shared by compare and curve: 1 taken, 0 not
- * one of them, -1 after a usage error. */
-int compare_cv_option(struct cv_params *cp, const struct cli_cmd *cmd, const char *name, const char *val);
-
 /* A JSON number, or null when not finite. */
 struct cJSON *compare_num(double x);
 /* {"mean": ..., "sd": ...} */

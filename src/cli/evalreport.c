@@ -126,7 +126,8 @@ int evalout_html(const char *path, const struct cv_result *r, const struct corpu
         fs[q] = r->spread.f1[k].sd;
     }
     struct chart_group groups[] = { { "precision", pm, ps }, { "recall", rm, rs }, { "F1", fm, fs } };
-    chart_bars(fp, "Per queue: pooled figure, whisker = \xC2\xB1 1 sd over folds", names, K, groups, 3, "score");
+    chart_bars_noted(fp, "Precision, recall and F1 per queue", names, K, groups, 3, "score",
+                     "bar: pooled figure; whisker: \xC2\xB1 1 sd over folds");
 
     /* Confusion heat map */
     double *conf = xcalloc(K * K, sizeof *conf);
@@ -161,8 +162,9 @@ int evalout_html(const char *path, const struct cv_result *r, const struct corpu
     else
         snprintf(para, sizeof para, "No confidence cut-off reaches precision %.2f on these rows.", s->target);
     report_html_section(fp, "Confidence cut-off", para);
-    chart_curve(fp, "Precision against the share of rows routed automatically", x, y, n, "coverage", "precision",
-                NULL, NULL, cut.reachable ? &mark : NULL);
+    /* precision stays high over most of the curve: zoom the y axis on it */
+    chart_curve_ranged(fp, "Precision against the share of rows routed automatically", x, y, n, "coverage",
+                       "precision", NULL, NULL, cut.reachable ? &mark : NULL, CHART_Y_DATA);
     report_html_note(fp, CAUTION);
     report_html_end(fp);
 

@@ -22,6 +22,12 @@
 #     memory) falls evenly with the row share, 97 - 69 * share, and the count
 #     written on it has a contrast ratio of at least 4.5:1 (WCAG 2.1, success
 #     criterion 1.4.3, contrast formula from WCAG 2.1 "relative luminance");
+#   - heat-map counts are written with one number of decimals throughout
+#     (mixed "0.333" and "79.3" are hard to compare; common practice);
+#   - whiskers (bar chart, interval rows): both ends carry the same cap, and
+#     no pale halo stroke is drawn under them, which over a filled bar showed
+#     as a box at one end only; the whisker ink keeps at least 3:1 contrast
+#     on the bar colours under it (WCAG 2.1 success criterion 1.4.11);
 #   - the terminal table printed by report_demo lines up: every line of the
 #     table has the same display width, with widths computed by Python's
 #     unicodedata.east_asian_width (Unicode Standard Annex #11).
@@ -155,6 +161,43 @@ def main():
     check(all(a[1] >= b[1] - 1e-9 for a, b in zip(monotone, monotone[1:])),
           'darker cells mean larger shares')
     check(lowest_c >= 4.5, 'count text contrast >= 4.5:1 (WCAG 2.1 1.4.3; lowest %.2f)' % lowest_c)
+
+    decimals = set()
+    if roots:
+        for g in roots[0].iter('{%s}g' % SVG_NS):
+            x = g.find('{%s}text' % SVG_NS)
+            if x is not None and x.text and re.fullmatch(r'-?[0-9]+(\.[0-9]+)?', x.text):
+                decimals.add(len(x.text.split('.')[1]) if '.' in x.text else 0)
+    check(len(decimals) == 1, 'heat-map counts share one number of decimals (%s)' % sorted(decimals))
+
+    # Whiskers: a path "Mxa yHxb Mxa y1Vy2 Mxb y1Vy2" in the bar chart (2nd)
+    # and the interval rows (4th chart).
+    wpat = re.compile(r'M([-0-9.]+) ([-0-9.]+)H([-0-9.]+)M([-0-9.]+) ([-0-9.]+)V([-0-9.]+)'
+                      r'M([-0-9.]+) ([-0-9.]+)V([-0-9.]+)$')
+    whiskers, alike, halo = 0, 0, 0
+    bar_fills = set()
+    for root in (roots[1], roots[3]) if len(roots) >= 4 else ():
+        for el in root.iter('{%s}path' % SVG_NS):
+            m = wpat.match(el.get('d', ''))
+            if not m:
+                continue
+            v = [float(t) for t in m.groups()]
+            whiskers += 1
+            if el.get('stroke', '').lower() in ('#ffffff', '#fff', 'white'):
+                halo += 1
+                continue
+            if (abs(v[3] - v[0]) < 1e-6 and abs(v[6] - v[2]) < 1e-6
+                    and abs((v[5] - v[4]) - (v[8] - v[7])) < 1e-6):
+                alike += 1
+                ink = el.get('stroke')
+        for el in root.iter('{%s}rect' % SVG_NS):
+            if root is roots[1] and el.get('height') == '11.0':
+                bar_fills.add(el.get('fill'))
+    check(whiskers >= 18 + 5 and halo == 0 and alike == whiskers,
+          'whiskers have equal caps at both ends, no halo (%d whiskers, %d alike, %d halo)'
+          % (whiskers, alike, halo))
+    low = min((contrast(ink, f) for f in bar_fills), default=0) if alike else 0
+    check(low >= 3.0, 'whisker ink on bar colours >= 3:1 (WCAG 2.1 1.4.11; lowest %.2f)' % low)
 
     # Terminal table from stdout: header, rule, rows all the same width.
     lines = [ln for ln in run.stdout.split('\n') if ln]
