@@ -1,6 +1,11 @@
 #!/usr/bin/env bash
 # run.sh -- the catalogue of bad input: every tests/bad-input/*.case file is
 # one case, run against $VECSIFT in a scratch directory of its own.
+# What is expected comes from the project's conventions (DESIGN.md,
+# "Conventions"; RULES): exit 2 for bad input or usage, 1 for an
+# input/output failure, a one-line "vecsift: FILE[:LINE]: ..." message, no
+# half-written output, no input overwritten.  Where a message names a line,
+# the line number was counted by hand from the case's input.
 #
 # Case file format, one directive a line ('#' lines are comments):
 #   setup  SHELL...   run in the scratch directory before the command
