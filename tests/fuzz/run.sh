@@ -51,13 +51,18 @@ for n in "${NAMES[@]}"; do
   # (no input here takes more than about a second on an idle one).
   "$exe" "$work" "tests/fuzz/corpus/$n" -max_total_time="$SECS" -timeout=60 \
     -rss_limit_mb=1024 -max_len=16384 -artifact_prefix="$OUT/crash-$n-" \
-    -print_final_stats=1 >"$log" 2>&1
+    -print_final_stats=1 -report_slow_units=30 >"$log" 2>&1
   rc=$?
   runs=$(grep -E '^stat::number_of_executed_units' "$log" | awk '{print $2}')
   last=$(grep -E '#[0-9]+.*cov: ' "$log" | tail -1)
   cov=$(sed -nE 's/.*cov: ([0-9]+).*/\1/p' <<<"$last")
   ft=$(sed -nE 's/.*ft: ([0-9]+).*/\1/p' <<<"$last")
-  crashes=$(ls "$OUT" | grep -c "^crash-$n-" || true)
+  # libFuzzer also writes "slow-unit" files with the artifact prefix: an
+  # input over -report_slow_units seconds.  They are reported, not failed
+  # (on a loaded machine a stall makes any input slow; replay to check).
+  crashes=$(ls "$OUT" | grep "^crash-$n-" | grep -vc -- '-slow-unit-' || true)
+  slow=$(ls "$OUT" | grep -c "^crash-$n-slow-unit-" || true)
+  [ "$slow" -gt 0 ] && echo "fuzz_$n: $slow slow input(s) kept as $OUT/crash-$n-slow-unit-* (replay: $exe FILE)"
   printf 'fuzz_%-10s %4ss  executions %-9s cov %-6s ft %-6s crashes %s\n' \
     "$n" "$SECS" "${runs:-?}" "${cov:-?}" "${ft:-?}" "$crashes"
   if [ "$rc" -eq 0 ] && [ "$crashes" -eq 0 ]; then
