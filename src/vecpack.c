@@ -359,6 +359,12 @@ int vecset_pack_text(const char *in, const char *out, const struct text_options 
             goto out;
         }
         dim = nf - 1;
+        /* Checked here too (the writer checks again) so that the message
+         * names the input line, not the output file. */
+        if (dim > 1000000) {
+            err_set(e, name, (long)first_line, "line has %zu numbers; a vector may have 1 to 1000000", dim);
+            goto out;
+        }
         p = first;          /* the first line is an entry: parse it with the rest */
         line = first_line - 1;
     }

@@ -106,6 +106,10 @@ int main(int argc, char **argv)
     signal(SIGTERM, on_signal);
     signal(SIGHUP, on_signal);
     signal(SIGPIPE, SIG_IGN); /* a closed pipe shows up as a write error instead */
+    /* Past a file-size limit (ulimit -f) the kernel would kill us with SIGXFSZ
+     * and leave the temporary output behind; ignored, the write fails with
+     * EFBIG, which ofile_commit reports and cleans up like a full disk. */
+    signal(SIGXFSZ, SIG_IGN);
 
     if (argc < 2) {
         list_commands(stdout);
