@@ -3,6 +3,8 @@
  * open data lives in tests/ext/features_vs_sklearn.py. */
 #include <criterion/criterion.h>
 #include <math.h>
+#include <stdint.h>
+#include <stdio.h>
 #include <string.h>
 
 #include "fixtures.h"
@@ -102,6 +104,62 @@ Test(features, mean_of_two_words_is_their_average)
     features_transform_tokens(f, toks, 2, &X, 0, NULL);
     for (size_t q = 0; q < 3; q++)
         cr_assert_float_eq(X.x[q], ((double)VECS[q] + VECS[3 + q]) / 2, 1e-15, "dim %zu", q);
+    fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* The pooled row is sum_j c_j v_j with each element summed over the words
+ * in order of first appearance (features.h); the blocked loops that compute
+ * it must give exactly the bits of that plain double loop (common
+ * practice: an optimised loop is checked against the plain one).  29
+ * dimensions exercise two 12-wide blocks and a 5-wide tail; 70 words exceed
+ * the 64 row pointers kept on the stack.  Words appear 1, 2 or 3 times, so
+ * the coefficients tf / total are not all equal. */
+Test(features, pooled_sum_is_bit_identical_to_the_plain_loop)
+{
+    enum { NW = 70, DIM = 29 };
+    static char names[NW][8];
+    const char *words[NW];
+    static float vecs[NW * DIM];
+    uint64_t st = 88172645463325252u; /* xorshift64 (Marsaglia 2003), any fixed seed */
+    for (size_t w = 0; w < NW; w++) {
+        snprintf(names[w], sizeof names[w], "w%02zux", w);
+        words[w] = names[w];
+        for (size_t q = 0; q < DIM; q++) {
+            st ^= st << 13;
+            st ^= st >> 7;
+            st ^= st << 17;
+            vecs[w * DIM + q] = (float)((double)(st >> 11) / 9007199254740992.0 * 2.0 - 1.0);
+        }
+    }
+    vecset *vs = fx_vectors(fx_tmpdir(), "wide.vecs", words, vecs, NW, DIM);
+    const char *toks[3 * NW];
+    size_t ntok = 0;
+    for (size_t w = 0; w < NW; w++)
+        for (size_t r = 0; r <= w % 3; r++)
+            toks[ntok++] = words[(w * 37) % NW]; /* a fixed shuffle: 37 is prime to 70 */
+    static char text[3 * NW * 5];
+    size_t len = 0;
+    for (size_t i = 0; i < ntok; i++)
+        len += (size_t)snprintf(text + len, sizeof text - len, "%s ", toks[i]);
+    const char *texts[] = { text };
+    struct tokdocs d;
+    fx_docs(&d, texts, 1);
+    size_t rows[] = { 0 };
+    featurizer *f = fit(POOL_MEAN, 0, &d, rows, 1, vs);
+    struct fmat X = FMAT_INIT;
+    features_alloc(f, 1, &X);
+    features_transform_tokens(f, toks, ntok, &X, 0, NULL);
+    for (size_t q = 0; q < DIM; q++) {
+        double want = 0;
+        for (size_t w = 0; w < NW; w++) {
+            size_t id = (w * 37) % NW;
+            want += (double)(w % 3 + 1) / (double)ntok * (double)vecs[id * DIM + q];
+        }
+        cr_assert(memcmp(&want, &X.x[q], sizeof want) == 0, "dim %zu: %.17g, plain loop %.17g", q, X.x[q], want);
+    }
     fmat_release(&X);
     features_free(f);
     tokdocs_release(&d);
