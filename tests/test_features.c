@@ -10,6 +10,7 @@
 #include "fixtures.h"
 #include "vecsift/features.h"
 #include "vecsift/fmat.h"
+#include "vecsift/xalloc.h"
 
 /* Four words with 3-d vectors; "hen" and "owl" have none. */
 static const char *const WORDS[] = { "cat", "sat", "ran", "dog" };
@@ -161,6 +162,89 @@ Test(features, pooled_sum_is_bit_identical_to_the_plain_loop)
         cr_assert(memcmp(&want, &X.x[q], sizeof want) == 0, "dim %zu: %.17g, plain loop %.17g", q, X.x[q], want);
     }
     fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* The memo used by streaming prediction must give the bits and counts of
+ * the plain path, for every pooling, with repeated words, words without a
+ * vector, words unseen in training, an empty text, and one memo serving
+ * many texts in turn (common practice: a cache must not change results). */
+Test(features, memo_gives_the_same_rows_as_the_plain_path)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog dog", "cat ran", "sat sat dog", "dog hen" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 5);
+    size_t rows[] = { 0, 1, 2, 3 };
+    static const char *const held[][6] = {
+        { "dog", "cat", "dog", "hen", "owl", "dog" }, { "hen" }, { "sat" }, { "cat", "cat", "ran", "sat", "owl", "cat" },
+        { "dog", "cat", "dog", "hen", "owl", "dog" },
+    };
+    static const size_t nheld[] = { 6, 1, 0, 6, 6 };
+    for (int pool = POOL_MEAN; pool <= POOL_SIF; pool++)
+        for (int scale = 0; scale <= 1; scale++) {
+            featurizer *f = fit((enum features_pool)pool, scale, &d, rows, 4, vs);
+            features_memo *mm = features_memo_new(f);
+            struct fmat A = FMAT_INIT, B = FMAT_INIT;
+            features_alloc(f, 5, &A);
+            features_alloc(f, 5, &B);
+            struct features_stats sa = { 0, 0, 0 }, sb = { 0, 0, 0 };
+            for (size_t i = 0; i < 5; i++) {
+                features_transform_tokens(f, held[i], nheld[i], &A, i, &sa);
+                features_transform_memo(f, mm, held[i], i % 2 ? NULL : (const size_t[]){ 3, 3, 3, 3, 3, 3 },
+                                        nheld[i], &B, i, &sb);
+            }
+            cr_assert(memcmp(A.x, B.x, 5 * 3 * sizeof *A.x) == 0, "pool %d scale %d: rows differ", pool, scale);
+            cr_assert(sa.tokens == sb.tokens && sa.with_vector == sb.with_vector && sa.empty_rows == sb.empty_rows,
+                      "pool %d scale %d: counts differ", pool, scale);
+            cr_assert_eq(sa.empty_rows, 2, "'hen' alone and no token at all are empty");
+            fmat_release(&A);
+            fmat_release(&B);
+            features_memo_free(mm);
+            features_free(f);
+        }
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* A memo that fills up (a text of 70,000 distinct words) starts afresh
+ * before the next text; the rows stay those of the plain path. */
+Test(features, memo_that_fills_up_starts_afresh)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog dog", "cat ran" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 3);
+    size_t rows[] = { 0, 1, 2 };
+    featurizer *f = fit(POOL_TFIDF, 1, &d, rows, 3, vs);
+    enum { BIG = 70000 };
+    char(*names)[8] = xcalloc(BIG, sizeof *names);
+    const char **big = xcalloc(BIG + 2, sizeof *big);
+    for (size_t i = 0; i < BIG; i++) {
+        snprintf(names[i], sizeof names[i], "u%06zu", i);
+        big[i] = names[i];
+    }
+    big[BIG] = "cat";
+    big[BIG + 1] = "dog";
+    const char *small[] = { "dog", "sat", "dog" };
+    features_memo *mm = features_memo_new(f);
+    struct fmat A = FMAT_INIT, B = FMAT_INIT;
+    features_alloc(f, 3, &A);
+    features_alloc(f, 3, &B);
+    for (size_t i = 0; i < 3; i++) {
+        const char *const *t = i == 1 ? big : small;
+        size_t n = i == 1 ? BIG + 2 : 3;
+        features_transform_tokens(f, t, n, &A, i, NULL);
+        features_transform_memo(f, mm, t, NULL, n, &B, i, NULL);
+    }
+    cr_assert(memcmp(A.x, B.x, 3 * 3 * sizeof *A.x) == 0, "rows differ");
+    fmat_release(&A);
+    fmat_release(&B);
+    features_memo_free(mm);
+    free(big);
+    free(names);
     features_free(f);
     tokdocs_release(&d);
     vecset_close(vs);
