@@ -633,17 +633,26 @@ void features_transform_tokens(const featurizer *f, const char *const *toks, siz
 #define MEMO_WORDS 65536
 #define MEMO_BYTES ((size_t)1 << 21)
 
+/* Words up to this many bytes are kept inside their entry, which is then
+ * one 64-byte cache line: a probe that finds a word touches one slot and
+ * one line (the profile showed the memo waiting on memory). */
+#define MEMO_INLINE 24
+
 struct memo_word {
     uint64_t hash;        /* vocab_hash */
-    size_t off, len;      /* the word in 'text' */
-    struct term_facts t;  /* row and id; tf unused */
+    long row;             /* vector row or -1 */
+    int32_t id;           /* training id or -1 */
+    uint32_t len;
     uint32_t seen;        /* 'stamp' of the last document it was in */
     uint32_t at;          /* its index among that document's distinct words */
+    size_t off;           /* the word in 'text' when longer than MEMO_INLINE */
+    char inl[MEMO_INLINE]; /* the word itself otherwise */
 };
 
 struct features_memo {
     const featurizer *f;   /* the featurizer whose facts are held (borrowed) */
-    uint32_t *slot;        /* (nslots) 0 empty, else word index + 1 */
+    uint64_t *slot;        /* (nslots) 0 empty, else the hash's top 32 bits
+                              above the word index + 1 */
     size_t nslots;
     struct memo_word *w;
     size_t n, cap;
@@ -716,7 +725,7 @@ static void memo_grow(features_memo *mm)
         size_t q = (size_t)mm->w[i].hash & mask;
         while (mm->slot[q])
             q = (q + 1) & mask;
-        mm->slot[q] = (uint32_t)i + 1;
+        mm->slot[q] = (mm->w[i].hash & ~(uint64_t)0xffffffffu) | (uint64_t)(i + 1);
     }
 }
 
@@ -735,25 +744,35 @@ static int same_bytes(const char *a, const char *b, size_t n)
  * and the training words the first time it is seen. */
 static struct memo_word *memo_get(features_memo *mm, const char *tok, size_t len)
 {
-    uint64_t h = vocab_hash(tok, len);
+    uint64_t h = vocab_hash(tok, len), tag = h & ~(uint64_t)0xffffffffu;
     size_t mask = mm->nslots - 1, q = (size_t)h & mask;
-    for (uint32_t at; (at = mm->slot[q]) != 0; q = (q + 1) & mask) {
-        struct memo_word *w = &mm->w[at - 1];
-        if (w->hash == h && w->len == len && same_bytes(mm->text + w->off, tok, len))
+    for (uint64_t sl; (sl = mm->slot[q]) != 0; q = (q + 1) & mask) {
+        if ((sl & ~(uint64_t)0xffffffffu) != tag)
+            continue;
+        struct memo_word *w = &mm->w[(sl & 0xffffffffu) - 1];
+        if (w->hash == h && w->len == len &&
+            same_bytes(len <= MEMO_INLINE ? w->inl : mm->text + w->off, tok, len))
             return w;
     }
     mm->w = xgrow(mm->w, &mm->cap, mm->n + 1, sizeof *mm->w);
-    mm->text = xgrow(mm->text, &mm->tcap, mm->tlen + len, 1);
     struct memo_word *w = &mm->w[mm->n];
     w->hash = h;
-    w->off = mm->tlen;
-    w->len = len;
+    w->len = (uint32_t)len;
     w->seen = 0;
     w->at = 0;
-    look_up(mm->f, tok, h, &w->t);
-    memcpy(mm->text + mm->tlen, tok, len);
-    mm->tlen += len;
-    mm->slot[q] = (uint32_t)++mm->n;
+    struct term_facts t;
+    look_up(mm->f, tok, h, &t);
+    w->row = t.row;
+    w->id = t.id;
+    if (len <= MEMO_INLINE) {
+        memcpy(w->inl, tok, len);
+    } else {
+        mm->text = xgrow(mm->text, &mm->tcap, mm->tlen + len, 1);
+        w->off = mm->tlen;
+        memcpy(mm->text + mm->tlen, tok, len);
+        mm->tlen += len;
+    }
+    mm->slot[q] = tag | (uint64_t)++mm->n;
     if (2 * mm->n > mm->nslots) {
         memo_grow(mm);
         w = &mm->w[mm->n - 1];
@@ -787,8 +806,9 @@ void features_transform_memo(const featurizer *f, features_memo *mm, const char 
         memo_doc_room(mm, nd + 1, nd);
         w->seen = stamp;
         w->at = (uint32_t)nd;
-        mm->doc[nd] = w->t;
-        mm->doc[nd++].tf = 1;
+        mm->doc[nd].tf = 1;
+        mm->doc[nd].row = w->row;
+        mm->doc[nd++].id = w->id;
     }
     double *x = X->x + i * f->D;
     size_t m = word_coefs(f, mm->doc, nd, mm->keep, mm->c, mm->row, st);
