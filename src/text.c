@@ -448,6 +448,12 @@ static void put_placeholder(struct text_tokens *t, const char *ph)
     end_token(t, start);
 }
 
+/* An ASCII letter or digit (classify() gives C_WORD or C_NUM). */
+static int is_ascii_alnum(unsigned char ch)
+{
+    return (unsigned)((ch | 0x20) - 'a') < 26u || (unsigned)(ch - '0') < 10u;
+}
+
 /* Split normalised text p[0..m) into tokens appended to 't'. */
 static long split(struct text_tokens *t, const unsigned char *p, size_t m, const struct text_options *o)
 {
@@ -461,7 +467,8 @@ static long split(struct text_tokens *t, const unsigned char *p, size_t m, const
         if (!in_tok && (try_email || try_url)) {
             size_t k = 0;
             const char *ph = NULL;
-            if (try_url && (k = match_url(q, e)) > 0)
+            /* every URL match_url knows starts with 'h' or 'w' */
+            if (try_url && (*q == 'h' || *q == 'w') && (k = match_url(q, e)) > 0)
                 ph = TEXT_MASK_URL;
             else if (try_email && q >= email_stop && (k = match_email(q, e, &email_stop)) > 0)
                 ph = TEXT_MASK_EMAIL;
@@ -470,6 +477,29 @@ static long split(struct text_tokens *t, const unsigned char *p, size_t m, const
                 q += k;
                 continue;
             }
+        }
+        if (is_ascii_alnum(*q)) {
+            /* A run of ASCII letters and digits, the commonest case, in one
+             * copy: what the loop below does for each of them (start the
+             * token, copy, note whether all are digits), without decoding
+             * and classifying one at a time. */
+            const unsigned char *z = q;
+            int digits = 1;
+            while (z < e && is_ascii_alnum(*z)) {
+                digits &= *z <= '9';
+                z++;
+            }
+            if (!in_tok) {
+                t->buf = xgrow(t->buf, &t->cap, t->len + (size_t)(e - q) + 16, 1);
+                start = t->len;
+                in_tok = 1;
+                all_num = 1;
+            }
+            memcpy(t->buf + t->len, q, (size_t)(z - q));
+            t->len += (size_t)(z - q);
+            all_num &= digits;
+            q = z;
+            continue;
         }
         int32_t c;
         int k = decode(q, e, &c);

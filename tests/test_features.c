@@ -3,11 +3,14 @@
  * open data lives in tests/ext/features_vs_sklearn.py. */
 #include <criterion/criterion.h>
 #include <math.h>
+#include <stdint.h>
+#include <stdio.h>
 #include <string.h>
 
 #include "fixtures.h"
 #include "vecsift/features.h"
 #include "vecsift/fmat.h"
+#include "vecsift/xalloc.h"
 
 /* Four words with 3-d vectors; "hen" and "owl" have none. */
 static const char *const WORDS[] = { "cat", "sat", "ran", "dog" };
@@ -103,6 +106,145 @@ Test(features, mean_of_two_words_is_their_average)
     for (size_t q = 0; q < 3; q++)
         cr_assert_float_eq(X.x[q], ((double)VECS[q] + VECS[3 + q]) / 2, 1e-15, "dim %zu", q);
     fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* The pooled row is sum_j c_j v_j with each element summed over the words
+ * in order of first appearance (features.h); the blocked loops that compute
+ * it must give exactly the bits of that plain double loop (common
+ * practice: an optimised loop is checked against the plain one).  29
+ * dimensions exercise two 12-wide blocks and a 5-wide tail; 70 words exceed
+ * the 64 row pointers kept on the stack.  Words appear 1, 2 or 3 times, so
+ * the coefficients tf / total are not all equal. */
+Test(features, pooled_sum_is_bit_identical_to_the_plain_loop)
+{
+    enum { NW = 70, DIM = 29 };
+    static char names[NW][8];
+    const char *words[NW];
+    static float vecs[NW * DIM];
+    uint64_t st = 88172645463325252u; /* xorshift64 (Marsaglia 2003), any fixed seed */
+    for (size_t w = 0; w < NW; w++) {
+        snprintf(names[w], sizeof names[w], "w%02zux", w);
+        words[w] = names[w];
+        for (size_t q = 0; q < DIM; q++) {
+            st ^= st << 13;
+            st ^= st >> 7;
+            st ^= st << 17;
+            vecs[w * DIM + q] = (float)((double)(st >> 11) / 9007199254740992.0 * 2.0 - 1.0);
+        }
+    }
+    vecset *vs = fx_vectors(fx_tmpdir(), "wide.vecs", words, vecs, NW, DIM);
+    const char *toks[3 * NW];
+    size_t ntok = 0;
+    for (size_t w = 0; w < NW; w++)
+        for (size_t r = 0; r <= w % 3; r++)
+            toks[ntok++] = words[(w * 37) % NW]; /* a fixed shuffle: 37 is prime to 70 */
+    static char text[3 * NW * 5];
+    size_t len = 0;
+    for (size_t i = 0; i < ntok; i++)
+        len += (size_t)snprintf(text + len, sizeof text - len, "%s ", toks[i]);
+    const char *texts[] = { text };
+    struct tokdocs d;
+    fx_docs(&d, texts, 1);
+    size_t rows[] = { 0 };
+    featurizer *f = fit(POOL_MEAN, 0, &d, rows, 1, vs);
+    struct fmat X = FMAT_INIT;
+    features_alloc(f, 1, &X);
+    features_transform_tokens(f, toks, ntok, &X, 0, NULL);
+    for (size_t q = 0; q < DIM; q++) {
+        double want = 0;
+        for (size_t w = 0; w < NW; w++) {
+            size_t id = (w * 37) % NW;
+            want += (double)(w % 3 + 1) / (double)ntok * (double)vecs[id * DIM + q];
+        }
+        cr_assert(memcmp(&want, &X.x[q], sizeof want) == 0, "dim %zu: %.17g, plain loop %.17g", q, X.x[q], want);
+    }
+    fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* The memo used by streaming prediction must give the bits and counts of
+ * the plain path, for every pooling, with repeated words, words without a
+ * vector, words unseen in training, an empty text, and one memo serving
+ * many texts in turn (common practice: a cache must not change results). */
+Test(features, memo_gives_the_same_rows_as_the_plain_path)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog dog", "cat ran", "sat sat dog", "dog hen" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 5);
+    size_t rows[] = { 0, 1, 2, 3 };
+    static const char *const held[][6] = {
+        { "dog", "cat", "dog", "hen", "owl", "dog" }, { "hen" }, { "sat" }, { "cat", "cat", "ran", "sat", "owl", "cat" },
+        { "dog", "cat", "dog", "hen", "owl", "dog" },
+    };
+    static const size_t nheld[] = { 6, 1, 0, 6, 6 };
+    for (int pool = POOL_MEAN; pool <= POOL_SIF; pool++)
+        for (int scale = 0; scale <= 1; scale++) {
+            featurizer *f = fit((enum features_pool)pool, scale, &d, rows, 4, vs);
+            features_memo *mm = features_memo_new(f);
+            struct fmat A = FMAT_INIT, B = FMAT_INIT;
+            features_alloc(f, 5, &A);
+            features_alloc(f, 5, &B);
+            struct features_stats sa = { 0, 0, 0 }, sb = { 0, 0, 0 };
+            for (size_t i = 0; i < 5; i++) {
+                features_transform_tokens(f, held[i], nheld[i], &A, i, &sa);
+                features_transform_memo(f, mm, held[i], i % 2 ? NULL : (const size_t[]){ 3, 3, 3, 3, 3, 3 },
+                                        nheld[i], &B, i, &sb);
+            }
+            cr_assert(memcmp(A.x, B.x, 5 * 3 * sizeof *A.x) == 0, "pool %d scale %d: rows differ", pool, scale);
+            cr_assert(sa.tokens == sb.tokens && sa.with_vector == sb.with_vector && sa.empty_rows == sb.empty_rows,
+                      "pool %d scale %d: counts differ", pool, scale);
+            cr_assert_eq(sa.empty_rows, 2, "'hen' alone and no token at all are empty");
+            fmat_release(&A);
+            fmat_release(&B);
+            features_memo_free(mm);
+            features_free(f);
+        }
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* A memo that fills up (a text of 70,000 distinct words) starts afresh
+ * before the next text; the rows stay those of the plain path. */
+Test(features, memo_that_fills_up_starts_afresh)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog dog", "cat ran" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 3);
+    size_t rows[] = { 0, 1, 2 };
+    featurizer *f = fit(POOL_TFIDF, 1, &d, rows, 3, vs);
+    enum { BIG = 70000 };
+    char(*names)[8] = xcalloc(BIG, sizeof *names);
+    const char **big = xcalloc(BIG + 2, sizeof *big);
+    for (size_t i = 0; i < BIG; i++) {
+        snprintf(names[i], sizeof names[i], "u%06zu", i);
+        big[i] = names[i];
+    }
+    big[BIG] = "cat";
+    big[BIG + 1] = "dog";
+    const char *small[] = { "dog", "sat", "dog" };
+    features_memo *mm = features_memo_new(f);
+    struct fmat A = FMAT_INIT, B = FMAT_INIT;
+    features_alloc(f, 3, &A);
+    features_alloc(f, 3, &B);
+    for (size_t i = 0; i < 3; i++) {
+        const char *const *t = i == 1 ? big : small;
+        size_t n = i == 1 ? BIG + 2 : 3;
+        features_transform_tokens(f, t, n, &A, i, NULL);
+        features_transform_memo(f, mm, t, NULL, n, &B, i, NULL);
+    }
+    cr_assert(memcmp(A.x, B.x, 3 * 3 * sizeof *A.x) == 0, "rows differ");
+    fmat_release(&A);
+    fmat_release(&B);
+    features_memo_free(mm);
+    free(big);
+    free(names);
     features_free(f);
     tokdocs_release(&d);
     vecset_close(vs);

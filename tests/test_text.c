@@ -451,3 +451,107 @@ Test(text, random_bytes_are_handled)
     cr_assert_gt(invalid, 1000);
     text_tokens_release(&t);
 }
+
+/* ---- splitting against a plain reading of its rules ---- */
+
+/* The splitting rules of text.h, one code point at a time and nothing
+ * else (no run copying, no ASCII shortcut): word characters are letters,
+ * marks (L*, M*) and numbers (N*), by utf8proc_category (Unicode
+ * UnicodeData.txt general categories); ' U+2019 U+02BC and - U+2010 U+2011
+ * join two word characters and are written as ' or -; anything else
+ * separates; a token of numbers only becomes TEXT_MASK_NUMBER when asked.
+ * Writes "tok|tok|..." of the normalised text n[0..len) to out. */
+static void reference_split(const char *n, size_t len, int mask_number, char *out, size_t cap)
+{
+    static int32_t cp[4096];
+    cr_assert_lt(len, sizeof cp / sizeof cp[0]);
+    size_t m = 0, o = 0;
+    for (size_t i = 0; i < len;) {
+        utf8proc_ssize_t k = utf8proc_iterate((const utf8proc_uint8_t *)n + i, (utf8proc_ssize_t)(len - i), &cp[m]);
+        cr_assert_gt(k, 0);
+        i += (size_t)k;
+        m++;
+    }
+#define WORDC(c) (utf8proc_category(c) >= UTF8PROC_CATEGORY_LU && utf8proc_category(c) <= UTF8PROC_CATEGORY_NO)
+#define JOINER(c) ((c) == '\'' || (c) == 0x2019 || (c) == 0x02BC || (c) == '-' || (c) == 0x2010 || (c) == 0x2011)
+    char tok[4096];
+    size_t tl = 0;
+    int in = 0, digits = 0;
+    for (size_t i = 0; i <= m; i++) {
+        int32_t c = i < m ? cp[i] : ' ';
+        if (i < m && WORDC(c)) {
+            if (!in)
+                in = 1, tl = 0, digits = 1;
+            tl += (size_t)utf8proc_encode_char(c, (utf8proc_uint8_t *)tok + tl);
+            digits &= utf8proc_category(c) >= UTF8PROC_CATEGORY_ND;
+            continue;
+        }
+        if (in && JOINER(c) && i + 1 < m && WORDC(cp[i + 1])) {
+            tok[tl++] = c == '-' || c == 0x2010 || c == 0x2011 ? '-' : '\'';
+            continue;
+        }
+        if (in) {
+            const char *w = mask_number && digits ? TEXT_MASK_NUMBER : tok;
+            size_t wl = mask_number && digits ? strlen(TEXT_MASK_NUMBER) : tl;
+            if (o + wl + 2 < cap) {
+                memcpy(out + o, w, wl);
+                o += wl;
+                out[o++] = '|';
+            }
+            in = 0;
+        }
+    }
+#undef WORDC
+#undef JOINER
+    out[o] = '\0';
+}
+
+/* Random texts over an alphabet that mixes ASCII letters, digits,
+ * joiners and separators with non-ASCII letters, marks, digits, joiners
+ * and spaces, so that runs of ASCII (split's shortcut) meet every other
+ * case at both ends; e-mail and URL masking off (they have their own
+ * tests above), number masking off and on. */
+Test(text, splitting_matches_a_plain_reading_of_the_rules)
+{
+    static const char *const pieces[] = {
+        "a", "Z", "k", "ticket", "7", "42", "9", "0", "'", "-", " ", ",", ".", "_", "@", "/", "\t", "\n",
+        "\xC3\xA9",         /* U+00E9 e with acute (stripped to e) */
+        "\xD0\x96",         /* U+0416 CYRILLIC CAPITAL ZHE */
+        "\xD9\xA3",         /* U+0663 ARABIC-INDIC DIGIT THREE (Nd) */
+        "\xE2\x80\x99",     /* U+2019 RIGHT SINGLE QUOTATION MARK */
+        "\xE2\x80\x90",     /* U+2010 HYPHEN */
+        "\xC2\xA0",         /* U+00A0 NO-BREAK SPACE */
+        "\xE0\xA4\xBF",     /* U+093F DEVANAGARI VOWEL SIGN I (Mc) */
+        "\xE2\x85\xA4",     /* U+2164 ROMAN NUMERAL FIVE (Nl; NFKC gives V) */
+        "\xEF\xBC\x91",     /* U+FF11 FULLWIDTH DIGIT ONE (NFKC gives 1) */
+        "\xE2\x80\xA8",     /* U+2028 LINE SEPARATOR */
+    };
+    size_t np = sizeof pieces / sizeof pieces[0];
+    struct rng r;
+    rng_seed(&r, 20261202);
+    struct text_tokens t = TEXT_TOKENS_INIT;
+    static char text[1024], want[4096], got[4096];
+    for (int it = 0; it < 20000; it++) {
+        size_t len = 0, n = 1 + rng_below(&r, 40);
+        for (size_t i = 0; i < n; i++) {
+            const char *p = pieces[rng_below(&r, np)];
+            size_t pl = strlen(p);
+            memcpy(text + len, p, pl);
+            len += pl;
+        }
+        text[len] = '\0';
+        struct text_options o = { 0, 0, 0, it % 2 };
+        size_t nl;
+        char *norm = text_normalize(text, len, &o, &nl);
+        cr_assert_not_null(norm);
+        reference_split(norm, nl, o.mask_number, want, sizeof want);
+        free(norm);
+        struct err e = ERR_INIT;
+        text_tokens_clear(&t);
+        cr_assert_geq(text_tokenize(text, len, &o, &t, &e), 0, "%s", e.msg);
+        got[0] = '\0'; /* join_tokens writes nothing for no tokens */
+        join_tokens(&t, got, sizeof got);
+        cr_assert_str_eq(got, want, "text '%s'", text);
+    }
+    text_tokens_release(&t);
+}

@@ -84,6 +84,21 @@ void features_alloc(const featurizer *f, size_t n, struct fmat *X);
 void features_transform_tokens(const featurizer *f, const char *const *toks, size_t ntok, struct fmat *X, size_t i,
                                struct features_stats *st);
 
+/* A memo of each word's vector row and training id for one thread's
+ * stream of texts (streaming prediction): a word met again is found in one
+ * small table instead of the packed store and the training vocabulary.  It
+ * starts afresh once it holds about 65,000 words, so its memory does not
+ * grow with the number of rows.  Owned by the caller; NULL-safe free. */
+typedef struct features_memo features_memo;
+features_memo *features_memo_new(const featurizer *f); /* borrows f: keep it alive */
+void features_memo_free(features_memo *mm);
+
+/* features_transform_tokens() through the memo 'mm' (made for 'f'): the
+ * same numbers, bit for bit.  lens[q] is strlen(toks[q]) (NULL: measured
+ * here).  One memo per thread: a memo is not thread-safe, f still is. */
+void features_transform_memo(const featurizer *f, features_memo *mm, const char *const *toks, const size_t *lens,
+                             size_t ntok, struct fmat *X, size_t i, struct features_stats *st);
+
 /* The word-level decomposition used to explain a prediction (mean, tfidf,
  * sif only): the pooled, UNSCALED vector is sum_j c_j v_{w_j} (+ for sif the
  * component removal, which is linear too).  For each distinct token with a

@@ -1,10 +1,10 @@
 /* cmd_predict.c -- `vecsift predict`: route the rows of a CSV with a model.
  *
- * Streams: rows are read in batches, each batch is featurized and scored by
- * the worker threads (each takes a contiguous slice), then written in input
- * order.  Every row's output depends on that row and the model alone, so
- * the output is identical for any --threads and for any split of the input
- * into parts.
+ * Streams: rows are read in batches; while the threads score one batch
+ * (predict_run.c), the main thread writes the previous one, in input order,
+ * and reads the next.  Every row's output depends on that row and the model
+ * alone, so the output is identical for any --threads and for any split of
+ * the input into parts.
  */
 #include <math.h>
 #include <pthread.h>
@@ -23,8 +23,7 @@
 #include "vecsift/pipeline.h"
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
-
-#define BATCH 4096
+#include "predict_run.h"
 
 static const struct cli_opt opts[] = {
     { "output", 'o', "<file>", "where to write the routed rows (default: - for stdout)" },
@@ -52,87 +51,6 @@ const struct cli_cmd cmd_predict_info = {
     "watch each queue's precision over time.  Input and output may be '-'."
 };
 
-struct job {
-    const pipeline *pipe;
-    const struct model *m;
-    size_t ncols, ntextcol;
-    const long *textcol;
-    size_t top, explain;
-    double cut;
-    /* the batch: cells (n x ncols), owned */
-    char **cells;
-    size_t n;
-    /* results */
-    int *label;         /* (n) */
-    double *prob;       /* (n x K) */
-    char **why;         /* (n) explanation text or NULL */
-    int *empty;         /* (n) */
-    size_t from, to;    /* this worker's slice */
-};
-
-static void *work(void *arg)
-{
-    struct job *j = arg;
-    size_t K = j->m->k;
-    const featurizer *f = pipeline_featurizer(j->pipe);
-    struct text_tokens tt = TEXT_TOKENS_INIT;
-    struct fmat X = FMAT_INIT;
-    const char **ptr = NULL;
-    size_t cap = 0, tlen = 0, tcap = 0;
-    char *text = NULL;
-    const char **parts = xcalloc(j->ntextcol, sizeof *parts);
-    const char **words = j->explain ? xcalloc(j->explain, sizeof *words) : NULL;
-    double *push = j->explain ? xcalloc(j->explain, sizeof *push) : NULL;
-    for (size_t r = j->from; r < j->to; r++) {
-        /* the text columns joined as the training rows were */
-        for (size_t t = 0; t < j->ntextcol; t++)
-            parts[t] = j->cells[r * j->ncols + (size_t)j->textcol[t]];
-        tlen = dataset_join_text(&text, &tcap, parts, j->ntextcol);
-        text_tokens_clear(&tt);
-        struct err e = ERR_INIT;
-        if (text_tokenize(text, tlen, &j->m->text, &tt, &e) < 0)
-            text_tokens_clear(&tt); /* cannot happen: the reader checked UTF-8 */
-        ptr = xgrow(ptr, &cap, tt.n + 1, sizeof *ptr);
-        for (size_t q = 0; q < tt.n; q++)
-            ptr[q] = text_token(&tt, q);
-        /* A dense row is overwritten whole by each transform, so it is
-         * allocated once; a sparse one is appended to and starts afresh. */
-        if (r == j->from || features_sparse(f))
-            features_alloc(f, 1, &X);
-        struct features_stats st = { 0, 0, 0 };
-        features_transform_tokens(f, ptr, tt.n, &X, 0, &st);
-        double *pr = j->prob + r * K;
-        pipeline_proba_row(j->pipe, &X, 0, pr);
-        int best = 0;
-        for (size_t k = 1; k < K; k++)
-            if (pr[k] > pr[best])
-                best = (int)k;
-        j->label[r] = best;
-        j->empty[r] = st.with_vector == 0;
-        if (j->explain) {
-            size_t nw = pipeline_explain(j->pipe, ptr, tt.n, pr, best, j->explain, words, push);
-            size_t len = 0, bcap = 0;
-            char *b = NULL;
-            for (size_t w = 0; w < nw; w++) {
-                char item[256];
-                int il = snprintf(item, sizeof item, "%s%.80s (%+.3f)", w ? "; " : "", words[w], push[w]);
-                b = xgrow(b, &bcap, len + (size_t)il + 1, 1);
-                memcpy(b + len, item, (size_t)il + 1);
-                len += (size_t)il;
-            }
-            j->why[r] = b ? b : xstrdup("");
-        }
-    }
-    free(parts);
-    free(words);
-    free(push);
-    free(text);
-    free(ptr);
-    fmat_release(&X);
-    text_tokens_release(&tt);
-    return NULL;
-}
-
 static void cell(FILE *fp, const char *s, int first)
 {
     if (!first)
@@ -140,19 +58,19 @@ static void cell(FILE *fp, const char *s, int first)
     csv_put(fp, s, strlen(s), 1);
 }
 
-static void write_batch(FILE *fp, const struct job *j, size_t *routed, size_t *review)
+static void write_batch(FILE *fp, const struct job *j, const struct batch *bt, size_t *routed, size_t *review)
 {
     size_t K = j->m->k;
     char num[32];
-    for (size_t r = 0; r < j->n; r++) {
+    for (size_t r = 0; r < bt->n; r++) {
         for (size_t c = 0; c < j->ncols; c++)
-            cell(fp, j->cells[r * j->ncols + c], c == 0);
-        const double *pr = j->prob + r * K;
-        int best = j->label[r];
+            cell(fp, bt->cells[r * j->ncols + c], c == 0);
+        const double *pr = bt->prob + r * K;
+        int best = bt->label[r];
         cell(fp, j->m->labels[best], 0);
         snprintf(num, sizeof num, "%.4f", pr[best]);
         cell(fp, num, 0);
-        int to_review = j->empty[r] || pr[best] < j->cut;
+        int to_review = bt->empty[r] || pr[best] < j->cut;
         cell(fp, to_review ? "review" : j->m->labels[best], 0);
         *review += (size_t)to_review;
         *routed += (size_t)!to_review;
@@ -175,7 +93,7 @@ static void write_batch(FILE *fp, const struct job *j, size_t *routed, size_t *r
             free(order);
         }
         if (j->explain)
-            cell(fp, j->why[r], 0);
+            cell(fp, bt->why[r], 0);
         fputs("\r\n", fp);
     }
 }
@@ -201,27 +119,6 @@ static void write_header(FILE *fp, const csv_reader *r, long top, long explain)
     if (explain)
         cell(fp, "evidence", 0);
     fputs("\r\n", fp);
-}
-
-static void run_batch(struct job *j, int threads)
-{
-    size_t T = (size_t)threads < j->n ? (size_t)threads : (j->n ? j->n : 1);
-    struct job *parts = xcalloc(T, sizeof *parts);
-    pthread_t *tid = xcalloc(T, sizeof *tid);
-    for (size_t t = 0; t < T; t++) {
-        parts[t] = *j;
-        parts[t].from = j->n * t / T;
-        parts[t].to = j->n * (t + 1) / T;
-    }
-    for (size_t t = 1; t < T; t++)
-        if (pthread_create(&tid[t], NULL, work, &parts[t]) != 0)
-            work(&parts[t]), tid[t] = 0; /* no thread: do it here */
-    work(&parts[0]);
-    for (size_t t = 1; t < T; t++)
-        if (tid[t])
-            pthread_join(tid[t], NULL);
-    free(tid);
-    free(parts);
 }
 
 static int parse(int argc, char **argv, struct data_args *da, const char **out, double *cut, long *top,
@@ -282,6 +179,10 @@ int cmd_predict(int argc, char **argv)
     long *textcol = NULL;
     struct job j;
     memset(&j, 0, sizeof j);
+    struct batch bt[2];
+    memset(bt, 0, sizeof bt);
+    struct pool pool;
+    memset(&pool, 0, sizeof pool);
     size_t routed = 0, review = 0, rows = 0;
 
     const char *ins[] = { model_path, in, vectors };
@@ -315,6 +216,13 @@ int cmd_predict(int argc, char **argv)
     if (!(o = ofile_open(out, &e)))
         goto fail;
     FILE *fp = ofile_fp(o);
+    /* A file output gets a 256 KiB buffer instead of libc's 4 KiB: the
+     * write calls (one per buffer) showed in the profile.  Static, so it
+     * outlives the stream; stdout keeps libc's buffer, since it stays open
+     * after this function returns. */
+    static char outbuf[1 << 18];
+    if (strcmp(out, "-") != 0)
+        setvbuf(fp, outbuf, _IOFBF, sizeof outbuf);
 
     j.pipe = m.pipe;
     j.m = &m;
@@ -324,35 +232,33 @@ int cmd_predict(int argc, char **argv)
     j.top = (size_t)top;
     j.explain = (size_t)explain;
     j.cut = cut;
-    j.cells = xcalloc(xmul(BATCH, ncols), sizeof *j.cells);
-    j.label = xcalloc(BATCH, sizeof *j.label);
-    j.prob = xcalloc(xmul(BATCH, m.k), sizeof *j.prob);
-    j.empty = xcalloc(BATCH, sizeof *j.empty);
-    j.why = xcalloc(BATCH, sizeof *j.why);
-    for (;;) {
-        int got = 0;
-        j.n = 0;
-        while (j.n < BATCH && (got = csv_next(r, &e)) == 1) {
-            for (size_t c = 0; c < ncols; c++)
-                j.cells[j.n * ncols + c] = xstrndup(csv_field(r, c), csv_field_len(r, c));
-            j.n++;
+    predict_batch_init(&bt[0], ncols, m.k);
+    predict_batch_init(&bt[1], ncols, m.k);
+    int more = predict_batch_read(&bt[0], r, ncols, &e);
+    if (more < 0)
+        goto fail;
+    write_header(fp, r, top, explain);
+    predict_pool_init(&pool, &j, da.threads);
+    /* Batch 'cur' is scored while the previous one is written and the next
+     * one read. */
+    for (int cur = 0, have_prev = 0;; cur = 1 - cur, have_prev = 1) {
+        predict_pool_start(&pool, &bt[cur]);
+        if (have_prev) {
+            write_batch(fp, &j, &bt[1 - cur], &routed, &review);
+            rows += bt[1 - cur].n;
         }
+        int got = more ? predict_batch_read(&bt[1 - cur], r, ncols, &e) : 0;
+        if (!more)
+            predict_batch_clear(&bt[1 - cur]);
+        predict_pool_finish(&pool);
         if (got < 0)
             goto fail;
-        if (rows == 0)
-            write_header(fp, r, top, explain);
-        run_batch(&j, da.threads);
-        write_batch(fp, &j, &routed, &review);
-        rows += j.n;
-        for (size_t q = 0; q < j.n * ncols; q++)
-            free(j.cells[q]);
-        for (size_t q = 0; q < j.n; q++) {
-            free(j.why[q]);
-            j.why[q] = NULL;
-        }
-        j.n = 0;
-        if (got == 0)
+        if (!more) {
+            write_batch(fp, &j, &bt[cur], &routed, &review);
+            rows += bt[cur].n;
             break;
+        }
+        more = got;
     }
     if (ofile_commit(o, &e) < 0) {
         o = NULL;
@@ -368,15 +274,9 @@ int cmd_predict(int argc, char **argv)
 fail:
     rc = cli_fail(&e);
 done:
-    for (size_t q = 0; j.cells && q < j.n * j.ncols; q++)
-        free(j.cells[q]);
-    for (size_t q = 0; j.why && q < j.n; q++)
-        free(j.why[q]);
-    free(j.cells);
-    free(j.label);
-    free(j.prob);
-    free(j.empty);
-    free(j.why);
+    predict_pool_release(&pool);
+    predict_batch_release(&bt[0]);
+    predict_batch_release(&bt[1]);
     free(textcol);
     ofile_abort(o);
     csv_close(r);
