@@ -188,9 +188,19 @@ static long writer_find(const vecset_writer *w, const char *tok, size_t len, uin
     return -1;
 }
 
+float vecset_row_norm(const float *row, size_t dim)
+{
+    return (float)row_norm(row, dim);
+}
+
 int vecset_writer_add(vecset_writer *w, const char *tok, size_t len, const float *row)
 {
-    uint64_t h = vocab_hash(tok, len);
+    return vecset_writer_add_prepared(w, tok, len, vocab_hash(tok, len), vecset_row_norm(row, w->dim), row);
+}
+
+int vecset_writer_add_prepared(vecset_writer *w, const char *tok, size_t len, uint64_t h, float norm,
+                               const float *row)
+{
     if (w->n > 0 && writer_find(w, tok, len, h) >= 0)
         return 0;
     if (w->n >= MAX_COUNT)
@@ -218,7 +228,7 @@ int vecset_writer_add(vecset_writer *w, const char *tok, size_t len, const float
     w->slen += len + 1;
     w->stroff[w->n + 1] = w->slen;
     w->hashes[w->n] = h;
-    w->norms[w->n] = (float)row_norm(row, w->dim);
+    w->norms[w->n] = norm;
     index_put(w->slots, w->nslots, h, (uint32_t)w->n);
     w->fp_hash = fp_row(w->fp_hash, tok, len, row, w->dim);
     fwrite(row, sizeof(float), w->dim, w->fp);
