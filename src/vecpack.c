@@ -2,12 +2,15 @@
  *
  * The text form: a token, then D numbers, per line; spaces or tabs between;
  * an optional first line "COUNT DIM"; CRLF tolerated; blank lines skipped.
- * The input is mapped (or, for a pipe, read whole) and taken in windows of
- * a few tens of megabytes.  Each window is cut at line boundaries into one
- * chunk per thread; threads parse their chunk into their own buffers
- * (numbers through fparse.h, tokens through text_normalize_token); then the
- * chunks are handed to the writer in file order, so the output and the
- * first error reported are the same for any thread count.
+ * The input is mapped (or, for a pipe, read whole) and cut at line
+ * boundaries into chunks of about a megabyte.  Each thread takes the next
+ * chunk, parses it into a buffer of its own (numbers through fparse.h,
+ * tokens through text_normalize_token, and each row's norm and token hash,
+ * which depend on nothing else), and then hands over to the writer every
+ * parsed chunk that is next in file order, unless another thread is doing
+ * so.  The writer (first-wins dedupe, fingerprint, output) thus sees the
+ * rows in file order, so the output and the first error reported are the
+ * same for any thread count, while the other threads go on parsing.
  * It does not know the binary layout; see vecset.c.
  */
 #include "vecsift/vecset.h"
@@ -26,9 +29,10 @@
 #include "vecsift/err.h"
 #include "vecsift/fparse.h"
 #include "vecsift/text.h"
+#include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
 
-#define WINDOW_PER_THREAD (16u << 20)
+#define CHUNK_BYTES (1u << 20)
 
 /* ---- reading the whole input ---- */
 
@@ -149,6 +153,9 @@ struct chunk {
     size_t rows;                /* entries parsed */
     float *vals;                /* (rows, dim) */
     size_t vcap;
+    float *norms;               /* (rows) vecset_row_norm of each */
+    uint64_t *hashes;           /* (rows) vocab_hash of each token */
+    size_t hcap;
     char *toks;                 /* normalised tokens, NUL-terminated, back to back; */
     size_t tlen, tcap;          /* an unusable entry has the empty string */
     struct err err;             /* first error: msg without the file and line */
@@ -158,10 +165,13 @@ struct chunk {
 static void chunk_release(struct chunk *c)
 {
     free(c->vals);
+    free(c->norms);
+    free(c->hashes);
     free(c->toks);
-    c->vals = NULL;
+    c->vals = c->norms = NULL;
+    c->hashes = NULL;
     c->toks = NULL;
-    c->vcap = c->tcap = 0;
+    c->vcap = c->hcap = c->tcap = 0;
 }
 
 /* Tokens of lowercase ASCII letters and digits come out of the text
@@ -211,6 +221,19 @@ static int not_finite_word(const char *p, int n)
     return 0;
 }
 
+/* Why the number starting at p (the j-th, 0-based) could not be read. */
+static int bad_number(struct chunk *c, const char *p, const char *le, size_t j)
+{
+    int n = field_len(p, le);
+    float f;
+    const char *stop;
+    if (fparse_f32(p, le, &f, &stop) == FPARSE_RANGE && (stop == le || is_ws(*stop)))
+        return err_set(&c->err, NULL, 0, "number %zu, '%.*s', is too large for a 32-bit float", j + 1, n, p);
+    if (not_finite_word(p, n))
+        return err_set(&c->err, NULL, 0, "number %zu is '%.*s'; vector values must be finite", j + 1, n, p);
+    return err_set(&c->err, NULL, 0, "number %zu, '%.*s', is not a number", j + 1, n, p);
+}
+
 static int parse_line(struct chunk *c, const char *p, const char *le)
 {
     while (p < le && is_ws(*p))
@@ -219,6 +242,7 @@ static int parse_line(struct chunk *c, const char *p, const char *le)
     while (p < le && !is_ws(*p))
         p++;
     size_t tl = (size_t)(p - t);
+    size_t tok_at = c->tlen;
     if (plain_token(t, tl, c->to)) {
         add_token(c, t, tl);
     } else {
@@ -230,38 +254,38 @@ static int parse_line(struct chunk *c, const char *p, const char *le)
         size_t need = xmul(c->rows + 1, c->dim);
         c->vals = xgrow(c->vals, &c->vcap, need, sizeof(float));
     }
-    float *out = c->vals + c->rows * c->dim;
-    for (size_t j = 0; j < c->dim; j++) {
-        while (p < le && is_ws(*p))
-            p++;
-        if (p == le)
-            return err_set(&c->err, NULL, 0, "line has %zu numbers after the token, expected %zu", j, c->dim);
-        const char *stop;
-        int rc = fparse_f32(p, le, &out[j], &stop);
-        if (rc == FPARSE_SYNTAX || (stop < le && !is_ws(*stop))) {
-            int n = field_len(p, le);
-            if (not_finite_word(p, n))
-                return err_set(&c->err, NULL, 0, "number %zu is '%.*s'; vector values must be finite", j + 1, n, p);
-            return err_set(&c->err, NULL, 0, "number %zu, '%.*s', is not a number", j + 1, n, p);
-        }
-        if (rc == FPARSE_RANGE)
-            return err_set(&c->err, NULL, 0, "number %zu, '%.*s', is too large for a 32-bit float", j + 1,
-                           field_len(p, le), p);
-        p = stop;
+    if (c->rows + 1 > c->hcap) {
+        size_t cap = c->hcap;
+        c->norms = xgrow(c->norms, &cap, c->rows + 1, sizeof *c->norms);
+        cap = c->hcap;
+        c->hashes = xgrow(c->hashes, &cap, c->rows + 1, sizeof *c->hashes);
+        c->hcap = cap;
     }
+    float *out = c->vals + c->rows * c->dim;
+    const char *stop;
+    size_t got = fparse_f32_row(p, le, out, c->dim, &stop);
+    p = stop;
     while (p < le && is_ws(*p))
         p++;
+    if (got < c->dim) {
+        if (p == le)
+            return err_set(&c->err, NULL, 0, "line has %zu numbers after the token, expected %zu", got, c->dim);
+        return bad_number(c, p, le, got);
+    }
     if (p < le)
         return err_set(&c->err, NULL, 0, "line has %zu numbers after the token, expected %zu",
                        c->dim + count_fields(p, le), c->dim);
+    c->norms[c->rows] = vecset_row_norm(out, c->dim);
+    c->hashes[c->rows] = vocab_hash(c->toks + tok_at, c->tlen - tok_at - 1);
     c->rows++;
     return 0;
 }
 
-static void *chunk_run(void *arg)
+static void chunk_parse(struct chunk *c)
 {
-    struct chunk *c = arg;
     c->lines = c->rows = c->tlen = 0;
+    memset(&c->err, 0, sizeof c->err);
+    c->err_line = 0;
     for (const char *p = c->p; p < c->end;) {
         const char *nl = line_end(p, c->end);
         const char *le = trim(p, nl);
@@ -271,27 +295,101 @@ static void *chunk_run(void *arg)
             q++;
         if (q < le && parse_line(c, q, le) < 0) {
             c->err_line = c->lines;
-            return NULL;
+            return;
         }
         p = nl < c->end ? nl + 1 : nl;
     }
-    return NULL;
 }
 
 /* ---- the import ---- */
 
-/* Cut [p, end) at line boundaries into n pieces; cut[0] = p, cut[n] = end. */
-static void cut_lines(const char *p, const char *end, size_t n, const char **cut)
+/* The chunks of one import, taken by the threads in file order and handed
+ * to the writer in the same order.  Chunk k is parsed into slot k % nslot;
+ * a thread wanting chunk k waits while slot k % nslot still holds chunk
+ * k - nslot, not yet handed over, so memory stays at nslot chunks. */
+struct pipeline {
+    pthread_mutex_t mu;
+    pthread_cond_t cv;
+    const char *next, *end;     /* the text not yet taken */
+    size_t taken, handed;       /* chunks taken by a thread / handed to the writer */
+    int writing;                /* a thread is handing over */
+    int stop;                   /* an error was handed over: take no more */
+    struct chunk *slot;         /* (nslot) */
+    int *ready;                 /* (nslot) parsed, waiting for its turn */
+    size_t nslot;
+    /* the writer's side: touched only by the thread handing over */
+    vecset_writer *w;
+    struct vecset_pack_stats *st;
+    size_t line;                /* lines before the chunk handed next */
+    size_t entries;
+    struct err err;             /* the first error in file order, as in the chunk */
+    size_t err_line;            /* its line in the file */
+};
+
+/* Hand one parsed chunk to the writer.  Returns -1 at its error. */
+static int hand_over(struct pipeline *pl, struct chunk *c)
 {
-    cut[0] = p;
-    for (size_t i = 1; i < n; i++) {
-        const char *q = p + (size_t)(end - p) * i / n;
-        if (q < cut[i - 1])
-            q = cut[i - 1];
-        const char *nl = q < end ? memchr(q, '\n', (size_t)(end - q)) : NULL;
-        cut[i] = nl ? nl + 1 : end;
+    const char *tok = c->toks;
+    for (size_t r = 0; r < c->rows; r++) {
+        size_t tl = strlen(tok);
+        if (tl == 0)
+            pl->st->unusable++;
+        else if (!vecset_writer_add_prepared(pl->w, tok, tl, c->hashes[r], c->norms[r], c->vals + r * c->dim))
+            pl->st->merged++;
+        tok += tl + 1;
     }
-    cut[n] = end;
+    pl->entries += c->rows;
+    if (c->err.code) {
+        pl->err = c->err;
+        pl->err_line = pl->line + c->err_line;
+        return -1;
+    }
+    pl->line += c->lines;
+    return 0;
+}
+
+static void *pipeline_run(void *arg)
+{
+    struct pipeline *pl = arg;
+    pthread_mutex_lock(&pl->mu);
+    while (!pl->stop && pl->next < pl->end) {
+        size_t k = pl->taken;
+        if (k >= pl->handed + pl->nslot) {
+            pthread_cond_wait(&pl->cv, &pl->mu);
+            continue;
+        }
+        struct chunk *c = &pl->slot[k % pl->nslot];
+        c->p = pl->next;
+        if ((size_t)(pl->end - pl->next) <= CHUNK_BYTES) {
+            c->end = pl->end;
+        } else {
+            const char *q = pl->next + CHUNK_BYTES;
+            const char *nl = memchr(q, '\n', (size_t)(pl->end - q));
+            c->end = nl ? nl + 1 : pl->end;
+        }
+        pl->next = c->end;
+        pl->taken++;
+        pthread_mutex_unlock(&pl->mu);
+        chunk_parse(c);
+        pthread_mutex_lock(&pl->mu);
+        pl->ready[k % pl->nslot] = 1;
+        if (pl->writing)
+            continue; /* the thread handing over will take this one in its turn */
+        pl->writing = 1;
+        while (!pl->stop && pl->ready[pl->handed % pl->nslot]) {
+            struct chunk *h = &pl->slot[pl->handed % pl->nslot];
+            pthread_mutex_unlock(&pl->mu);
+            int rc = hand_over(pl, h);
+            pthread_mutex_lock(&pl->mu);
+            pl->ready[pl->handed % pl->nslot] = 0;
+            pl->handed++;
+            pl->stop |= rc < 0;
+            pthread_cond_broadcast(&pl->cv);
+        }
+        pl->writing = 0;
+    }
+    pthread_mutex_unlock(&pl->mu);
+    return NULL;
 }
 
 int vecset_pack_text(const char *in, const char *out, const struct text_options *to, int threads,
@@ -300,7 +398,6 @@ int vecset_pack_text(const char *in, const char *out, const struct text_options 
     struct input src;
     struct chunk *ch = NULL;
     pthread_t *tid = NULL;
-    const char **cut = NULL;
     vecset_writer *w = NULL;
     const char *name = strcmp(in, "-") == 0 ? "<stdin>" : in;
     size_t nt = threads < 1 ? 1 : threads > 64 ? 64 : (size_t)threads;
@@ -372,55 +469,34 @@ int vecset_pack_text(const char *in, const char *out, const struct text_options 
         goto out;
     st->lines = line;
 
-    ch = xcalloc(nt, sizeof *ch);
+    struct pipeline pl = { .next = p, .end = end, .nslot = 2 * nt, .w = w, .st = st, .line = line };
+    pthread_mutex_init(&pl.mu, NULL);
+    pthread_cond_init(&pl.cv, NULL);
+    pl.slot = ch = xcalloc(pl.nslot, sizeof *ch);
+    pl.ready = xcalloc(pl.nslot, sizeof *pl.ready);
+    for (size_t i = 0; i < pl.nslot; i++) {
+        ch[i].to = to;
+        ch[i].dim = dim;
+    }
     tid = xcalloc(nt, sizeof *tid);
-    cut = xcalloc(nt + 1, sizeof *cut);
-    size_t entries = 0;
-    while (p < end) {
-        size_t win = (size_t)(end - p);
-        if (win > WINDOW_PER_THREAD * nt) {
-            const char *q = p + WINDOW_PER_THREAD * nt;
-            const char *nl = memchr(q, '\n', (size_t)(end - q));
-            win = nl ? (size_t)(nl + 1 - p) : (size_t)(end - p);
-        }
-        cut_lines(p, p + win, nt, cut);
-        int started[64] = { 0 };
-        for (size_t i = 0; i < nt; i++) {
-            ch[i].p = cut[i];
-            ch[i].end = cut[i + 1];
-            ch[i].to = to;
-            ch[i].dim = dim;
-            if (i > 0)
-                started[i] = pthread_create(&tid[i], NULL, chunk_run, &ch[i]) == 0;
-        }
-        for (size_t i = 0; i < nt; i++)
-            if (!started[i])
-                chunk_run(&ch[i]);
-        for (size_t i = 0; i < nt; i++)
-            if (started[i])
-                pthread_join(tid[i], NULL);
-        /* hand over in file order; the first error in file order wins */
-        for (size_t i = 0; i < nt; i++) {
-            struct chunk *c = &ch[i];
-            const char *tok = c->toks;
-            for (size_t r = 0; r < c->rows; r++) {
-                size_t tl = strlen(tok);
-                if (tl == 0)
-                    st->unusable++;
-                else if (!vecset_writer_add(w, tok, tl, c->vals + r * dim))
-                    st->merged++;
-                tok += tl + 1;
-            }
-            entries += c->rows;
-            if (c->err.code) {
-                err_set(e, name, (long)(line + c->err_line), "%s", c->err.msg);
-                if (has_header && strstr(c->err.msg, "numbers after the token"))
-                    err_hint(e, "the header line (line %zu) says %zu numbers per line", first_line, dim);
-                goto out;
-            }
-            line += c->lines;
-        }
-        p += win;
+    int *started = xcalloc(nt, sizeof *started);
+    for (size_t i = 1; i < nt; i++)
+        started[i] = pthread_create(&tid[i], NULL, pipeline_run, &pl) == 0;
+    pipeline_run(&pl); /* this thread too; it alone does all when no thread could be had */
+    for (size_t i = 1; i < nt; i++)
+        if (started[i])
+            pthread_join(tid[i], NULL);
+    free(started);
+    free(pl.ready);
+    pthread_cond_destroy(&pl.cv);
+    pthread_mutex_destroy(&pl.mu);
+    line = pl.line;
+    size_t entries = pl.entries;
+    if (pl.err.code) {
+        err_set(e, name, (long)pl.err_line, "%s", pl.err.msg);
+        if (has_header && strstr(pl.err.msg, "numbers after the token"))
+            err_hint(e, "the header line (line %zu) says %zu numbers per line", first_line, dim);
+        goto out;
     }
     st->lines = line;
     if (entries == 0) {
@@ -440,11 +516,10 @@ int vecset_pack_text(const char *in, const char *out, const struct text_options 
     w = NULL;
 out:
     if (ch)
-        for (size_t i = 0; i < nt; i++)
+        for (size_t i = 0; i < 2 * nt; i++)
             chunk_release(&ch[i]);
     free(ch);
     free(tid);
-    free(cut);
     vecset_writer_abort(w);
     input_close(&src);
     return rc;

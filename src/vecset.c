@@ -129,16 +129,18 @@ struct vecset_writer {
     uint64_t *stroff;       /* (n+1) */
     char *strings;
     size_t slen, scap;
-    uint32_t *slots;        /* (nslots) row+1 or 0 */
-    size_t nslots;
+    uint64_t *slots;        /* (nslots) row+1 or 0 in the low half, the hash's high half */
+    size_t nslots;          /* above it, so most probes need no other memory */
 };
 
-static void index_put(uint32_t *slots, size_t nslots, uint64_t h, uint32_t row)
+#define HASH_HIGH 0xffffffff00000000ULL
+
+static void index_put(uint64_t *slots, size_t nslots, uint64_t h, uint32_t row)
 {
     size_t i = (size_t)h & (nslots - 1);
     while (slots[i])
         i = (i + 1) & (nslots - 1);
-    slots[i] = row + 1;
+    slots[i] = (h & HASH_HIGH) | ((uint64_t)row + 1);
 }
 
 vecset_writer *vecset_writer_new(const char *out, size_t dim, struct err *e)
@@ -179,18 +181,28 @@ size_t vecset_writer_count(const vecset_writer *w)
 static long writer_find(const vecset_writer *w, const char *tok, size_t len, uint64_t h)
 {
     size_t i = (size_t)h & (w->nslots - 1);
-    for (uint32_t s; (s = w->slots[i]) != 0; i = (i + 1) & (w->nslots - 1)) {
-        size_t r = s - 1;
-        if (w->hashes[r] == h && w->stroff[r + 1] - w->stroff[r] == len + 1 &&
+    for (uint64_t s; (s = w->slots[i]) != 0; i = (i + 1) & (w->nslots - 1)) {
+        size_t r = (uint32_t)s - 1;
+        if (((s ^ h) & HASH_HIGH) == 0 && w->stroff[r + 1] - w->stroff[r] == len + 1 &&
             memcmp(w->strings + w->stroff[r], tok, len) == 0)
             return (long)r;
     }
     return -1;
 }
 
+float vecset_row_norm(const float *row, size_t dim)
+{
+    return (float)row_norm(row, dim);
+}
+
 int vecset_writer_add(vecset_writer *w, const char *tok, size_t len, const float *row)
 {
-    uint64_t h = vocab_hash(tok, len);
+    return vecset_writer_add_prepared(w, tok, len, vocab_hash(tok, len), vecset_row_norm(row, w->dim), row);
+}
+
+int vecset_writer_add_prepared(vecset_writer *w, const char *tok, size_t len, uint64_t h, float norm,
+                               const float *row)
+{
     if (w->n > 0 && writer_find(w, tok, len, h) >= 0)
         return 0;
     if (w->n >= MAX_COUNT)
@@ -218,7 +230,7 @@ int vecset_writer_add(vecset_writer *w, const char *tok, size_t len, const float
     w->slen += len + 1;
     w->stroff[w->n + 1] = w->slen;
     w->hashes[w->n] = h;
-    w->norms[w->n] = (float)row_norm(row, w->dim);
+    w->norms[w->n] = norm;
     index_put(w->slots, w->nslots, h, (uint32_t)w->n);
     w->fp_hash = fp_row(w->fp_hash, tok, len, row, w->dim);
     fwrite(row, sizeof(float), w->dim, w->fp);
@@ -265,7 +277,14 @@ int vecset_writer_commit(vecset_writer *w, struct err *e)
     pad_to(w->fp, &pos, 8);
     h.index_off = pos;
     h.index_size = (uint64_t)w->nslots * sizeof(uint32_t);
-    fwrite(w->slots, sizeof(uint32_t), w->nslots, w->fp);
+    /* the stored slots are the low halves: packed to u32 in place, front
+     * to back (slot i's four bytes lie at or below slot i's own) */
+    unsigned char *packed = (unsigned char *)w->slots;
+    for (size_t i = 0; i < w->nslots; i++) {
+        uint32_t row1 = (uint32_t)w->slots[i];
+        memcpy(packed + 4 * i, &row1, 4);
+    }
+    fwrite(packed, sizeof(uint32_t), w->nslots, w->fp);
     pos += h.index_size;
     int rc = 0;
     if (fseek(w->fp, 0, SEEK_SET) != 0 || fwrite(&h, sizeof h, 1, w->fp) != 1) {

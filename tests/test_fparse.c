@@ -54,6 +54,23 @@ static void same(const char *s)
                      bits(got), (double)want, bits(want));
     }
     cr_assert_eq(stop, rend, "'%s': fparse stopped at %td, strtof at %td", s, stop - s, rend - s);
+    /* Again with more text after it, as inside a line of a vector file:
+     * numbers with at least 17 bytes to go take the eight-at-a-time path
+     * (short_decimal) when they have its shape. */
+    char padded[600];
+    size_t n = strlen(s);
+    if (n + 20 < sizeof padded) {
+        memcpy(padded, s, n);
+        memcpy(padded + n, " 0.25 -0.5 0.125 7", 19);
+        float got2 = 0;
+        rc = fparse_f32(padded, padded + n + 18, &got2, &stop);
+        cr_assert_eq(rc, isinf(want) ? FPARSE_RANGE : FPARSE_OK, "'%s' padded: rc %d", s, rc);
+        if (rc == FPARSE_OK)
+            cr_assert_eq(bits(got2), bits(want), "'%s' padded: fparse %a, strtof %a", s, (double)got2,
+                         (double)want);
+        cr_assert_eq(stop - padded, rend - s, "'%s' padded: stopped at %td, strtof at %td", s, stop - padded,
+                     rend - s);
+    }
 }
 
 /* A random decimal: sign, 1..max_digits digits with a point somewhere (or
@@ -202,4 +219,91 @@ Test(fparse, stops_at_end)
     cr_assert_eq(fparse_f32(s, s + 3, &f, &stop), FPARSE_OK);
     cr_assert_eq(f, 123.0f);
     cr_assert_eq(stop, s + 3);
+}
+
+/* Every number of the two shapes vector files are mostly made of, six
+ * decimals with a sign and seven without ("-0.dddddd", "0.ddddddd"), plus
+ * every 1 to 3 digit integer part with 1 to 4 decimals, in the middle of a
+ * line (the eight-at-a-time path) and at its end (the general one): each
+ * equals strtof.  11,000,000+ strings. */
+Test(fparse, vector_file_shapes_exhaustive, .timeout = 120)
+{
+    char buf[64];
+    long n = 0;
+    for (long k = 0; k < 1000000; k++) {
+        snprintf(buf, sizeof buf, "-0.%06ld", k);
+        same(buf);
+        n++;
+    }
+    for (long k = 0; k < 10000000; k++) {
+        snprintf(buf, sizeof buf, "0.%07ld", k);
+        char *rend;
+        float want = strtof(buf, &rend), got;
+        const char *stop;
+        /* 'same' would also call the end-of-line path; here the middle */
+        memcpy(buf + 9, " 0.5 0.25 0.125 0.0625", 23);
+        cr_assert_eq(fparse_f32(buf, buf + 31, &got, &stop), FPARSE_OK);
+        cr_assert_eq(bits(got), bits(want), "'%.9s': fparse %a, strtof %a", buf, (double)got, (double)want);
+        cr_assert_eq(stop, buf + 9);
+        n++;
+    }
+    for (int ip = 0; ip < 1000; ip++)
+        for (int nd = 1; nd <= 4; nd++)
+            for (int f = 0; f < 10000; f += nd < 4 ? 1 : 7) {
+                int lim = nd == 1 ? 10 : nd == 2 ? 100 : nd == 3 ? 1000 : 10000;
+                if (f >= lim)
+                    break;
+                snprintf(buf, sizeof buf, "%s%d.%0*d", (ip + f) % 3 ? "" : "-", ip, nd, f);
+                same(buf);
+                n++;
+            }
+    cr_log_info("fparse vs strtof: %ld vector-file numbers", n);
+}
+
+/* fparse_f32_row gives what fparse_f32 gives field by field, stops at the
+ * first field that is not a number, and reports where. */
+Test(fparse, row_equals_field_by_field)
+{
+    struct rng r;
+    rng_seed(&r, 5);
+    char line[4096];
+    for (int t = 0; t < 2000; t++) {
+        size_t len = 0, nf = 1 + rng_below(&r, 40);
+        for (size_t i = 0; i < nf; i++) {
+            len += (size_t)snprintf(line + len, sizeof line - len, "%s", rng_below(&r, 5) ? " " : " \t ");
+            random_decimal(&r, line + len, 9, -12, 12);
+            len += strlen(line + len);
+        }
+        float got[64], want;
+        const char *stop;
+        size_t k = fparse_f32_row(line, line + len, got, nf, &stop);
+        cr_assert_eq(k, nf, "'%s': read %zu of %zu", line, k, nf);
+        cr_assert_eq(stop, line + len);
+        const char *p = line;
+        for (size_t i = 0; i < nf; i++) {
+            while (*p == ' ' || *p == '\t')
+                p++;
+            char *rend;
+            want = strtof(p, &rend); /* the C library, field by field */
+            cr_assert_eq(bits(got[i]), bits(want), "'%s' field %zu", line, i);
+            p = rend;
+        }
+        /* asking for fewer stops after the last one asked for */
+        if (nf > 1) {
+            k = fparse_f32_row(line, line + len, got, nf - 1, &stop);
+            cr_assert_eq(k, nf - 1);
+            cr_assert(stop < line + len && (*stop == ' ' || *stop == '\t'));
+        }
+    }
+    const char *bad = " 0.5 -0.25 0.1x 4";
+    float v[4];
+    const char *stop;
+    cr_assert_eq(fparse_f32_row(bad, bad + strlen(bad), v, 4, &stop), 2);
+    cr_assert_eq(stop, bad + 10);
+    const char *big = "0.5 1e39 2";
+    cr_assert_eq(fparse_f32_row(big, big + strlen(big), v, 3, &stop), 1);
+    cr_assert_eq(stop, big + 3);
+    const char *few = "1 2";
+    cr_assert_eq(fparse_f32_row(few, few + 3, v, 3, &stop), 2);
+    cr_assert_eq(stop, few + 3);
 }

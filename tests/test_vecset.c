@@ -201,31 +201,119 @@ Test(vecset, pack_bad_inputs)
     }
 }
 
-/* The same file packed with 1 and 3 threads, in windows: same bytes. */
-Test(vecset, pack_same_for_any_thread_count)
+static char *slurp(const char *path, size_t *len)
 {
-    struct err e = ERR_INIT;
-    struct vecset_pack_stats st;
+    FILE *fp = fopen(path, "rb");
+    cr_assert_not_null(fp, "%s", path);
+    fseek(fp, 0, SEEK_END);
+    *len = (size_t)ftell(fp);
+    rewind(fp);
+    char *b = malloc(*len + 1);
+    cr_assert_eq(fread(b, 1, *len, fp), *len);
+    fclose(fp);
+    return b;
+}
+
+/* A text of 'lines' entries of 'dim' random numbers, printed in a few
+ * shapes, with every 30th token repeated (first wins) and a few tokens that
+ * normalise (upper case, accents) onto earlier ones. */
+static char *big_text(int lines, int dim, size_t *len)
+{
     struct rng r;
     rng_seed(&r, 11);
-    size_t cap = 1 << 20, len = 0;
+    size_t cap = (size_t)lines * (size_t)(dim * 16 + 32) + 1;
     char *text = malloc(cap);
-    for (int i = 0; i < 3000; i++) {
-        len += (size_t)snprintf(text + len, cap - len, "w%d", i % 2900);
-        for (int j = 0; j < 20; j++)
-            len += (size_t)snprintf(text + len, cap - len, " %.7g", rng_normal(&r));
-        text[len++] = '\n';
+    *len = 0;
+    for (int i = 0; i < lines; i++) {
+        if (i % 97 == 5)
+            *len += (size_t)snprintf(text + *len, cap - *len, "W%d", i - 3); /* upper case: merges */
+        else
+            *len += (size_t)snprintf(text + *len, cap - *len, "w%d", i % 30 == 29 ? i - 7 : i);
+        for (int j = 0; j < dim; j++) {
+            double x = 0.4 * rng_normal(&r);
+            const char *fmt = (i + j) % 5 == 0 ? "\t%.7g" : (i + j) % 5 == 1 ? " %.9g" : " %.6f";
+            *len += (size_t)snprintf(text + *len, cap - *len, fmt, x);
+        }
+        text[(*len)++] = i % 11 == 0 ? '\r' : '\n';
+        if (text[*len - 1] == '\r')
+            text[(*len)++] = '\n';
     }
-    text[len] = '\0';
-    const char *a = tmp(0, "t1.vecs"), *b = tmp(1, "t3.vecs");
-    cr_assert_eq(pack(text, a, 1, &st, &e), 0, "%s", e.msg);
-    cr_assert_eq(st.merged, 100);
-    cr_assert_eq(pack(text, b, 3, &st, &e), 0, "%s", e.msg);
+    text[*len] = '\0';
+    return text;
+}
+
+/* A file of several chunks (about 7 MB; chunks are 1 MB) packed with 1,
+ * 2, 3 and 5 threads: the same bytes, the same counts.  Rows, first-wins
+ * dedupe and the fingerprint follow file order whatever thread parsed
+ * what. */
+Test(vecset, pack_same_bytes_for_any_thread_count, .timeout = 60)
+{
+    struct err e = ERR_INIT;
+    struct vecset_pack_stats st, st1;
+    size_t len;
+    char *text = big_text(12000, 50, &len);
+    cr_assert_gt(len, 5u << 20);
+    const char *a = tmp(0, "t1.vecs"), *b = tmp(1, "tn.vecs");
+    cr_assert_eq(pack(text, a, 1, &st1, &e), 0, "%s", e.msg);
+    /* which lines repeat a token (after case folding) that came before */
+    static char seen[12000];
+    size_t want = 0;
+    for (int i = 0; i < 12000; i++) {
+        int id = i % 97 == 5 ? i - 3 : i % 30 == 29 ? i - 7 : i;
+        want += seen[id];
+        seen[id] = 1;
+    }
+    cr_assert_eq(st1.merged, want, "merged %zu, expected %zu", st1.merged, want);
+    cr_assert_eq(st1.rows + st1.merged, 12000);
+    size_t la, lb;
+    char *ba = slurp(a, &la);
+    int counts[] = { 2, 3, 5 };
+    for (int k = 0; k < 3; k++) {
+        cr_assert_eq(pack(text, b, counts[k], &st, &e), 0, "%s", e.msg);
+        char *bb = slurp(b, &lb);
+        cr_assert_eq(lb, la, "%d threads: %zu bytes, 1 thread %zu", counts[k], lb, la);
+        cr_assert_eq(memcmp(ba, bb, la), 0, "%d threads: different bytes", counts[k]);
+        cr_assert_eq(st.rows, st1.rows);
+        cr_assert_eq(st.merged, st1.merged);
+        cr_assert_eq(st.lines, st1.lines);
+        free(bb);
+    }
+    free(ba);
     free(text);
-    vecset *va = vecset_open(a, &e), *vb = vecset_open(b, &e);
-    cr_assert_eq(vecset_fingerprint(va), vecset_fingerprint(vb));
-    vecset_close(va);
-    vecset_close(vb);
+}
+
+/* Two bad lines in different chunks: every thread count names the first. */
+Test(vecset, pack_first_error_for_any_thread_count, .timeout = 60)
+{
+    size_t len;
+    char *text = big_text(12000, 50, &len);
+    /* line 2001 (in the second or third chunk) gets a word for a number,
+     * line 9001 (a later chunk) a missing number */
+    char *l2001 = text, *l9001;
+    for (int i = 0; i < 2000; i++)
+        l2001 = strchr(l2001, '\n') + 1;
+    l9001 = l2001;
+    for (int i = 2000; i < 9000; i++)
+        l9001 = strchr(l9001, '\n') + 1;
+    char *nl = strchr(l9001, '\n');
+    char *sp = nl;
+    while (*sp != ' ' && *sp != '\t')
+        sp--;
+    memset(sp, ' ', (size_t)(nl - sp)); /* the last number blanked */
+    char *f = strchr(l2001, ' ') ? strchr(l2001, ' ') : strchr(l2001, '\t');
+    char *g = strchr(l2001, '\t');
+    if (g && g < f)
+        f = g;
+    memcpy(f + 1, "abc", 3);
+    for (int t = 1; t <= 4; t++) {
+        struct err e = ERR_INIT;
+        struct vecset_pack_stats st;
+        const char *out = tmp(1, "bad.vecs");
+        cr_assert_eq(pack(text, out, t, &st, &e), -1);
+        cr_assert(strstr(e.msg, "in.txt:2001: number 1, 'abc"), "%d threads: %s", t, e.msg);
+        cr_assert_eq(access(out, F_OK), -1);
+    }
+    free(text);
 }
 
 Test(vecset, export_then_pack_keeps_fingerprint)

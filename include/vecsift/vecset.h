@@ -84,6 +84,13 @@ vecset_writer *vecset_writer_new(const char *out, size_t dim, struct err *e);
  * floats.  Returns 1 when added, 0 when the token is already there (the row
  * is dropped: first wins). */
 int vecset_writer_add(vecset_writer *w, const char *tok, size_t len, const float *row);
+/* vecset_writer_add with the work that does not depend on earlier rows
+ * done by the caller (an importer does it on several threads): 'hash' must
+ * be vocab_hash(tok, len) and 'norm' vecset_row_norm(row, dim). */
+int vecset_writer_add_prepared(vecset_writer *w, const char *tok, size_t len, uint64_t hash, float norm,
+                               const float *row);
+/* The Euclidean norm stored for a row: summed in double, rounded to float. */
+float vecset_row_norm(const float *row, size_t dim);
 size_t vecset_writer_count(const vecset_writer *w);
 /* Finish the file and move it into place.  Frees 'w'.  Returns 0 or -1
  * with 'e' set (ERR_IO), leaving no output. */
