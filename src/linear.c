@@ -21,6 +21,7 @@
 #include "vecsift/fmat.h"
 #include "vecsift/lbfgs.h"
 #include "vecsift/xalloc.h"
+#include "vec4.h"
 
 /* ---- the objective ---- */
 
@@ -79,25 +80,9 @@ static double softmax_inplace(double *z, size_t k)
  * over columns j mod 4 (the four lanes), finished as s0 + tail +
  * (s1 + s2 + s3); a gradient element is summed over the rows in order.
  *
- * Four-lane vectors (GCC/Clang vector extension).  On x86-64 the kernels
- * are also compiled for AVX2 and the loader picks that copy where the CPU
- * has it (target_clones); plain lane-wise IEEE multiplies and adds, never
- * fused (AVX2 does not enable FMA), so both copies give the same bits. */
-typedef double v4d __attribute__((vector_size(4 * sizeof(double))));
+ * Four-lane vectors from vec4.h; the AVX2 and plain copies give the same
+ * bits. */
 #define KMAX 8
-#if defined(__x86_64__) && defined(__linux__) && (defined(__GNUC__) || defined(__clang__))
-#define KERNEL_CLONES __attribute__((target_clones("avx2", "default")))
-#else
-#define KERNEL_CLONES
-#endif
-
-/* Unaligned loads and stores (memcpy: no aliasing or alignment
- * assumption; compiled to single moves).  Macros, not functions: a v4d
- * passed by value outside the AVX copy would trip GCC's ABI warning. */
-#define LOAD4(v, p) memcpy(&(v), (p), sizeof(v4d))
-#define STORE4(p, v) memcpy((p), &(v), sizeof(v4d))
-/* Loops over the K classes are unrolled in full, so acc[] is registers. */
-#define UNROLL _Pragma("GCC unroll 8")
 
 /* z[c] = x . W_c for c < K (K a constant once inlined, so acc[] lives in
  * registers). */
@@ -105,20 +90,20 @@ static inline __attribute__((always_inline)) void scores_row(const double *x, co
                                                              size_t K, double *z)
 {
     v4d acc[KMAX];
-    UNROLL
+    VEC4_UNROLL
     for (size_t c = 0; c < K; c++)
         acc[c] = (v4d){ 0, 0, 0, 0 };
     size_t j = 0;
     for (; j + 4 <= d; j += 4) {
         v4d xv, wv;
-        LOAD4(xv, x + j);
-        UNROLL
+        VEC4_LOAD(xv, x + j);
+        VEC4_UNROLL
         for (size_t c = 0; c < K; c++) {
-            LOAD4(wv, W + c * d + j);
+            VEC4_LOAD(wv, W + c * d + j);
             acc[c] += xv * wv;
         }
     }
-    UNROLL
+    VEC4_UNROLL
     for (size_t c = 0; c < K; c++) {
         double s = acc[c][0];
         for (size_t t = j; t < d; t++)
@@ -135,20 +120,20 @@ static inline __attribute__((always_inline)) void gemm_tn_rows(const double *X, 
     size_t j = 0;
     for (; j + 4 <= d; j += 4) {
         v4d acc[KMAX];
-        UNROLL
+        VEC4_UNROLL
         for (size_t c = 0; c < K; c++)
-            LOAD4(acc[c], G + c * d + j);
+            VEC4_LOAD(acc[c], G + c * d + j);
         for (size_t i = 0; i < n; i++) {
             v4d xv;
-            LOAD4(xv, X + i * d + j);
+            VEC4_LOAD(xv, X + i * d + j);
             const double *r = R + i * K;
-            UNROLL
+            VEC4_UNROLL
             for (size_t c = 0; c < K; c++)
-                acc[c] += (v4d){ r[c], r[c], r[c], r[c] } * xv;
+                acc[c] += VEC4_SPLAT(r[c]) * xv;
         }
-        UNROLL
+        VEC4_UNROLL
         for (size_t c = 0; c < K; c++)
-            STORE4(G + c * d + j, acc[c]);
+            VEC4_STORE(G + c * d + j, acc[c]);
     }
     for (size_t i = 0; i < n && j < d; i++)
         for (size_t c = 0; c < K; c++)
@@ -167,7 +152,7 @@ static inline __attribute__((always_inline)) void gemm_tn_rows(const double *X, 
     case 8: CALL(8); break
 
 /* Z (n, K) = X W^T, row by row. */
-KERNEL_CLONES static void dense_scores(const double *X, size_t n, size_t d, const double *W, size_t k, double *Z)
+VEC4_CLONES static void dense_scores(const double *X, size_t n, size_t d, const double *W, size_t k, double *Z)
 {
 #define SCORES(K) for (size_t i = 0; i < n; i++) scores_row(X + i * d, W, d, K, Z + i * (K))
     switch (k) {
@@ -177,7 +162,7 @@ KERNEL_CLONES static void dense_scores(const double *X, size_t n, size_t d, cons
 #undef SCORES
 }
 
-KERNEL_CLONES static void dense_gemm_tn(const double *X, size_t n, size_t d, const double *R, size_t k, double *G)
+VEC4_CLONES static void dense_gemm_tn(const double *X, size_t n, size_t d, const double *R, size_t k, double *G)
 {
 #define GEMM(K) gemm_tn_rows(X, n, d, R, K, G)
     switch (k) {
