@@ -59,7 +59,7 @@ static int inner_score(const struct pipeline_spec *s, const struct corpus *c, co
             rc = -1;
             break;
         }
-        pipeline_proba(p, &c->docs, te, nte, P, NULL);
+        pipeline_proba_cached(p, cache, &c->docs, te, nte, P, NULL);
         for (size_t i = 0; i < nte; i++)
             metrics_add(m, c->ds.y[te[i]], argmax(P + i * K, K), P + i * K, NULL);
         pipeline_free(p);
@@ -232,7 +232,7 @@ static void one_fold(void *arg, size_t task)
     o->unconverged = !info.converged;
     o->tiny = info.tiny_label;
     double *P = xcalloc(xmul(nte ? nte : 1, K), sizeof *P);
-    pipeline_proba(pl, &x->c->docs, te, nte, P, &o->st);
+    pipeline_proba_cached(pl, x->cache, &x->c->docs, te, nte, P, &o->st);
     double *dst = r->proba + rep * N * K;
     for (size_t i = 0; i < nte; i++)
         memcpy(dst + te[i] * K, P + i * K, K * sizeof *P);

@@ -635,6 +635,28 @@ featurizer *features_fit_transform(const struct features_params *p, const struct
     return f;
 }
 
+void features_transform_cached(const featurizer *f, const features_cache *cache, const struct tokdocs *d,
+                               const size_t *rows, size_t n, struct fmat *X, struct features_stats *st)
+{
+    if (!cache || !cache->x || f->p.pool != POOL_MEAN) {
+        features_transform(f, d, rows, n, X, st);
+        return;
+    }
+    assert(cache->n == d->n && cache->E == f->D);
+    features_alloc(f, n, X);
+    for (size_t i = 0; i < n; i++) {
+        const struct features_stats *cs = &cache->st[rows[i]];
+        double *x = X->x + i * f->D;
+        memcpy(x, cache->x + rows[i] * f->D, f->D * sizeof *x);
+        if (st) {
+            st->tokens += cs->tokens;
+            st->with_vector += cs->with_vector;
+            st->empty_rows += cs->empty_rows;
+        }
+        scale_row(f, x);
+    }
+}
+
 size_t features_word_weights(const featurizer *f, const char *const *toks, size_t ntok, const char **words,
                              double *coef)
 {

@@ -145,8 +145,14 @@ void pipeline_proba_row(const pipeline *p, const struct fmat *X, size_t i, doubl
 void pipeline_proba(const pipeline *p, const struct tokdocs *d, const size_t *rows, size_t n, double *P,
                     struct features_stats *st)
 {
+    pipeline_proba_cached(p, NULL, d, rows, n, P, st);
+}
+
+void pipeline_proba_cached(const pipeline *p, const features_cache *cache, const struct tokdocs *d,
+                           const size_t *rows, size_t n, double *P, struct features_stats *st)
+{
     struct fmat X = FMAT_INIT;
-    features_transform(p->f, d, rows, n, &X, st);
+    features_transform_cached(p->f, cache, d, rows, n, &X, st);
     for (size_t i = 0; i < n; i++)
         pipeline_proba_row(p, &X, i, P + i * p->k);
     fmat_release(&X);

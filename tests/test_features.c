@@ -337,7 +337,8 @@ Test(features, load_rejects_damaged_fields)
 
 /* features_fit_transform (with and without the pooled-row cache) promises
  * exactly what features_fit then features_transform of the same rows give:
- * same bits in X, same counts, same scaler.  Rows picked out of order and
+ * same bits in X, same counts, same scaler; features_transform_cached the
+ * same as features_transform for held-out rows.  Rows picked out of order and
  * leaving some out, as a fold does; texts with unknown words, repeats and
  * no words at all. */
 Test(features, fit_transform_equals_fit_then_transform)
@@ -384,6 +385,19 @@ Test(features, fit_transform_equals_fit_then_transform)
                 cr_assert((m0 == NULL) == (m1 == NULL));
                 if (m0)
                     cr_assert(memcmp(m0, m1, 3 * sizeof *m0) == 0 && memcmp(s0, s1, 3 * sizeof *s0) == 0);
+                /* the rows the fit left out, through the cache */
+                size_t held[] = { 5, 3 };
+                struct fmat H = FMAT_INIT, Hw = FMAT_INIT;
+                struct features_stats sh = { 0, 0, 0 }, shw = { 0, 0, 0 };
+                features_transform(f, &d, held, 2, &Hw, &shw);
+                features_transform_cached(f, cached ? cache : NULL, &d, held, 2, &H, &sh);
+                cr_assert(sh.tokens == shw.tokens && sh.with_vector == shw.with_vector &&
+                          sh.empty_rows == shw.empty_rows);
+                if (!H.sparse)
+                    cr_assert(memcmp(H.x, Hw.x, 2 * H.d * sizeof *H.x) == 0,
+                              "pool %s scale %d cached %d: held-out rows differ", name, scale, cached);
+                fmat_release(&H);
+                fmat_release(&Hw);
                 fmat_release(&X);
                 features_free(g);
             }

@@ -98,6 +98,11 @@ featurizer *features_fit_transform(const struct features_params *p, const struct
                                    size_t n, const struct vecset *vs, const features_cache *cache, struct fmat *X,
                                    struct features_stats *st, struct err *e);
 
+/* features_transform with pooled rows from 'cache' (made from the same
+ * 'd' and vector set; may be NULL): the same X and counts, bit for bit. */
+void features_transform_cached(const featurizer *f, const features_cache *cache, const struct tokdocs *d,
+                               const size_t *rows, size_t n, struct fmat *X, struct features_stats *st);
+
 /* One text given as token strings into row 'i' of a matrix made with
  * features_alloc (for streaming prediction).  Thread-safe. */
 void features_alloc(const featurizer *f, size_t n, struct fmat *X);

@@ -69,6 +69,10 @@ const struct pipeline_spec *pipeline_spec(const pipeline *p);
 /* Probabilities (n x K, row-major) for rows[0..n) of 'd'.  'st' may be NULL. */
 void pipeline_proba(const pipeline *p, const struct tokdocs *d, const size_t *rows, size_t n, double *P,
                     struct features_stats *st);
+/* pipeline_proba with pooled rows from 'cache' (as for
+ * pipeline_fit_cached; may be NULL): the same numbers. */
+void pipeline_proba_cached(const pipeline *p, const features_cache *cache, const struct tokdocs *d,
+                           const size_t *rows, size_t n, double *P, struct features_stats *st);
 /* Probabilities (K) for row i of an already featurized matrix. */
 void pipeline_proba_row(const pipeline *p, const struct fmat *X, size_t i, double *prob);
 
