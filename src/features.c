@@ -389,6 +389,12 @@ struct features_cache {
     size_t n, E;
     double *x;                    /* (N, E) unscaled pooled rows, or NULL */
     struct features_stats *st;    /* (N) what pooling each row saw */
+    /* Pooling (not bow): each document's distinct tokens, as ids of the
+     * documents' vocabulary, in order of first appearance, with counts:
+     * what bag_make finds, so fit() counts df without hashing strings. */
+    size_t *boff;                 /* (N+1), or NULL */
+    int32_t *btok;                /* (boff[N]) */
+    double *btf;                  /* (boff[N]) */
 };
 
 /* features_fit, and with 'Xout' the training rows pooled (and SIF's
@@ -420,7 +426,35 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
     double *df = NULL, *cnt = NULL;
     const char **buf = NULL;
     double total = 0;
-    for (size_t i = 0; i < n; i++) {
+    int32_t *order = NULL;  /* with cached bags: id in 'all' -> token id */
+    size_t V = 0;
+    if (cache && cache->boff) {
+        /* The same first-appearance order and sums as the loop below, by
+         * token id: 'all' gets its words in that order afterwards. */
+        size_t nv = vocab_size(d->v);
+        int32_t *map = xmalloc(xmul(nv ? nv : 1, sizeof *map));
+        for (size_t t = 0; t < nv; t++)
+            map[t] = -1;
+        order = xmalloc(xmul(nv ? nv : 1, sizeof *order));
+        df = xcalloc(nv ? nv : 1, sizeof *df);
+        cnt = xcalloc(nv ? nv : 1, sizeof *cnt);
+        for (size_t i = 0; i < n; i++)
+            for (size_t q = cache->boff[rows[i]]; q < cache->boff[rows[i] + 1]; q++) {
+                int32_t t = cache->btok[q];
+                if (map[t] < 0) {
+                    map[t] = (int32_t)V;
+                    order[V++] = t;
+                }
+                df[map[t]] += 1;
+                cnt[map[t]] += cache->btf[q];
+                total += cache->btf[q];
+            }
+        for (size_t id = 0; id < V; id++)
+            vocab_add(all, vocab_word(d->v, order[id]));
+        free(map);
+        free(order);
+    }
+    for (size_t i = 0; i < n && !(cache && cache->boff); i++) {
         buf = doc_tokens(d, rows[i], buf, &cap, &ntok);
         struct bag b;
         bag_make(&b, buf, ntok, p->pool == POOL_BOW && p->bigrams);
@@ -442,7 +476,7 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
         bag_release(&b);
     }
 
-    size_t V = vocab_size(all);
+    V = vocab_size(all);
     f->words = vocab_new();
     for (size_t id = 0; id < V; id++) {
         if (p->pool == POOL_BOW && df[id] < (double)p->min_df)
@@ -584,7 +618,28 @@ features_cache *features_cache_new(const struct features_params *p, const struct
 {
     features_cache *c = xcalloc(1, sizeof *c);
     c->n = d->n;
-    if (p->pool != POOL_MEAN || !vs || d->n == 0)
+    if (p->pool == POOL_BOW || !vs || d->n == 0)
+        return c;
+    c->boff = xcalloc(d->n + 1, sizeof *c->boff);
+    c->btok = xcalloc(d->off[d->n] ? d->off[d->n] : 1, sizeof *c->btok);
+    c->btf = xcalloc(d->off[d->n] ? d->off[d->n] : 1, sizeof *c->btf);
+    {
+        const char **buf = NULL;
+        size_t cap = 0, ntok, m = 0;
+        for (size_t r = 0; r < d->n; r++) {
+            buf = doc_tokens(d, r, buf, &cap, &ntok);
+            struct bag b;
+            bag_make(&b, buf, ntok, 0);
+            for (size_t j = 0; j < b.n; j++) {
+                c->btok[m] = vocab_find_hashed(d->v, b.term[j], b.hash[j]);
+                c->btf[m++] = b.tf[j];
+            }
+            c->boff[r + 1] = m;
+            bag_release(&b);
+        }
+        free(buf);
+    }
+    if (p->pool != POOL_MEAN)
         return c;
     /* Mean pooling reads nothing fitted (word_coefs looks a word up in
      * f->words but ignores the answer), so an empty featurizer pools
@@ -613,6 +668,9 @@ void features_cache_free(features_cache *c)
         return;
     free(c->x);
     free(c->st);
+    free(c->boff);
+    free(c->btok);
+    free(c->btf);
     free(c);
 }
 

@@ -385,6 +385,17 @@ Test(features, fit_transform_equals_fit_then_transform)
                 cr_assert((m0 == NULL) == (m1 == NULL));
                 if (m0)
                     cr_assert(memcmp(m0, m1, 3 * sizeof *m0) == 0 && memcmp(s0, s1, 3 * sizeof *s0) == 0);
+                /* everything a model file keeps (words, idf, word
+                 * probabilities, component, scaler), printed exactly */
+                cJSON *jf = cJSON_CreateObject(), *jg = cJSON_CreateObject();
+                features_save(f, jf);
+                features_save(g, jg);
+                char *tf = cJSON_PrintUnformatted(jf), *tg = cJSON_PrintUnformatted(jg);
+                cr_assert_str_eq(tg, tf, "pool %s scale %d cached %d: saved featurizers differ", name, scale, cached);
+                cJSON_free(tf);
+                cJSON_free(tg);
+                cJSON_Delete(jf);
+                cJSON_Delete(jg);
                 /* the rows the fit left out, through the cache */
                 size_t held[] = { 5, 3 };
                 struct fmat H = FMAT_INIT, Hw = FMAT_INIT;

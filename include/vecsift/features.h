@@ -78,12 +78,15 @@ const struct features_params *features_params(const featurizer *f);
 void features_transform(const featurizer *f, const struct tokdocs *d, const size_t *rows, size_t n, struct fmat *X,
                         struct features_stats *st);
 
-/* Pooled rows computed once for many fits over subsets of the same
- * documents (cross-validation).  Only pooling that reads nothing fitted is
- * kept (mean: each row's vector depends on that row alone, so no fold
- * learns from another's rows); for other poolings the cache is empty and
- * changes nothing.  Owns its memory; 'd' and 'vs' are not kept.
- * Read-only once made, so fits on several threads may share it. */
+/* Work done once for many fits over subsets of the same documents
+ * (cross-validation): for every pooling but bow, each document's distinct
+ * tokens with their counts (fits then count document frequencies by
+ * token id, not by hashing strings); for mean pooling also every pooled
+ * row, since it reads nothing fitted (each row's vector depends on that
+ * row alone).  Nothing fitted is cached: idf, word probabilities, SIF
+ * component and scaler are still fitted per fit, on its rows only.  For
+ * bow the cache is empty and changes nothing.  Owns its memory; 'd' and
+ * 'vs' are not kept.  Read-only once made: threads may share it. */
 typedef struct features_cache features_cache;
 features_cache *features_cache_new(const struct features_params *p, const struct tokdocs *d,
                                    const struct vecset *vs);
