@@ -38,7 +38,8 @@ static int argmax(const double *p, size_t k)
 
 /* Macro-F1 of spec 's' by inner k-fold over rows[0..n). */
 static int inner_score(const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs,
-                       const size_t *rows, size_t n, const struct folds *fo, double *score, struct err *e)
+                       const features_cache *cache, const size_t *rows, size_t n, const struct folds *fo,
+                       double *score, struct err *e)
 {
     size_t K = c->ds.nlabels;
     metrics *m = metrics_new((int)K);
@@ -53,12 +54,12 @@ static int inner_score(const struct pipeline_spec *s, const struct corpus *c, co
             else
                 tr[ntr++] = rows[i];
         }
-        pipeline *p = pipeline_fit(s, &c->docs, c->ds.y, K, tr, ntr, vs, NULL, e);
+        pipeline *p = pipeline_fit_cached(s, &c->docs, c->ds.y, K, tr, ntr, vs, cache, NULL, e);
         if (!p) {
             rc = -1;
             break;
         }
-        pipeline_proba(p, &c->docs, te, nte, P, NULL);
+        pipeline_proba_cached(p, cache, &c->docs, te, nte, P, NULL);
         for (size_t i = 0; i < nte; i++)
             metrics_add(m, c->ds.y[te[i]], argmax(P + i * K, K), P + i * K, NULL);
         pipeline_free(p);
@@ -81,7 +82,7 @@ static int inner_score(const struct pipeline_spec *s, const struct corpus *c, co
  * otherwise copies split across inner folds would favour the settings that
  * memorise best.  '*best_score' gets the inner macro-F1 of the choice. */
 static int search_rows(const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs,
-                       const size_t *rows, size_t n, const int *group, int n_groups, int inner_folds, uint64_t seed,
+                       const features_cache *cache, const size_t *rows, size_t n, const int *group, int n_groups, int inner_folds, uint64_t seed,
                        struct pipeline_spec *best, double *best_score_out, struct err *e)
 {
     size_t K = c->ds.nlabels;
@@ -136,7 +137,7 @@ static int search_rows(const struct pipeline_spec *s, const struct corpus *c, co
             if (s->clf == CLF_SVM_RBF)
                 t.gamma = -gridG[g];
             double sc;
-            if (inner_score(&t, c, vs, rows, n, &fo, &sc, e) < 0) {
+            if (inner_score(&t, c, vs, cache, rows, n, &fo, &sc, e) < 0) {
                 rc = -1;
                 break;
             }
@@ -155,7 +156,10 @@ static int search_rows(const struct pipeline_spec *s, const struct corpus *c, co
 int cv_search(const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs, const size_t *rows,
               size_t n, int inner_folds, uint64_t seed, struct pipeline_spec *best, struct err *e)
 {
-    return search_rows(s, c, vs, rows, n, NULL, 0, inner_folds, seed, best, NULL, e);
+    features_cache *cache = features_cache_new(&s->feat, &c->docs, vs);
+    int rc = search_rows(s, c, vs, cache, rows, n, NULL, 0, inner_folds, seed, best, NULL, e);
+    features_cache_free(cache);
+    return rc;
 }
 
 /* ---- the outer loop ---- */
@@ -175,6 +179,7 @@ struct ctx {
     const struct vecset *vs;
     const struct cv_params *p;
     struct cv_result *r;
+    const features_cache *cache;  /* pooled rows shared by every fit */
     struct rng base;
     struct task_out *out;   /* (R * F) */
 };
@@ -211,7 +216,7 @@ static void one_fold(void *arg, size_t task)
     }
     o->ntrain = ntr;
     struct pipeline_spec spec = *x->s;
-    if (x->p->search && search_rows(x->s, x->c, x->vs, tr, ntr, x->p->group, x->p->n_groups, x->p->inner_folds,
+    if (x->p->search && search_rows(x->s, x->c, x->vs, x->cache, tr, ntr, x->p->group, x->p->n_groups, x->p->inner_folds,
                                     rng_next(&tr_rng), &spec, &o->inner, &o->e) < 0) {
         o->failed = 1;
         goto out;
@@ -219,7 +224,7 @@ static void one_fold(void *arg, size_t task)
     o->C = spec.C;
     o->gamma = spec.gamma < 0 ? -spec.gamma : 1.0;
     struct pipeline_fit_info info;
-    pipeline *pl = pipeline_fit(&spec, &x->c->docs, x->c->ds.y, K, tr, ntr, x->vs, &info, &o->e);
+    pipeline *pl = pipeline_fit_cached(&spec, &x->c->docs, x->c->ds.y, K, tr, ntr, x->vs, x->cache, &info, &o->e);
     if (!pl) {
         o->failed = 1;
         goto out;
@@ -227,7 +232,7 @@ static void one_fold(void *arg, size_t task)
     o->unconverged = !info.converged;
     o->tiny = info.tiny_label;
     double *P = xcalloc(xmul(nte ? nte : 1, K), sizeof *P);
-    pipeline_proba(pl, &x->c->docs, te, nte, P, &o->st);
+    pipeline_proba_cached(pl, x->cache, &x->c->docs, te, nte, P, &o->st);
     double *dst = r->proba + rep * N * K;
     for (size_t i = 0; i < nte; i++)
         memcpy(dst + te[i] * K, P + i * K, K * sizeof *P);
@@ -256,7 +261,7 @@ int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corp
     r->k = K;
     r->repeats = p->repeats;
     r->folds = p->folds;
-    struct ctx x = { s, c, vs, p, r, { { 0 } }, NULL };
+    struct ctx x = { s, c, vs, p, r, NULL, { { 0 } }, NULL };
     rng_seed(&x.base, p->seed);
     int rc;
     if (p->group)
@@ -278,7 +283,10 @@ int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corp
     size_t T = p->repeats * (size_t)p->folds;
     r->proba = xcalloc(xmul(xmul(p->repeats, N), K), sizeof *r->proba);
     x.out = xcalloc(T, sizeof *x.out);
+    features_cache *cache = features_cache_new(&s->feat, &c->docs, vs);
+    x.cache = cache;
     par_for(p->threads, T, one_fold, &x);
+    features_cache_free(cache);
 
     /* Report the failure of the first task in task order, whichever thread
      * hit it first, so the message does not depend on scheduling. */

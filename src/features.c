@@ -477,8 +477,26 @@ static double *first_component(const double *X, size_t n, size_t E)
     return u;
 }
 
-featurizer *features_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows, size_t n,
-                         const vecset *vs, struct err *e)
+/* Rows pooled once for many fits over subsets of the same documents: see
+ * features.h.  Only pooling without fitted state (mean) is kept. */
+struct features_cache {
+    size_t n, E;
+    double *x;                    /* (N, E) unscaled pooled rows, or NULL */
+    struct features_stats *st;    /* (N) what pooling each row saw */
+    /* Pooling (not bow): each document's distinct tokens, as ids of the
+     * documents' vocabulary, in order of first appearance, with counts:
+     * what bag_make finds, so fit() counts df without hashing strings. */
+    size_t *boff;                 /* (N+1), or NULL */
+    int32_t *btok;                /* (boff[N]) */
+    double *btf;                  /* (boff[N]) */
+};
+
+/* features_fit, and with 'Xout' the training rows pooled (and SIF's
+ * component removed, but not scaled) into Xout, with what they saw added
+ * to 'st'; with 'cache', pooled rows come from it. */
+static featurizer *fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows, size_t n,
+                       const vecset *vs, const features_cache *cache, struct fmat *Xout, struct features_stats *st,
+                       struct err *e)
 {
     if (n == 0) {
         err_set(e, NULL, 0, "no training rows to fit features on");
@@ -502,7 +520,35 @@ featurizer *features_fit(const struct features_params *p, const struct tokdocs *
     double *df = NULL, *cnt = NULL;
     const char **buf = NULL;
     double total = 0;
-    for (size_t i = 0; i < n; i++) {
+    int32_t *order = NULL;  /* with cached bags: id in 'all' -> token id */
+    size_t V = 0;
+    if (cache && cache->boff) {
+        /* The same first-appearance order and sums as the loop below, by
+         * token id: 'all' gets its words in that order afterwards. */
+        size_t nv = vocab_size(d->v);
+        int32_t *map = xmalloc(xmul(nv ? nv : 1, sizeof *map));
+        for (size_t t = 0; t < nv; t++)
+            map[t] = -1;
+        order = xmalloc(xmul(nv ? nv : 1, sizeof *order));
+        df = xcalloc(nv ? nv : 1, sizeof *df);
+        cnt = xcalloc(nv ? nv : 1, sizeof *cnt);
+        for (size_t i = 0; i < n; i++)
+            for (size_t q = cache->boff[rows[i]]; q < cache->boff[rows[i] + 1]; q++) {
+                int32_t t = cache->btok[q];
+                if (map[t] < 0) {
+                    map[t] = (int32_t)V;
+                    order[V++] = t;
+                }
+                df[map[t]] += 1;
+                cnt[map[t]] += cache->btf[q];
+                total += cache->btf[q];
+            }
+        for (size_t id = 0; id < V; id++)
+            vocab_add(all, vocab_word(d->v, order[id]));
+        free(map);
+        free(order);
+    }
+    for (size_t i = 0; i < n && !(cache && cache->boff); i++) {
         buf = doc_tokens(d, rows[i], buf, &cap, &ntok);
         struct bag b;
         bag_make(&b, buf, ntok, p->pool == POOL_BOW && p->bigrams);
@@ -524,7 +570,7 @@ featurizer *features_fit(const struct features_params *p, const struct tokdocs *
         bag_release(&b);
     }
 
-    size_t V = vocab_size(all);
+    V = vocab_size(all);
     f->words = vocab_new();
     for (size_t id = 0; id < V; id++) {
         if (p->pool == POOL_BOW && df[id] < (double)p->min_df)
@@ -555,15 +601,29 @@ featurizer *features_fit(const struct features_params *p, const struct tokdocs *
      * the scaler. */
     f->D = vecset_dim(vs);
     size_t E = f->D;
-    double *X = xcalloc(xmul(n, E), sizeof *X);
+    struct fmat Xlocal = FMAT_INIT, *Xm = Xout ? Xout : &Xlocal;
+    fmat_dense(Xm, n, E);
+    double *X = Xm->x;
     size_t empty = 0;
     for (size_t i = 0; i < n; i++) {
+        if (cache && cache->x) {
+            const struct features_stats *cs = &cache->st[rows[i]];
+            memcpy(X + i * E, cache->x + rows[i] * E, E * sizeof *X);
+            empty += cs->empty_rows;
+            if (st) {
+                st->tokens += cs->tokens;
+                st->with_vector += cs->with_vector;
+            }
+            continue;
+        }
         buf = doc_tokens(d, rows[i], buf, &cap, &ntok);
-        empty += !pool_doc(f, buf, ntok, X + i * E, NULL);
+        empty += !pool_doc(f, buf, ntok, X + i * E, st);
     }
     free(buf);
+    if (st)
+        st->empty_rows += empty;
     if (empty == n) {
-        free(X);
+        fmat_release(Xm);
         features_free(f);
         err_set(e, NULL, 0, "no training row has a single word with a vector");
         err_hint(e, "check the vector set's coverage with 'vecsift vectors coverage'");
@@ -598,8 +658,14 @@ featurizer *features_fit(const struct features_params *p, const struct tokdocs *
                 f->sd[q] = 1.0;
         }
     }
-    free(X);
+    fmat_release(&Xlocal);
     return f;
+}
+
+featurizer *features_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows, size_t n,
+                         const vecset *vs, struct err *e)
+{
+    return fit(p, d, rows, n, vs, NULL, NULL, NULL, e);
 }
 
 /* ---- applying ---- */
@@ -829,6 +895,109 @@ void features_transform(const featurizer *f, const struct tokdocs *d, const size
         features_transform_tokens(f, buf, ntok, X, i, st);
     }
     free(buf);
+}
+
+/* ---- fitting and transforming at once ---- */
+
+features_cache *features_cache_new(const struct features_params *p, const struct tokdocs *d, const vecset *vs)
+{
+    features_cache *c = xcalloc(1, sizeof *c);
+    c->n = d->n;
+    if (p->pool == POOL_BOW || !vs || d->n == 0)
+        return c;
+    c->boff = xcalloc(d->n + 1, sizeof *c->boff);
+    c->btok = xcalloc(d->off[d->n] ? d->off[d->n] : 1, sizeof *c->btok);
+    c->btf = xcalloc(d->off[d->n] ? d->off[d->n] : 1, sizeof *c->btf);
+    {
+        const char **buf = NULL;
+        size_t cap = 0, ntok, m = 0;
+        for (size_t r = 0; r < d->n; r++) {
+            buf = doc_tokens(d, r, buf, &cap, &ntok);
+            struct bag b;
+            bag_make(&b, buf, ntok, 0);
+            for (size_t j = 0; j < b.n; j++) {
+                c->btok[m] = vocab_find_hashed(d->v, b.term[j], b.hash[j]);
+                c->btf[m++] = b.tf[j];
+            }
+            c->boff[r + 1] = m;
+            bag_release(&b);
+        }
+        free(buf);
+    }
+    if (p->pool != POOL_MEAN)
+        return c;
+    /* Mean pooling reads nothing fitted (word_coefs looks a word up in
+     * f->words but ignores the answer), so an empty featurizer pools
+     * every row as any fitted one would. */
+    featurizer f0 = { 0 };
+    f0.p = *p;
+    f0.vs = vs;
+    f0.words = vocab_new();
+    f0.D = c->E = vecset_dim(vs);
+    c->x = xcalloc(xmul(d->n, c->E), sizeof *c->x);
+    c->st = xcalloc(d->n, sizeof *c->st);
+    const char **buf = NULL;
+    size_t cap = 0, ntok;
+    for (size_t r = 0; r < d->n; r++) {
+        buf = doc_tokens(d, r, buf, &cap, &ntok);
+        c->st[r].empty_rows = !pool_doc(&f0, buf, ntok, c->x + r * c->E, &c->st[r]);
+    }
+    free(buf);
+    vocab_free(f0.words);
+    return c;
+}
+
+void features_cache_free(features_cache *c)
+{
+    if (!c)
+        return;
+    free(c->x);
+    free(c->st);
+    free(c->boff);
+    free(c->btok);
+    free(c->btf);
+    free(c);
+}
+
+featurizer *features_fit_transform(const struct features_params *p, const struct tokdocs *d, const size_t *rows,
+                                   size_t n, const vecset *vs, const features_cache *cache, struct fmat *X,
+                                   struct features_stats *st, struct err *e)
+{
+    if (p->pool == POOL_BOW) {
+        featurizer *f = fit(p, d, rows, n, vs, NULL, NULL, NULL, e);
+        if (f)
+            features_transform(f, d, rows, n, X, st);
+        return f;
+    }
+    assert(!cache || cache->n == d->n);
+    featurizer *f = fit(p, d, rows, n, vs, cache, X, st, e);
+    if (!f)
+        return NULL;
+    for (size_t i = 0; i < n; i++)
+        scale_row(f, X->x + i * f->D);
+    return f;
+}
+
+void features_transform_cached(const featurizer *f, const features_cache *cache, const struct tokdocs *d,
+                               const size_t *rows, size_t n, struct fmat *X, struct features_stats *st)
+{
+    if (!cache || !cache->x || f->p.pool != POOL_MEAN) {
+        features_transform(f, d, rows, n, X, st);
+        return;
+    }
+    assert(cache->n == d->n && cache->E == f->D);
+    features_alloc(f, n, X);
+    for (size_t i = 0; i < n; i++) {
+        const struct features_stats *cs = &cache->st[rows[i]];
+        double *x = X->x + i * f->D;
+        memcpy(x, cache->x + rows[i] * f->D, f->D * sizeof *x);
+        if (st) {
+            st->tokens += cs->tokens;
+            st->with_vector += cs->with_vector;
+            st->empty_rows += cs->empty_rows;
+        }
+        scale_row(f, x);
+    }
 }
 
 size_t features_word_weights(const featurizer *f, const char *const *toks, size_t ntok, const char **words,

@@ -18,6 +18,7 @@
 #include <string.h>
 
 #include "vecsift/xalloc.h"
+#include "vec4.h"
 
 #define C1 1e-4
 #define C2 0.9
@@ -30,12 +31,50 @@
 /* Relative size of rounding noise in f: see approx_wolfe(). */
 #define F_NOISE 1e-12
 
-static double dot(size_t n, const double *a, const double *b)
+/* ---- vector kernels ----
+ *
+ * The two-loop recursion is a dozen dot products and updates over n
+ * entries per iteration: for logistic regression over 300 columns and 7
+ * classes they took a sixth of `evaluate`, most of it waiting on the one
+ * running sum of a plain dot product.  So dot() keeps eight partial sums
+ * (two four-lane vectors over entries j mod 8), added up in a fixed order
+ * at the end; the updates are lane-wise, the same arithmetic as the plain
+ * loops.  Results do not depend on the CPU (vec4.h). */
+
+/* a . b: lane l of acc0 sums entries j = l mod 8, lane l of acc1 entries
+ * j = 4 + l mod 8; then ((acc0 + acc1) lanes (0 + 1) + (2 + 3)) + tail. */
+VEC4_CLONES static double dot(size_t n, const double *a, const double *b)
 {
-    double s = 0;
-    for (size_t j = 0; j < n; j++)
+    v4d s0 = VEC4_SPLAT(0.0), s1 = s0, x, y;
+    size_t j = 0;
+    for (; j + 8 <= n; j += 8) {
+        VEC4_LOAD(x, a + j);
+        VEC4_LOAD(y, b + j);
+        s0 += x * y;
+        VEC4_LOAD(x, a + j + 4);
+        VEC4_LOAD(y, b + j + 4);
+        s1 += x * y;
+    }
+    s0 += s1;
+    double s = (s0[0] + s0[1]) + (s0[2] + s0[3]);
+    for (; j < n; j++)
         s += a[j] * b[j];
     return s;
+}
+
+/* y[j] = x[j] + a * d[j] (y may be x). */
+VEC4_CLONES static void axpy(size_t n, double a, const double *d, const double *x, double *y)
+{
+    v4d av = VEC4_SPLAT(a), xv, dv;
+    size_t j = 0;
+    for (; j + 4 <= n; j += 4) {
+        VEC4_LOAD(xv, x + j);
+        VEC4_LOAD(dv, d + j);
+        xv += av * dv;
+        VEC4_STORE(y + j, xv);
+    }
+    for (; j < n; j++)
+        y[j] = x[j] + a * d[j];
 }
 
 static double norm_inf(size_t n, const double *a)
@@ -86,8 +125,7 @@ static int approx_wolfe(struct pt p0, struct pt t)
 
 static struct pt phi(struct line *l, double a)
 {
-    for (size_t j = 0; j < l->n; j++)
-        l->xt[j] = l->x[j] + a * l->d[j];
+    axpy(l->n, a, l->d, l->x, l->xt);
     struct pt p = { a, l->fn(l->ctx, l->xt, l->gt), 0 };
     l->evals++;
     p.df = dot(l->n, l->gt, l->d);
@@ -141,7 +179,16 @@ static int zoom(struct line *l, struct pt p0, struct pt lo, struct pt hi, struct
         if (a == lo.a || a == hi.a)
             return 0;   /* bracket below rounding */
         struct pt t = phi(l, a);
-        if (approx_wolfe(p0, t) && !strong_wolfe(p0, t)) {
+        /* A step that meets the strong Wolfe conditions is what the search
+         * is for: take it even when phi(a) ties phi(lo), which the book's
+         * test "phi(a) >= phi(lo)" would send to the bracket's far end.
+         * Near the minimum phi is flat to rounding and such ties are the
+         * rule: the bracket then closed on 0 and the search gave up. */
+        if (strong_wolfe(p0, t)) {
+            *out = t;
+            return 1;
+        }
+        if (approx_wolfe(p0, t)) {
             l->approx = 1;
             *out = t;
             return 1;
@@ -149,10 +196,6 @@ static int zoom(struct line *l, struct pt p0, struct pt lo, struct pt hi, struct
         if (t.f > p0.f + C1 * a * p0.df || t.f >= lo.f) {
             hi = t;
         } else {
-            if (fabs(t.df) <= -C2 * p0.df) {
-                *out = t;
-                return 1;
-            }
             if (t.df * (hi.a - lo.a) >= 0)
                 hi = lo;
             lo = t;
@@ -202,6 +245,7 @@ struct memory {
     double *s, *y;        /* (m, n) */
     double *rho;          /* (m), 1 / (y_i . s_i) */
     double *alpha;        /* (m), scratch of the two-loop recursion */
+    double *ns, *ny;      /* (n) the newest pair, before it is stored */
 };
 
 /* d = -H_k g by the two-loop recursion (Algorithm 7.4); with no pairs
@@ -218,8 +262,7 @@ static void direction(const struct memory *M, const double *g, double *d)
         const double *s = M->s + (size_t)i * n, *y = M->y + (size_t)i * n;
         double a = M->rho[i] * dot(n, s, d);
         M->alpha[i] = a;
-        for (size_t j = 0; j < n; j++)
-            d[j] -= a * y[j];
+        axpy(n, -a, y, d, d); /* d - a y, exactly: negation is exact */
     }
     /* H_k^0 = gamma_k I with gamma_k = s'y / y'y of the newest pair (7.20). */
     int newest = (M->head + M->count - 1) % M->m;
@@ -231,8 +274,7 @@ static void direction(const struct memory *M, const double *g, double *d)
         int i = (M->head + c) % M->m;
         const double *s = M->s + (size_t)i * n, *y = M->y + (size_t)i * n;
         double beta = M->rho[i] * dot(n, y, d);
-        for (size_t j = 0; j < n; j++)
-            d[j] += s[j] * (M->alpha[i] - beta);
+        axpy(n, M->alpha[i] - beta, s, d, d);
     }
 }
 
@@ -244,20 +286,14 @@ static void remember(struct memory *M, const double *x, const double *xt,
                      const double *g, const double *gt)
 {
     size_t n = M->n;
-    double sy = 0, yy = 0;
-    for (size_t j = 0; j < n; j++) {
-        double sj = xt[j] - x[j], yj = gt[j] - g[j];
-        sy += sj * yj;
-        yy += yj * yj;
-    }
+    axpy(n, -1.0, x, xt, M->ns); /* xt - x, exactly */
+    axpy(n, -1.0, g, gt, M->ny);
+    double sy = dot(n, M->ns, M->ny), yy = dot(n, M->ny, M->ny);
     if (!(sy > 1e-300 && yy > 0))
         return;
     int slot = M->count < M->m ? (M->head + M->count) % M->m : M->head;
-    double *s = M->s + (size_t)slot * n, *y = M->y + (size_t)slot * n;
-    for (size_t j = 0; j < n; j++) {
-        s[j] = xt[j] - x[j];
-        y[j] = gt[j] - g[j];
-    }
+    memcpy(M->s + (size_t)slot * n, M->ns, n * sizeof *M->ns);
+    memcpy(M->y + (size_t)slot * n, M->ny, n * sizeof *M->ny);
     M->rho[slot] = 1.0 / sy;
     if (M->count < M->m)
         M->count++;
@@ -272,11 +308,13 @@ int lbfgs_minimize(size_t n, double *x, lbfgs_eval fn, void *ctx,
     if (!p)
         p = &defaults;
     assert(n > 0 && p->m >= 1);
-    struct memory M = { n, p->m, 0, 0, NULL, NULL, NULL, NULL };
+    struct memory M = { n, p->m, 0, 0, NULL, NULL, NULL, NULL, NULL, NULL };
     M.s = xcalloc(xmul((size_t)p->m, n), sizeof *M.s);
     M.y = xcalloc(xmul((size_t)p->m, n), sizeof *M.y);
     M.rho = xcalloc((size_t)p->m, sizeof *M.rho);
     M.alpha = xcalloc((size_t)p->m, sizeof *M.alpha);
+    M.ns = xcalloc(n, sizeof *M.ns);
+    M.ny = xcalloc(n, sizeof *M.ny);
     double *g = xcalloc(n, sizeof *g);
     double *d = xcalloc(n, sizeof *d);
     double *xt = xcalloc(n, sizeof *xt);
@@ -358,6 +396,8 @@ out:
     free(M.y);
     free(M.rho);
     free(M.alpha);
+    free(M.ns);
+    free(M.ny);
     free(g);
     free(d);
     free(xt);

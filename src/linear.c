@@ -21,6 +21,7 @@
 #include "vecsift/fmat.h"
 #include "vecsift/lbfgs.h"
 #include "vecsift/xalloc.h"
+#include "vec4.h"
 
 /* ---- the objective ---- */
 
@@ -66,6 +67,130 @@ static double softmax_inplace(double *z, size_t k)
     return mx + log(se);
 }
 
+/* ---- dense kernels ----
+ *
+ * For a dense X with at most KMAX classes, the two products of the
+ * objective, Z = X W^T and G = R^T X, each read X once with all K classes
+ * at once; fmat_dot_k and fmat_gemm_tn block classes by four, so K = 7
+ * reads X four times (a block of four and three single classes), and the
+ * single-class passes took half of their time in the profile of
+ * `evaluate`.  Each output element gets the same operations in the same
+ * order as in those fmat functions, so results are bit-identical to them
+ * (test_linear.c checks this): a score is fmat_dot's four partial sums
+ * over columns j mod 4 (the four lanes), finished as s0 + tail +
+ * (s1 + s2 + s3); a gradient element is summed over the rows in order.
+ *
+ * Four-lane vectors from vec4.h; the AVX2 and plain copies give the same
+ * bits. */
+#define KMAX 8
+
+/* z[c] = x . W_c for c < K (K a constant once inlined, so acc[] lives in
+ * registers). */
+static inline __attribute__((always_inline)) void scores_row(const double *x, const double *W, size_t d,
+                                                             size_t K, double *z)
+{
+    v4d acc[KMAX];
+    VEC4_UNROLL
+    for (size_t c = 0; c < K; c++)
+        acc[c] = (v4d){ 0, 0, 0, 0 };
+    size_t j = 0;
+    for (; j + 4 <= d; j += 4) {
+        v4d xv, wv;
+        VEC4_LOAD(xv, x + j);
+        VEC4_UNROLL
+        for (size_t c = 0; c < K; c++) {
+            VEC4_LOAD(wv, W + c * d + j);
+            acc[c] += xv * wv;
+        }
+    }
+    VEC4_UNROLL
+    for (size_t c = 0; c < K; c++) {
+        double s = acc[c][0];
+        for (size_t t = j; t < d; t++)
+            s += x[t] * W[c * d + t];
+        z[c] = s + (acc[c][1] + acc[c][2] + acc[c][3]);
+    }
+}
+
+/* G += R^T X for X given as 'XP', its whole four-column blocks packed
+ * one after the other ((d / 4, n, 4): block b holds X[i][4b .. 4b+4) for
+ * every row in turn), plus the row-major X for the d mod 4 columns left.
+ * Per block, the K accumulators stay in registers over all rows, and the
+ * block is read front to back: on the row-major slab the same loop read
+ * 32 bytes per 2400-byte row and waited on memory for most of its time.
+ * Every element receives the rows in order. */
+static inline __attribute__((always_inline)) void gemm_tn_packed(const double *XP, const double *X, size_t n,
+                                                                 size_t d, const double *R, size_t K, double *G)
+{
+    size_t j = 0;
+    for (; j + 4 <= d; j += 4) {
+        const double *xb = XP + j * n;
+        v4d acc[KMAX];
+        VEC4_UNROLL
+        for (size_t c = 0; c < K; c++)
+            VEC4_LOAD(acc[c], G + c * d + j);
+        for (size_t i = 0; i < n; i++) {
+            v4d xv;
+            VEC4_LOAD(xv, xb + 4 * i);
+            const double *r = R + i * K;
+            VEC4_UNROLL
+            for (size_t c = 0; c < K; c++)
+                acc[c] += VEC4_SPLAT(r[c]) * xv;
+        }
+        VEC4_UNROLL
+        for (size_t c = 0; c < K; c++)
+            VEC4_STORE(G + c * d + j, acc[c]);
+    }
+    for (size_t i = 0; i < n && j < d; i++)
+        for (size_t c = 0; c < K; c++)
+            for (size_t t = j; t < d; t++)
+                G[c * d + t] += R[i * K + c] * X[i * d + t];
+}
+
+/* The packed copy of X that gemm_tn_packed reads: (d / 4) * n * 4
+ * doubles, owned by the caller. */
+static double *pack_blocks(const double *X, size_t n, size_t d)
+{
+    size_t nb = d / 4;
+    double *XP = xmalloc(xmul(xmul(nb ? nb : 1, n), 4 * sizeof *XP));
+    for (size_t b = 0; b < nb; b++)
+        for (size_t i = 0; i < n; i++)
+            memcpy(XP + (b * n + i) * 4, X + i * d + 4 * b, 4 * sizeof *XP);
+    return XP;
+}
+
+/* One case per K in [2, KMAX], so each kernel sees K as a constant. */
+#define K_CASES(CALL) \
+    case 2: CALL(2); break; \
+    case 3: CALL(3); break; \
+    case 4: CALL(4); break; \
+    case 5: CALL(5); break; \
+    case 6: CALL(6); break; \
+    case 7: CALL(7); break; \
+    case 8: CALL(8); break
+
+/* Z (n, K) = X W^T, row by row. */
+VEC4_CLONES static void dense_scores(const double *X, size_t n, size_t d, const double *W, size_t k, double *Z)
+{
+#define SCORES(K) for (size_t i = 0; i < n; i++) scores_row(X + i * d, W, d, K, Z + i * (K))
+    switch (k) {
+        K_CASES(SCORES);
+    default: assert(0);
+    }
+#undef SCORES
+}
+
+VEC4_CLONES static void dense_gemm_tn(const double *XP, const double *X, size_t n, size_t d, const double *R,
+                                      size_t k, double *G)
+{
+#define GEMM(K) gemm_tn_packed(XP, X, n, d, R, K, G)
+    switch (k) {
+        K_CASES(GEMM);
+    default: assert(0);
+    }
+#undef GEMM
+}
+
 struct problem {
     const struct fmat *X;
     const int *y;
@@ -75,6 +200,7 @@ struct problem {
     double scale;      /* L-BFGS sees J * scale */
     double *z;         /* (K) scratch */
     double *R;         /* (N, K) scratch: s_i (p_ik - [y_i = k]) */
+    double *XP;        /* dense X with K <= KMAX: its packed copy, else NULL */
 };
 
 /* J at theta = [W (K*D), b (K)]; grad (same layout) is filled. */
@@ -85,11 +211,17 @@ static double objective(struct problem *P, const double *theta, double *grad)
     double *gW = grad, *gb = grad + kd, *z = P->z;
     memset(grad, 0, (kd + k) * sizeof *grad);
     double loss = 0;
-    for (size_t i = 0; i < P->X->n; i++) {
+    const struct fmat *X = P->X;
+    int fast = P->XP != NULL;
+    if (fast) /* all scores first, into R, which each row then overwrites */
+        dense_scores(X->x, X->n, d, W, k, P->R);
+    for (size_t i = 0; i < X->n; i++) {
         int yi = P->y[i];
         assert(yi >= 0 && (size_t)yi < k);
-        /* All K scores and all K gradient rows per pass over row i. */
-        fmat_dot_k(P->X, i, W, k, z);
+        if (fast)
+            memcpy(z, P->R + i * k, k * sizeof *z);
+        else /* all K scores per pass over row i */
+            fmat_dot_k(X, i, W, k, z);
         for (size_t c = 0; c < k; c++)
             z[c] += b[c];
         double zy = z[yi];
@@ -104,7 +236,10 @@ static double objective(struct problem *P, const double *theta, double *grad)
     /* The residuals first, then G = R^T X in one blocked pass: the same
      * sums in the same order as adding each row's K gradient rows in turn,
      * with the gradient block held in registers. */
-    fmat_gemm_tn(P->X, P->R, k, gW);
+    if (fast)
+        dense_gemm_tn(P->XP, X->x, X->n, d, P->R, k, gW);
+    else
+        fmat_gemm_tn(X, P->R, k, gW);
     double ww = 0;
     for (size_t j = 0; j < kd; j++) {
         ww += W[j] * W[j];
@@ -164,9 +299,11 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
     double ssum = 0;
     for (size_t i = 0; i < X->n; i++)
         ssum += s[i];
-    struct problem P = { X, y, s, k, d, p->C, 1.0 / (p->C * ssum), NULL, NULL };
+    struct problem P = { X, y, s, k, d, p->C, 1.0 / (p->C * ssum), NULL, NULL, NULL };
     P.z = xcalloc(k, sizeof *P.z);
     P.R = xcalloc(xmul(X->n, k), sizeof *P.R);
+    if (!X->sparse && k <= KMAX)
+        P.XP = pack_blocks(X->x, X->n, d);
 
     /* ftol: stop once the relative decrease is a few dozen ulps, where the
      * value carries no more information (64 * DBL_EPSILON; the choice
@@ -188,6 +325,7 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
     m->converged = r.converged;
     m->objective = r.f / P.scale;
     free(P.R);
+    free(P.XP);
     free(P.z);
     free(s);
     free(theta);
@@ -217,11 +355,14 @@ double linear_gradient(const struct linear_model *m, const struct fmat *X, const
     memcpy(theta, m->W, k * d * sizeof *theta);
     memcpy(theta + k * d, m->b, k * sizeof *theta);
     double *s = row_weights(y, X->n, k, p->balanced);
-    struct problem P = { X, y, s, k, d, p->C, 1, NULL, NULL };
+    struct problem P = { X, y, s, k, d, p->C, 1, NULL, NULL, NULL };
     P.z = xcalloc(k, sizeof *P.z);
     P.R = xcalloc(xmul(X->n, k), sizeof *P.R);
+    if (!X->sparse && k <= KMAX)
+        P.XP = pack_blocks(X->x, X->n, d);
     double f = objective(&P, theta, grad);
     free(P.R);
+    free(P.XP);
     free(P.z);
     free(s);
     free(theta);

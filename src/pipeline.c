@@ -99,6 +99,13 @@ pipeline *pipeline_fit(const struct pipeline_spec *s, const struct tokdocs *d, c
                        const size_t *rows, size_t n, const vecset *vs, struct pipeline_fit_info *info,
                        struct err *e)
 {
+    return pipeline_fit_cached(s, d, y, k, rows, n, vs, NULL, info, e);
+}
+
+pipeline *pipeline_fit_cached(const struct pipeline_spec *s, const struct tokdocs *d, const int *y, size_t k,
+                              const size_t *rows, size_t n, const vecset *vs, const features_cache *cache,
+                              struct pipeline_fit_info *info, struct err *e)
+{
     if (!(s->C > 0)) {
         err_set(e, NULL, 0, "C must be positive");
         return NULL;
@@ -110,10 +117,9 @@ pipeline *pipeline_fit(const struct pipeline_spec *s, const struct tokdocs *d, c
     int *yy = xcalloc(n ? n : 1, sizeof *yy);
     if (info)
         memset(info, 0, sizeof *info);
-    p->f = features_fit(&s->feat, d, rows, n, vs, e);
+    p->f = features_fit_transform(&s->feat, d, rows, n, vs, cache, &X, info ? &info->stats : NULL, e);
     if (!p->f)
         goto fail;
-    features_transform(p->f, d, rows, n, &X, info ? &info->stats : NULL);
     for (size_t i = 0; i < n; i++)
         yy[i] = y[rows[i]];
     if (fit_classifier(p, &X, yy, info, e) < 0)
@@ -139,8 +145,14 @@ void pipeline_proba_row(const pipeline *p, const struct fmat *X, size_t i, doubl
 void pipeline_proba(const pipeline *p, const struct tokdocs *d, const size_t *rows, size_t n, double *P,
                     struct features_stats *st)
 {
+    pipeline_proba_cached(p, NULL, d, rows, n, P, st);
+}
+
+void pipeline_proba_cached(const pipeline *p, const features_cache *cache, const struct tokdocs *d,
+                           const size_t *rows, size_t n, double *P, struct features_stats *st)
+{
     struct fmat X = FMAT_INIT;
-    features_transform(p->f, d, rows, n, &X, st);
+    features_transform_cached(p->f, cache, d, rows, n, &X, st);
     for (size_t i = 0; i < n; i++)
         pipeline_proba_row(p, &X, i, P + i * p->k);
     fmat_release(&X);

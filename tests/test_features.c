@@ -476,3 +476,88 @@ Test(features, load_rejects_damaged_fields)
     tokdocs_release(&d);
     vecset_close(vs);
 }
+
+/* features_fit_transform (with and without the pooled-row cache) promises
+ * exactly what features_fit then features_transform of the same rows give:
+ * same bits in X, same counts, same scaler; features_transform_cached the
+ * same as features_transform for held-out rows.  Rows picked out of order and
+ * leaving some out, as a fold does; texts with unknown words, repeats and
+ * no words at all. */
+Test(features, fit_transform_equals_fit_then_transform)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat cat", "ran dog hen", "hen owl", "", "dog dog sat ran",
+                                         "sat", "cat ran owl sat" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 7);
+    size_t rows[] = { 6, 0, 3, 4, 2, 1 };
+    for (int pool = POOL_MEAN; pool <= POOL_BOW; pool++)
+        for (int scale = 0; scale < 2; scale++) {
+            struct features_params p = FEATURES_PARAMS_INIT;
+            p.pool = (enum features_pool)pool;
+            p.scale = scale;
+            const char *name = features_pool_name(p.pool);
+            featurizer *f = fit(p.pool, scale, &d, rows, 6, vs);
+            struct fmat want = FMAT_INIT;
+            struct features_stats sw = { 0, 0, 0 };
+            features_transform(f, &d, rows, 6, &want, &sw);
+            features_cache *cache = features_cache_new(&p, &d, vs);
+            for (int cached = 0; cached < 2; cached++) {
+                struct fmat X = FMAT_INIT;
+                struct features_stats st = { 0, 0, 0 };
+                struct err e = ERR_INIT;
+                featurizer *g = features_fit_transform(&p, &d, rows, 6, vs, cached ? cache : NULL, &X, &st, &e);
+                cr_assert_not_null(g, "%s", e.msg);
+                cr_assert(st.tokens == sw.tokens && st.with_vector == sw.with_vector &&
+                              st.empty_rows == sw.empty_rows,
+                          "pool %s scale %d cached %d: counts differ", name, scale, cached);
+                cr_assert(X.n == want.n && X.d == want.d && X.sparse == want.sparse);
+                if (X.sparse) {
+                    size_t nnz = want.rowptr[want.n];
+                    cr_assert(memcmp(X.rowptr, want.rowptr, (want.n + 1) * sizeof *X.rowptr) == 0);
+                    cr_assert(memcmp(X.col, want.col, nnz * sizeof *X.col) == 0);
+                    cr_assert(memcmp(X.val, want.val, nnz * sizeof *X.val) == 0);
+                } else {
+                    cr_assert(memcmp(X.x, want.x, X.n * X.d * sizeof *X.x) == 0,
+                              "pool %s scale %d cached %d: rows differ", name, scale, cached);
+                }
+                const double *m0, *s0, *m1, *s1;
+                features_scaler(f, &m0, &s0);
+                features_scaler(g, &m1, &s1);
+                cr_assert((m0 == NULL) == (m1 == NULL));
+                if (m0)
+                    cr_assert(memcmp(m0, m1, 3 * sizeof *m0) == 0 && memcmp(s0, s1, 3 * sizeof *s0) == 0);
+                /* everything a model file keeps (words, idf, word
+                 * probabilities, component, scaler), printed exactly */
+                cJSON *jf = cJSON_CreateObject(), *jg = cJSON_CreateObject();
+                features_save(f, jf);
+                features_save(g, jg);
+                char *tf = cJSON_PrintUnformatted(jf), *tg = cJSON_PrintUnformatted(jg);
+                cr_assert_str_eq(tg, tf, "pool %s scale %d cached %d: saved featurizers differ", name, scale, cached);
+                cJSON_free(tf);
+                cJSON_free(tg);
+                cJSON_Delete(jf);
+                cJSON_Delete(jg);
+                /* the rows the fit left out, through the cache */
+                size_t held[] = { 5, 3 };
+                struct fmat H = FMAT_INIT, Hw = FMAT_INIT;
+                struct features_stats sh = { 0, 0, 0 }, shw = { 0, 0, 0 };
+                features_transform(f, &d, held, 2, &Hw, &shw);
+                features_transform_cached(f, cached ? cache : NULL, &d, held, 2, &H, &sh);
+                cr_assert(sh.tokens == shw.tokens && sh.with_vector == shw.with_vector &&
+                          sh.empty_rows == shw.empty_rows);
+                if (!H.sparse)
+                    cr_assert(memcmp(H.x, Hw.x, 2 * H.d * sizeof *H.x) == 0,
+                              "pool %s scale %d cached %d: held-out rows differ", name, scale, cached);
+                fmat_release(&H);
+                fmat_release(&Hw);
+                fmat_release(&X);
+                features_free(g);
+            }
+            features_cache_free(cache);
+            fmat_release(&want);
+            features_free(f);
+        }
+    tokdocs_release(&d);
+    vecset_close(vs);
+}

@@ -80,18 +80,26 @@ Test(linear, separable_two_class_points_are_predicted_right)
     fmat_release(&X);
 }
 
+/* A model with weights 'scale' times standard normal and standard-normal
+ * intercepts (release with linear_release). */
+static struct linear_model random_model(size_t k, size_t d, double scale, uint64_t seed)
+{
+    struct rng r;
+    rng_seed(&r, seed);
+    struct linear_model m = { k, d, calloc(k * d, sizeof(double)), calloc(k, sizeof(double)), 0, 0, 0 };
+    for (size_t j = 0; j < k * d; j++)
+        m.W[j] = scale * rng_normal(&r);
+    for (size_t c = 0; c < k; c++)
+        m.b[c] = rng_normal(&r);
+    return m;
+}
+
 /* Central differences (common practice: error O(h^2)) against the
  * analytic gradient at a random point. */
 static void gradient_case(const struct fmat *X, const int *y, size_t k, int balanced)
 {
     size_t d = X->d, n = k * d + k;
-    struct rng r;
-    rng_seed(&r, 99);
-    struct linear_model m = { k, d, calloc(k * d, sizeof(double)), calloc(k, sizeof(double)), 0, 0, 0 };
-    for (size_t j = 0; j < k * d; j++)
-        m.W[j] = 0.5 * rng_normal(&r);
-    for (size_t c = 0; c < k; c++)
-        m.b[c] = rng_normal(&r);
+    struct linear_model m = random_model(k, d, 0.5, 99);
     struct linear_params p = LINEAR_PARAMS_INIT;
     p.C = 2.5;
     p.balanced = balanced;
@@ -280,4 +288,64 @@ Test(linear, max_iter_leaves_converged_zero)
     linear_release(&m);
     fmat_release(&D);
     fmat_release(&S);
+}
+
+/* The dense objective (linear.c's all-classes kernels) against the same
+ * formula written with fmat_dot_k and fmat_gemm_tn: the kernels promise the
+ * same operations in the same order, so the gradients must agree to the
+ * last bit, for every K the kernels take (2..8), one past it (9, the
+ * fmat path itself), and widths with and without a tail past a multiple
+ * of four.  Unweighted, so s_i = 1. */
+static void reference_gradient(const struct linear_model *m, const struct fmat *X, const int *y, double C, double *g)
+{
+    size_t k = m->k, d = m->d, n = X->n;
+    double *R = calloc(n * k, sizeof *R), *z = calloc(k, sizeof *z);
+    memset(g, 0, (k * d + k) * sizeof *g);
+    for (size_t i = 0; i < n; i++) {
+        fmat_dot_k(X, i, m->W, k, z);
+        for (size_t c = 0; c < k; c++)
+            z[c] += m->b[c];
+        double mx = z[0], se = 0;
+        for (size_t c = 1; c < k; c++)
+            mx = z[c] > mx ? z[c] : mx;
+        for (size_t c = 0; c < k; c++) {
+            z[c] = exp(z[c] - mx);
+            se += z[c];
+        }
+        for (size_t c = 0; c < k; c++) {
+            R[i * k + c] = 1.0 * (z[c] / se - (c == (size_t)y[i]));
+            g[k * d + c] += R[i * k + c];
+        }
+    }
+    fmat_gemm_tn(X, R, k, g);
+    for (size_t j = 0; j < k * d; j++)
+        g[j] = m->W[j] + C * g[j];
+    for (size_t c = 0; c < k; c++)
+        g[k * d + c] *= C;
+    free(R);
+    free(z);
+}
+
+Test(linear, dense_kernels_match_the_fmat_products_bit_for_bit)
+{
+    static const size_t ks[] = { 2, 3, 5, 7, 8, 9 }, ds[] = { 4, 10, 13, 300 };
+    for (size_t a = 0; a < sizeof ks / sizeof ks[0]; a++)
+        for (size_t b = 0; b < sizeof ds / sizeof ds[0]; b++) {
+            size_t k = ks[a], d = ds[b], n = 37;
+            struct fmat D = FMAT_INIT, S = FMAT_INIT;
+            int y[37];
+            random_problem(n, d, k, 31 + k * d, &D, &S, y);
+            struct linear_model m = random_model(k, d, 0.3, 7);
+            struct linear_params p = LINEAR_PARAMS_INIT;
+            p.C = 1.7;
+            double *g = calloc(k * d + k, sizeof *g), *ref = calloc(k * d + k, sizeof *ref);
+            linear_gradient(&m, &D, y, &p, g);
+            reference_gradient(&m, &D, y, p.C, ref);
+            cr_assert(memcmp(g, ref, (k * d + k) * sizeof *g) == 0, "K=%zu D=%zu: gradients differ", k, d);
+            free(g);
+            free(ref);
+            linear_release(&m);
+            fmat_release(&D);
+            fmat_release(&S);
+        }
 }

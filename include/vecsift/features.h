@@ -78,6 +78,34 @@ const struct features_params *features_params(const featurizer *f);
 void features_transform(const featurizer *f, const struct tokdocs *d, const size_t *rows, size_t n, struct fmat *X,
                         struct features_stats *st);
 
+/* Work done once for many fits over subsets of the same documents
+ * (cross-validation): for every pooling but bow, each document's distinct
+ * tokens with their counts (fits then count document frequencies by
+ * token id, not by hashing strings); for mean pooling also every pooled
+ * row, since it reads nothing fitted (each row's vector depends on that
+ * row alone).  Nothing fitted is cached: idf, word probabilities, SIF
+ * component and scaler are still fitted per fit, on its rows only.  For
+ * bow the cache is empty and changes nothing.  Owns its memory; 'd' and
+ * 'vs' are not kept.  Read-only once made: threads may share it. */
+typedef struct features_cache features_cache;
+features_cache *features_cache_new(const struct features_params *p, const struct tokdocs *d,
+                                   const struct vecset *vs);
+void features_cache_free(features_cache *c); /* NULL-safe */
+
+/* features_fit followed by features_transform of the same rows, with
+ * every training row pooled once instead of twice; 'cache' (may be NULL)
+ * supplies pooled rows made by features_cache_new from the same 'd' and
+ * 'vs'.  The featurizer, X and the counts added to 'st' are bit-identical
+ * to the two calls'.  Returns NULL with 'e' set as features_fit does. */
+featurizer *features_fit_transform(const struct features_params *p, const struct tokdocs *d, const size_t *rows,
+                                   size_t n, const struct vecset *vs, const features_cache *cache, struct fmat *X,
+                                   struct features_stats *st, struct err *e);
+
+/* features_transform with pooled rows from 'cache' (made from the same
+ * 'd' and vector set; may be NULL): the same X and counts, bit for bit. */
+void features_transform_cached(const featurizer *f, const features_cache *cache, const struct tokdocs *d,
+                               const size_t *rows, size_t n, struct fmat *X, struct features_stats *st);
+
 /* One text given as token strings into row 'i' of a matrix made with
  * features_alloc (for streaming prediction).  Thread-safe. */
 void features_alloc(const featurizer *f, size_t n, struct fmat *X);

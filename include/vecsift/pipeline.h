@@ -54,6 +54,12 @@ typedef struct pipeline pipeline;
 pipeline *pipeline_fit(const struct pipeline_spec *s, const struct tokdocs *d, const int *y, size_t k,
                        const size_t *rows, size_t n, const struct vecset *vs, struct pipeline_fit_info *info,
                        struct err *e);
+/* pipeline_fit with pooled rows from 'cache' (features_cache_new over the
+ * same 'd' and 'vs'; may be NULL): the same pipeline, bit for bit, at less
+ * cost when many fits share the documents (cross-validation). */
+pipeline *pipeline_fit_cached(const struct pipeline_spec *s, const struct tokdocs *d, const int *y, size_t k,
+                              const size_t *rows, size_t n, const struct vecset *vs, const features_cache *cache,
+                              struct pipeline_fit_info *info, struct err *e);
 void pipeline_free(pipeline *p); /* NULL-safe */
 
 size_t pipeline_labels(const pipeline *p);
@@ -63,6 +69,10 @@ const struct pipeline_spec *pipeline_spec(const pipeline *p);
 /* Probabilities (n x K, row-major) for rows[0..n) of 'd'.  'st' may be NULL. */
 void pipeline_proba(const pipeline *p, const struct tokdocs *d, const size_t *rows, size_t n, double *P,
                     struct features_stats *st);
+/* pipeline_proba with pooled rows from 'cache' (as for
+ * pipeline_fit_cached; may be NULL): the same numbers. */
+void pipeline_proba_cached(const pipeline *p, const features_cache *cache, const struct tokdocs *d,
+                           const size_t *rows, size_t n, double *P, struct features_stats *st);
 /* Probabilities (K) for row i of an already featurized matrix. */
 void pipeline_proba_row(const pipeline *p, const struct fmat *X, size_t i, double *prob);
 

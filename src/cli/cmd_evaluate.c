@@ -5,6 +5,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#ifdef __GLIBC__ /* defined by the libc headers above */
+#include <malloc.h>
+#endif
 
 #include "commands.h"
 #include "common.h"
@@ -123,6 +126,22 @@ static void warn_few_groups(const struct corpus *c, const char *col, const int *
     free(seen);
 }
 
+/* Every fold allocates and frees the same large blocks (its feature
+ * matrix, the classifier's scratch; about 2 MB for 400 rows of 300-d
+ * vectors).  glibc gives blocks this size back to the system on free, by
+ * munmap or by trimming the heap, so every fold took them afresh, page by
+ * zeroed page: on the demo inbox the page faults cost a third of the
+ * command's CPU time.  Keeping freed memory in the process for reuse
+ * removes that; the peak footprint is unchanged.  Only allocation
+ * placement changes, never a result. */
+static void keep_freed_memory(void)
+{
+#ifdef __GLIBC__
+    mallopt(M_MMAP_THRESHOLD, 64 << 20);
+    mallopt(M_TRIM_THRESHOLD, 256 << 20);
+#endif
+}
+
 int cmd_evaluate(int argc, char **argv)
 {
     struct eval_args a;
@@ -136,6 +155,7 @@ int cmd_evaluate(int argc, char **argv)
     int rc = parse(argc, argv, &a, &data);
     if (rc != 0)
         return rc < 0 ? ERR_OK : rc;
+    keep_freed_memory();
     a.cp.seed = a.da.seed;
     a.cp.threads = a.da.threads;
     a.fa.spec.seed = a.da.seed;

@@ -149,4 +149,9 @@ print(f"CPU seconds, one core: vecsift {ocpu:.3f}, scikit-learn {skcpu:.3f}, rat
 print(f"largest fold accuracy difference: {diff:.4f} (mean accuracy vecsift {np.mean(ours_acc):.4f}, "
       f"scikit-learn {np.mean(res['test_score']):.4f})")
 goal = sk2 / ours2 >= 10 and ours2 < 1.0
-print("goal (>= 10x and under 1 s on two cores):", "met" if goal else "NOT met")
+print("goal (>= 10x and under 1 s on two cores):", "met" if goal else "NOT met",
+      f"on wall time ({sk2 / ours2:.1f}x, {ours2:.3f} s)")
+# On a shared machine wall times swing with the other jobs, and
+# scikit-learn's n_jobs=2 pays for starting worker processes; the one-core
+# CPU-second ratio is the steadier figure, so say where it stands too.
+print(f"one-core CPU-second ratio {skcpu / ocpu:.1f}x:", ">= 10x" if skcpu / ocpu >= 10 else "below 10x")
