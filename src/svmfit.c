@@ -32,14 +32,95 @@ struct svmfit_model {
     int *nsv;               /* (K) */
 };
 
-/* libsvm uses the process-wide rand() inside svm_train's probability
- * estimate: serialise training so srand(seed) + train is atomic and results
- * repeat whatever the thread count. */
-static pthread_mutex_t train_lock = PTHREAD_MUTEX_INITIALIZER;
+/* ---- rand() and srand() with one state per thread ----
+ *
+ * libsvm's probability estimate (svm_binary_svc_probability, inside
+ * svm_train) shuffles each pair's rows for its internal 5-fold
+ * cross-validation with rand().  glibc's rand() has one state for the whole
+ * process, so two fits on two threads would interleave their draws and the
+ * result would depend on scheduling.
+ *
+ * The two functions below replace the C library's for this program.  The
+ * mechanism is ELF symbol interposition: libsvm.so calls rand through its
+ * PLT, and the dynamic linker binds that call to the first definition in
+ * the lookup order, which starts with the executable.  GNU ld puts a symbol
+ * the executable defines into its dynamic symbol table when a shared library
+ * on the link line refers to it (libsvm.so refers to rand@GLIBC_2.2.5), and
+ * an unversioned definition satisfies a versioned reference.  Every
+ * executable linked with svmfit.o (vecsift, the tests, the fuzzers) thus
+ * gives libsvm these.  test_svmfit.c proves the binding: it counts the
+ * draws libsvm makes during one fit and checks them against the number
+ * svm_binary_svc_probability must make, and it checks that fits on four
+ * threads at once give bit-identical models to the same fits one after
+ * another.  C11 reserves the names (7.1.3); POSIX says rand() need not be
+ * thread-safe, and no sanitizer or valgrind tool replaces them (the tests run
+ * under both in tools/run-hardening).
+ *
+ * Each thread gets glibc's own generator (random_r.c, TYPE_3: the additive
+ * feedback generator r[i] = r[i-3] + r[i-31] over 31 words, seeded by the
+ * Park and Miller (1988, "Random Number Generators: Good Ones Are Hard to
+ * Find", CACM 31(10)) minimal standard generator in Schrage's form, the
+ * first 310 outputs discarded), so a fit draws exactly what it drew from
+ * glibc's rand() before: results are unchanged.  test_svmfit.c checks the
+ * sequence against glibc's random_r for several seeds.  A thread that never
+ * calls srand() starts as srand(1), as the C standard requires. */
+struct rand_state {
+    int32_t r[31];
+    int f, b;           /* front and back taps, 3 apart */
+    int seeded;
+    uint64_t draws;
+};
+static _Thread_local struct rand_state rs;
+
+void srand(unsigned seed)
+{
+    if (seed == 0)
+        seed = 1;
+    int32_t word = (int32_t)seed;
+    rs.r[0] = word;
+    for (int i = 1; i < 31; i++) {
+        long hi = word / 127773, lo = word % 127773;
+        long w = 16807 * lo - 2836 * hi;
+        if (w < 0)
+            w += 2147483647;
+        rs.r[i] = word = (int32_t)w;
+    }
+    rs.f = 3;
+    rs.b = 0;
+    rs.seeded = 1;
+    uint64_t keep = rs.draws;
+    for (int i = 0; i < 310; i++)
+        (void)rand();
+    rs.draws = keep;
+}
+
+int rand(void)
+{
+    if (!rs.seeded)
+        srand(1);
+    uint32_t v = (uint32_t)rs.r[rs.f] + (uint32_t)rs.r[rs.b];
+    rs.r[rs.f] = (int32_t)v;
+    rs.f = rs.f == 30 ? 0 : rs.f + 1;
+    rs.b = rs.b == 30 ? 0 : rs.b + 1;
+    rs.draws++;
+    return (int)(v >> 1);
+}
+
+uint64_t svmfit_rand_draws(void)
+{
+    return rs.draws;
+}
 
 static void quiet(const char *s)
 {
     (void)s;
+}
+
+static pthread_once_t quiet_once = PTHREAD_ONCE_INIT;
+
+static void set_quiet(void)
+{
+    svm_set_print_string_function(quiet);
 }
 
 /* Row i of X as libsvm nodes (1-based indices, zeros omitted, -1 end).
@@ -237,11 +318,9 @@ svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const s
     if (bad) {
         err_set(e, NULL, 0, "SVM settings rejected: %s", bad);
     } else {
-        pthread_mutex_lock(&train_lock);
-        svm_set_print_string_function(quiet);
-        srand((unsigned)(p->seed ^ (p->seed >> 32)));
+        pthread_once(&quiet_once, set_quiet);
+        srand((unsigned)(p->seed ^ (p->seed >> 32))); /* this thread's rand(): see above */
         struct svm_model *sm = svm_train(&prob, &par);
-        pthread_mutex_unlock(&train_lock);
         if (!sm || !sm->probA || !sm->probB) {
             err_set(e, NULL, 0, "the SVM could not be trained");
         } else {

@@ -41,8 +41,10 @@ struct svmfit_params {
 typedef struct svmfit_model svmfit_model;
 
 /* Train on X (N x D) with labels y in [0, K).  Every label must have at
- * least one row and K >= 2.  Thread-safe: training serialises on a lock
- * because libsvm draws from the process-wide rand().  Returns a model owned
+ * least one row and K >= 2.  Thread-safe and lock-free: libsvm draws from
+ * rand(), which this module gives one state per thread (svmfit.c explains
+ * how), so a fit's result depends only on its inputs and seed, whatever
+ * runs beside it.  Returns a model owned
  * by the caller (svmfit_free), or NULL with 'e' set.  '*tiny' (may be NULL)
  * is set to 1 when a label has fewer than 3 rows: its probabilities are
  * unreliable and the caller should warn. */
@@ -63,6 +65,11 @@ void svmfit_proba(const svmfit_model *m, const struct fmat *X, size_t i, double 
  * in OUR label order, positive meaning a; for checks against other wrappers
  * of libsvm. */
 void svmfit_decision(const svmfit_model *m, const struct fmat *X, size_t i, double *dec);
+
+/* How many times this thread has called rand() (libsvm's draws included;
+ * srand's own warm-up not counted).  For tests that prove libsvm reaches
+ * svmfit's per-thread rand(). */
+uint64_t svmfit_rand_draws(void);
 
 /* Store the model as JSON fields of 'obj'. */
 void svmfit_save(const svmfit_model *m, struct cJSON *obj);
