@@ -192,8 +192,17 @@ static void rebuild(svmfit_model *m, size_t l)
     m->m.free_sv = 0;
 }
 
+/* Support vector i of libsvm's model 'src' as feature nodes: trained on a
+ * precomputed kernel ('rows' not NULL), its node 0 holds the training row's
+ * serial number (1-based), and 'rows' the row's feature nodes. */
+static const struct svm_node *sv_nodes(const struct svm_model *src, size_t i, struct svm_node *const *rows)
+{
+    return rows ? rows[(size_t)src->SV[i][0].value - 1] : src->SV[i];
+}
+
 /* Copy what prediction needs out of libsvm's model 'src'. */
-static svmfit_model *copy_out(const struct svm_model *src, size_t k, size_t d, enum svmfit_kernel kern, double gamma)
+static svmfit_model *copy_out(const struct svm_model *src, struct svm_node *const *rows, size_t k, size_t d,
+                              enum svmfit_kernel kern, double gamma)
 {
     svmfit_model *m = xcalloc(1, sizeof *m);
     size_t l = (size_t)src->l, np = k * (k - 1) / 2;
@@ -202,7 +211,7 @@ static svmfit_model *copy_out(const struct svm_model *src, size_t k, size_t d, e
     m->kernel = kern;
     m->gamma = gamma;
     for (size_t i = 0; i < l; i++)
-        for (const struct svm_node *p = src->SV[i];; p++) {
+        for (const struct svm_node *p = sv_nodes(src, i, rows);; p++) {
             m->nnodes++;
             if (p->index == -1)
                 break;
@@ -212,7 +221,7 @@ static svmfit_model *copy_out(const struct svm_model *src, size_t k, size_t d, e
     size_t at = 0;
     for (size_t i = 0; i < l; i++) {
         m->sv[i] = m->nodes + at;
-        for (const struct svm_node *p = src->SV[i];; p++) {
+        for (const struct svm_node *p = sv_nodes(src, i, rows);; p++) {
             m->nodes[at++] = *p;
             if (p->index == -1)
                 break;
@@ -233,6 +242,78 @@ static svmfit_model *copy_out(const struct svm_model *src, size_t k, size_t d, e
     memcpy(m->nsv, src->nSV, k * sizeof(int));
     rebuild(m, l);
     return m;
+}
+
+/* ---- a precomputed kernel matrix ----
+ *
+ * Trained as is, libsvm evaluates the kernel on the sparse nodes again and
+ * again: every pair of classes is trained six times (five for the internal
+ * cross-validation of the probability estimate, one for the model), and
+ * the dot products of dense rows walking node lists were three quarters of
+ * compare's CPU time.  For up to PRECOMP_MAX_ROWS rows the kernel matrix is
+ * computed once per fit instead and handed to libsvm as its PRECOMPUTED
+ * kernel (row i: node 0 holds serial i+1, node j+1 holds K(i, j)).
+ *
+ * The values are libsvm's own, bit for bit: its Kernel::dot (the sum over
+ * shared indices in index order) and, for RBF, its kernel_rbf form
+ * exp(-gamma * (|x|^2 + |y|^2 - 2 x.y)).  So the model's support vectors,
+ * dual coefficients and rho are exactly what libsvm computes from the
+ * feature nodes (test_svmfit.c checks), and prediction, on the rebuilt
+ * model over the feature nodes, is unchanged.  The one difference is inside
+ * the probability estimate: when libsvm predicts its held-out rows there it
+ * uses k_function, whose RBF form is exp(-gamma * |x - y|^2), which rounds
+ * differently in the last bits; with the matrix it reads the kernel_rbf
+ * value instead.  Platt's A and B then differ from the node-based fit by
+ * about 1e-15 relative (the linear kernel has one form, so it is bit for
+ * bit).  The cap keeps the matrix (16 bytes per entry: 36 MB at 1500 rows)
+ * small; larger sets train on the nodes. */
+#define PRECOMP_MAX_ROWS 1500
+
+static double node_dot(const struct svm_node *px, const struct svm_node *py)
+{
+    double sum = 0;
+    while (px->index != -1 && py->index != -1) {
+        if (px->index == py->index) {
+            sum += px->value * py->value;
+            ++px;
+            ++py;
+        } else if (px->index > py->index) {
+            ++py;
+        } else {
+            ++px;
+        }
+    }
+    return sum;
+}
+
+/* The kernel rows of xs[0..n) in libsvm's PRECOMPUTED layout; '*slab' gets
+ * the memory to free. */
+static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, enum svmfit_kernel kern, double gamma,
+                                     struct svm_node **slab)
+{
+    size_t w = n + 2;
+    struct svm_node *all = xcalloc(xmul(n, w), sizeof *all);
+    struct svm_node **rows = xcalloc(n, sizeof *rows);
+    double *sq = xcalloc(n, sizeof *sq);
+    for (size_t i = 0; i < n; i++) {
+        rows[i] = all + i * w;
+        rows[i][0].index = 0;
+        rows[i][0].value = (double)(i + 1);
+        rows[i][n + 1].index = -1;
+        sq[i] = node_dot(xs[i], xs[i]);
+    }
+    for (size_t i = 0; i < n; i++)
+        for (size_t j = 0; j <= i; j++) {
+            double kv = kern == SVMFIT_RBF ? exp(-gamma * (sq[i] + sq[j] - 2 * node_dot(xs[i], xs[j])))
+                                           : node_dot(xs[i], xs[j]);
+            rows[i][j + 1].index = (int)j + 1;
+            rows[i][j + 1].value = kv;
+            rows[j][i + 1].index = (int)i + 1;
+            rows[j][i + 1].value = kv;
+        }
+    free(sq);
+    *slab = all;
+    return rows;
 }
 
 svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const struct svmfit_params *p,
@@ -314,20 +395,28 @@ svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const s
     free(count);
 
     svmfit_model *out = NULL;
+    struct svm_node **kx = NULL, *kslab = NULL;
     const char *bad = svm_check_parameter(&prob, &par);
     if (bad) {
         err_set(e, NULL, 0, "SVM settings rejected: %s", bad);
     } else {
+        if (X->n <= PRECOMP_MAX_ROWS && !p->nodes_only) {
+            kx = kernel_rows(xs, X->n, p->kernel, gamma, &kslab);
+            prob.x = kx;
+            par.kernel_type = PRECOMPUTED;
+        }
         pthread_once(&quiet_once, set_quiet);
         srand((unsigned)(p->seed ^ (p->seed >> 32))); /* this thread's rand(): see above */
         struct svm_model *sm = svm_train(&prob, &par);
         if (!sm || !sm->probA || !sm->probB) {
             err_set(e, NULL, 0, "the SVM could not be trained");
         } else {
-            out = copy_out(sm, k, X->d, p->kernel, gamma);
+            out = copy_out(sm, kx ? xs : NULL, k, X->d, p->kernel, gamma);
         }
         svm_free_and_destroy_model(&sm); /* model first: it points into the problem */
     }
+    free(kx);
+    free(kslab);
     free(par.weight_label); /* ours, not svm_destroy_param's: allocated here */
     free(par.weight);
     free(xs);
