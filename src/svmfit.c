@@ -286,31 +286,76 @@ static double node_dot(const struct svm_node *px, const struct svm_node *py)
     return sum;
 }
 
-/* The kernel rows of xs[0..n) in libsvm's PRECOMPUTED layout; '*slab' gets
- * the memory to free. */
-static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, enum svmfit_kernel kern, double gamma,
-                                     struct svm_node **slab)
+/* node_dot of dense row a with four dense rows b0..b3 (every index 1..d
+ * present): the same products added in the same order, four sums at once. */
+static void dense_dot4(const double *a, const double *b0, const double *b1, const double *b2, const double *b3,
+                       size_t d, double *out)
+{
+    double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+    for (size_t q = 0; q < d; q++) {
+        s0 += a[q] * b0[q];
+        s1 += a[q] * b1[q];
+        s2 += a[q] * b2[q];
+        s3 += a[q] * b3[q];
+    }
+    out[0] = s0;
+    out[1] = s1;
+    out[2] = s2;
+    out[3] = s3;
+}
+
+/* The kernel rows of xs[0..n) (d features) in libsvm's PRECOMPUTED layout;
+ * '*slab' gets the memory to free. */
+static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_t d, enum svmfit_kernel kern,
+                                     double gamma, struct svm_node **slab)
 {
     size_t w = n + 2;
     struct svm_node *all = xcalloc(xmul(n, w), sizeof *all);
     struct svm_node **rows = xcalloc(n, sizeof *rows);
     double *sq = xcalloc(n, sizeof *sq);
+    /* Rows with every feature non-zero, copied out densely, take dense_dot4. */
+    size_t *full = xcalloc(n, sizeof *full), nfull = 0;
+    double *dv = NULL;
     for (size_t i = 0; i < n; i++) {
         rows[i] = all + i * w;
         rows[i][0].index = 0;
         rows[i][0].value = (double)(i + 1);
         rows[i][n + 1].index = -1;
         sq[i] = node_dot(xs[i], xs[i]);
+        size_t c = 0;
+        while (xs[i][c].index != -1)
+            c++;
+        full[i] = c == d ? ++nfull : 0; /* 1-based position among the full rows */
     }
-    for (size_t i = 0; i < n; i++)
-        for (size_t j = 0; j <= i; j++) {
-            double kv = kern == SVMFIT_RBF ? exp(-gamma * (sq[i] + sq[j] - 2 * node_dot(xs[i], xs[j])))
-                                           : node_dot(xs[i], xs[j]);
+    if (nfull) {
+        dv = xcalloc(xmul(nfull, d), sizeof *dv);
+        for (size_t i = 0; i < n; i++)
+            for (size_t q = 0; full[i] && q < d; q++)
+                dv[(full[i] - 1) * d + q] = xs[i][q].value;
+    }
+    double *dots = xcalloc(n, sizeof *dots);
+    for (size_t i = 0; i < n; i++) {
+        size_t j = 0;
+        if (full[i]) /* runs of four full rows j..j+3 below i */
+            while (j + 3 <= i && full[j] && full[j + 1] && full[j + 2] && full[j + 3]) {
+                const double *a = dv + (full[i] - 1) * d;
+                dense_dot4(a, dv + (full[j] - 1) * d, dv + (full[j + 1] - 1) * d, dv + (full[j + 2] - 1) * d,
+                           dv + (full[j + 3] - 1) * d, d, dots + j);
+                j += 4;
+            }
+        for (; j <= i; j++)
+            dots[j] = node_dot(xs[i], xs[j]);
+        for (j = 0; j <= i; j++) {
+            double kv = kern == SVMFIT_RBF ? exp(-gamma * (sq[i] + sq[j] - 2 * dots[j])) : dots[j];
             rows[i][j + 1].index = (int)j + 1;
             rows[i][j + 1].value = kv;
             rows[j][i + 1].index = (int)i + 1;
             rows[j][i + 1].value = kv;
         }
+    }
+    free(dots);
+    free(dv);
+    free(full);
     free(sq);
     *slab = all;
     return rows;
@@ -401,7 +446,7 @@ svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const s
         err_set(e, NULL, 0, "SVM settings rejected: %s", bad);
     } else {
         if (X->n <= PRECOMP_MAX_ROWS && !p->nodes_only) {
-            kx = kernel_rows(xs, X->n, p->kernel, gamma, &kslab);
+            kx = kernel_rows(xs, X->n, X->d, p->kernel, gamma, &kslab);
             prob.x = kx;
             par.kernel_type = PRECOMPUTED;
         }
