@@ -333,7 +333,7 @@ static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_
             for (size_t q = 0; full[i] && q < d; q++)
                 dv[(full[i] - 1) * d + q] = xs[i][q].value;
     }
-    double *dots = xcalloc(n, sizeof *dots);
+    double *dots = xcalloc(n, sizeof *dots), *ri = xcalloc(d ? d : 1, sizeof *ri);
     for (size_t i = 0; i < n; i++) {
         size_t j = 0;
         if (full[i]) /* runs of four full rows j..j+3 below i */
@@ -343,8 +343,22 @@ static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_
                            dv + (full[j + 3] - 1) * d, d, dots + j);
                 j += 4;
             }
-        for (; j <= i; j++)
-            dots[j] = node_dot(xs[i], xs[j]);
+        /* The rest against row i scattered densely: for each index of row j
+         * in ascending order, the product with row i's value where row i has
+         * one; exactly node_dot's sum. */
+        for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+            ri[p->index - 1] = p->value;
+        for (; j <= i; j++) {
+            double sum = 0;
+            for (const struct svm_node *p = xs[j]; p->index != -1; p++) {
+                double a = ri[p->index - 1];
+                if (a != 0)
+                    sum += a * p->value;
+            }
+            dots[j] = sum;
+        }
+        for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+            ri[p->index - 1] = 0;
         for (j = 0; j <= i; j++) {
             double kv = kern == SVMFIT_RBF ? exp(-gamma * (sq[i] + sq[j] - 2 * dots[j])) : dots[j];
             rows[i][j + 1].index = (int)j + 1;
@@ -354,6 +368,7 @@ static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_
         }
     }
     free(dots);
+    free(ri);
     free(dv);
     free(full);
     free(sq);
