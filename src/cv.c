@@ -13,6 +13,7 @@
 
 #include "vecsift/corpus.h"
 #include "vecsift/err.h"
+#include "vecsift/fmat.h"
 #include "vecsift/par.h"
 #include "vecsift/rng.h"
 #include "vecsift/vecset.h"
@@ -170,26 +171,123 @@ struct task_out {
     int unconverged, tiny;
     size_t ntrain;
     double C, gamma, inner;
+    double secs;            /* this spec's time in this fold (shared featurising split evenly) */
     struct features_stats st;
 };
 
 struct ctx {
-    const struct pipeline_spec *s;
+    const struct pipeline_spec *s;  /* (ns) */
+    size_t ns;
     const struct corpus *c;
     const struct vecset *vs;
     const struct cv_params *p;
-    struct cv_result *r;
+    struct cv_result *r;    /* (ns); every r[j].f is the same assignment */
     const features_cache *cache;  /* pooled rows shared by every fit */
     struct rng base;
-    struct task_out *out;   /* (R * F) */
+    struct task_out *out;   /* (ns, R * F) */
 };
+
+static void scatter(struct cv_result *r, size_t rep, const size_t *te, size_t nte, const double *P)
+{
+    size_t N = r->n, K = r->k;
+    double *dst = r->proba + rep * N * K;
+    for (size_t i = 0; i < nte; i++)
+        memcpy(dst + te[i] * K, P + i * K, K * sizeof *P);
+}
+
+/* Spec j on its own: (search,) fit, predict. */
+static void fit_one(struct ctx *x, size_t j, size_t task, size_t rep, const size_t *tr, size_t ntr, const size_t *te,
+                    size_t nte, struct rng tr_rng)
+{
+    double t0 = now();
+    size_t T = x->r->repeats * (size_t)x->r->folds, K = x->r->k;
+    struct task_out *o = &x->out[j * T + task];
+    const struct pipeline_spec *s = &x->s[j];
+    o->ntrain = ntr;
+    struct pipeline_spec spec = *s;
+    if (x->p->search && search_rows(s, x->c, x->vs, x->cache, tr, ntr, x->p->group, x->p->n_groups, x->p->inner_folds,
+                                    rng_next(&tr_rng), &spec, &o->inner, &o->e) < 0) {
+        o->failed = 1;
+        return;
+    }
+    o->C = spec.C;
+    o->gamma = spec.gamma < 0 ? -spec.gamma : 1.0;
+    struct pipeline_fit_info info;
+    pipeline *pl = pipeline_fit_cached(&spec, &x->c->docs, x->c->ds.y, K, tr, ntr, x->vs, x->cache, &info, &o->e);
+    if (!pl) {
+        o->failed = 1;
+        return;
+    }
+    o->unconverged = !info.converged;
+    o->tiny = info.tiny_label;
+    double *P = xcalloc(xmul(nte ? nte : 1, K), sizeof *P);
+    pipeline_proba_cached(pl, x->cache, &x->c->docs, te, nte, P, &o->st);
+    scatter(&x->r[j], rep, te, nte, P);
+    free(P);
+    pipeline_free(pl);
+    o->secs = now() - t0;
+}
+
+/* Every spec on one featurizer: the featurizer is fitted and the rows
+ * featurized once, then each classifier is fitted on the same matrix.  The
+ * same calls, in the same order, as fit_one makes per spec, so the same
+ * numbers. */
+static void fit_shared(struct ctx *x, size_t task, size_t rep, const size_t *tr, size_t ntr, const size_t *te,
+                       size_t nte)
+{
+    double t0 = now();
+    size_t T = x->r->repeats * (size_t)x->r->folds, K = x->r->k;
+    const struct corpus *c = x->c;
+    struct task_out *o0 = &x->out[task];
+    struct fmat Xtr = FMAT_INIT, Xte = FMAT_INIT;
+    featurizer *fz = features_fit_transform(&x->s[0].feat, &c->docs, tr, ntr, x->vs, x->cache, &Xtr, NULL, &o0->e);
+    if (!fz) {
+        fmat_release(&Xtr);
+        for (size_t j = 0; j < x->ns; j++) {
+            x->out[j * T + task].e = o0->e;
+            x->out[j * T + task].failed = 1;
+        }
+        return;
+    }
+    struct features_stats st;
+    memset(&st, 0, sizeof st);
+    features_transform_cached(fz, x->cache, &c->docs, te, nte, &Xte, &st);
+    int *yy = xcalloc(ntr ? ntr : 1, sizeof *yy);
+    for (size_t i = 0; i < ntr; i++)
+        yy[i] = c->ds.y[tr[i]];
+    double *P = xcalloc(xmul(nte ? nte : 1, K), sizeof *P);
+    double share = (now() - t0) / (double)x->ns;
+    for (size_t j = 0; j < x->ns; j++) {
+        double t1 = now();
+        struct task_out *o = &x->out[j * T + task];
+        const struct pipeline_spec *s = &x->s[j];
+        o->ntrain = ntr;
+        o->C = s->C;
+        o->gamma = s->gamma < 0 ? -s->gamma : 1.0;
+        o->st = st;
+        struct pipeline_fit_info info;
+        memset(&info, 0, sizeof info);
+        if (pipeline_fit_proba_featurized(s, K, &Xtr, yy, &Xte, P, &info, &o->e) < 0) {
+            o->failed = 1;
+            continue;
+        }
+        o->unconverged = !info.converged;
+        o->tiny = info.tiny_label;
+        scatter(&x->r[j], rep, te, nte, P);
+        o->secs = share + (now() - t1);
+    }
+    free(P);
+    free(yy);
+    fmat_release(&Xtr);
+    fmat_release(&Xte);
+    features_free(fz);
+}
 
 static void one_fold(void *arg, size_t task)
 {
     struct ctx *x = arg;
     struct cv_result *r = x->r;
-    struct task_out *o = &x->out[task];
-    size_t N = r->n, K = r->k, rep = task / (size_t)r->folds;
+    size_t N = r->n, K = r->k, T = r->repeats * (size_t)r->folds, rep = task / (size_t)r->folds;
     int f = (int)(task % (size_t)r->folds);
     const int *fold = folds_repeat(&r->f, rep);
     size_t *tr = xcalloc(N, sizeof *tr), *te = xcalloc(N, sizeof *te);
@@ -204,9 +302,13 @@ static void one_fold(void *arg, size_t task)
     rng_child(&x->base, 1000003ULL * (rep + 1) + (uint64_t)f, &tr_rng);
     if (x->p->train_fraction < 1.0) {
         size_t *sub = xcalloc(ntr ? ntr : 1, sizeof *sub);
+        struct task_out *o = &x->out[task];
         size_t m = folds_subsample(tr, ntr, x->c->ds.y, (int)K, x->p->train_fraction, &tr_rng, sub, &o->e);
         if (m == 0) {
-            o->failed = 1;
+            for (size_t j = 0; j < x->ns; j++) {
+                x->out[j * T + task].e = o->e;
+                x->out[j * T + task].failed = 1;
+            }
             free(sub);
             goto out;
         }
@@ -214,89 +316,21 @@ static void one_fold(void *arg, size_t task)
         tr = sub;
         ntr = m;
     }
-    o->ntrain = ntr;
-    struct pipeline_spec spec = *x->s;
-    if (x->p->search && search_rows(x->s, x->c, x->vs, x->cache, tr, ntr, x->p->group, x->p->n_groups, x->p->inner_folds,
-                                    rng_next(&tr_rng), &spec, &o->inner, &o->e) < 0) {
-        o->failed = 1;
-        goto out;
-    }
-    o->C = spec.C;
-    o->gamma = spec.gamma < 0 ? -spec.gamma : 1.0;
-    struct pipeline_fit_info info;
-    pipeline *pl = pipeline_fit_cached(&spec, &x->c->docs, x->c->ds.y, K, tr, ntr, x->vs, x->cache, &info, &o->e);
-    if (!pl) {
-        o->failed = 1;
-        goto out;
-    }
-    o->unconverged = !info.converged;
-    o->tiny = info.tiny_label;
-    double *P = xcalloc(xmul(nte ? nte : 1, K), sizeof *P);
-    pipeline_proba_cached(pl, x->cache, &x->c->docs, te, nte, P, &o->st);
-    double *dst = r->proba + rep * N * K;
-    for (size_t i = 0; i < nte; i++)
-        memcpy(dst + te[i] * K, P + i * K, K * sizeof *P);
-    free(P);
-    pipeline_free(pl);
+    if (x->ns > 1 && !x->p->search)
+        fit_shared(x, task, rep, tr, ntr, te, nte);
+    else
+        for (size_t j = 0; j < x->ns; j++)
+            fit_one(x, j, task, rep, tr, ntr, te, nte, tr_rng);
 out:
     free(tr);
     free(te);
 }
 
-int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs,
-           const struct cv_params *p, struct err *e)
+/* Summaries of one spec's finished folds 'out' (R * F), in a fixed order. */
+static int summarise(struct cv_result *r, const struct task_out *out, const struct pipeline_spec *s,
+                     const struct corpus *c, const struct cv_params *p, struct err *e)
 {
-    memset(r, 0, sizeof *r);
-    double t0 = now();
-    size_t N = c->ds.n, K = c->ds.nlabels;
-    if (!c->ds.y) {
-        err_set(e, c->ds.path, 0, "cross-validation needs labelled rows");
-        return -1;
-    }
-    if (K < 2) {
-        err_set(e, c->ds.path, 0, "only one label ('%s'); there is nothing to tell apart", K ? c->ds.labels[0] : "");
-        return -1;
-    }
-    r->n = N;
-    r->k = K;
-    r->repeats = p->repeats;
-    r->folds = p->folds;
-    struct ctx x = { s, c, vs, p, r, NULL, { { 0 } }, NULL };
-    rng_seed(&x.base, p->seed);
-    int rc;
-    if (p->group)
-        rc = folds_make_grouped(&r->f, c->ds.y, p->group, N, (int)K, p->n_groups, (const char *const *)c->ds.labels,
-                                p->folds, p->repeats, &x.base, e);
-    else
-        rc = folds_make(&r->f, c->ds.y, N, (int)K, (const char *const *)c->ds.labels, p->folds, p->repeats, &x.base,
-                        e);
-    if (rc < 0) {
-        struct err in = *e; /* the folds module knows no file name: add it */
-        err_clear(e);
-        err_set(e, c->ds.path, 0, "%s", in.msg);
-        e->code = in.code;
-        if (in.hint[0])
-            err_hint(e, "%s", in.hint);
-        cv_release(r);
-        return -1;
-    }
-    size_t T = p->repeats * (size_t)p->folds;
-    r->proba = xcalloc(xmul(xmul(p->repeats, N), K), sizeof *r->proba);
-    x.out = xcalloc(T, sizeof *x.out);
-    features_cache *cache = features_cache_new(&s->feat, &c->docs, vs);
-    x.cache = cache;
-    par_for(p->threads, T, one_fold, &x);
-    features_cache_free(cache);
-
-    /* Report the failure of the first task in task order, whichever thread
-     * hit it first, so the message does not depend on scheduling. */
-    for (size_t t = 0; t < T; t++)
-        if (x.out[t].failed) {
-            *e = x.out[t].e;
-            free(x.out);
-            cv_release(r);
-            return -1;
-        }
+    size_t N = r->n, K = r->k, T = p->repeats * (size_t)p->folds;
     if (p->search) {
         r->chosen_C = xcalloc(T, sizeof *r->chosen_C);
         r->chosen_score = xcalloc(T, sizeof *r->chosen_score);
@@ -305,23 +339,21 @@ int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corp
     }
     double ntrain = 0;
     for (size_t t = 0; t < T; t++) {
-        r->unconverged += x.out[t].unconverged;
-        r->tiny_label |= x.out[t].tiny;
-        r->held_out.tokens += x.out[t].st.tokens;
-        r->held_out.with_vector += x.out[t].st.with_vector;
-        r->held_out.empty_rows += x.out[t].st.empty_rows;
-        ntrain += (double)x.out[t].ntrain;
+        r->unconverged += out[t].unconverged;
+        r->tiny_label |= out[t].tiny;
+        r->held_out.tokens += out[t].st.tokens;
+        r->held_out.with_vector += out[t].st.with_vector;
+        r->held_out.empty_rows += out[t].st.empty_rows;
+        ntrain += (double)out[t].ntrain;
         if (r->chosen_C) {
-            r->chosen_C[t] = x.out[t].C;
-            r->chosen_score[t] = x.out[t].inner;
+            r->chosen_C[t] = out[t].C;
+            r->chosen_score[t] = out[t].inner;
         }
         if (r->chosen_gamma)
-            r->chosen_gamma[t] = x.out[t].gamma;
+            r->chosen_gamma[t] = out[t].gamma;
     }
     r->train_rows = (size_t)llround(ntrain / (double)T);
-    free(x.out);
 
-    /* Summaries, in a fixed order. */
     r->pred = xcalloc(xmul(p->repeats, N), sizeof *r->pred);
     r->all = metrics_new((int)K);
     r->per_fold = xcalloc(T, sizeof *r->per_fold);
@@ -344,12 +376,114 @@ int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corp
             metrics_add(r->all, c->ds.y[i], r->pred[rep * N + i], r->proba + (rep * N + i) * K, NULL);
     }
     metrics_compute(r->all, &r->pooled);
-    if (metrics_summarize(r->per_fold, T, &r->spread, e) < 0) {
-        cv_release(r);
+    return metrics_summarize(r->per_fold, T, &r->spread, e);
+}
+
+/* The fold assignment of 'p' into 'f', drawing from 'g' (seeded with p->seed). */
+static int make_folds(struct folds *f, const struct corpus *c, const struct cv_params *p, struct rng *g,
+                      struct err *e)
+{
+    size_t N = c->ds.n, K = c->ds.nlabels;
+    int rc;
+    if (p->group)
+        rc = folds_make_grouped(f, c->ds.y, p->group, N, (int)K, p->n_groups, (const char *const *)c->ds.labels,
+                                p->folds, p->repeats, g, e);
+    else
+        rc = folds_make(f, c->ds.y, N, (int)K, (const char *const *)c->ds.labels, p->folds, p->repeats, g, e);
+    if (rc < 0) {
+        struct err in = *e; /* the folds module knows no file name: add it */
+        err_clear(e);
+        err_set(e, c->ds.path, 0, "%s", in.msg);
+        e->code = in.code;
+        if (in.hint[0])
+            err_hint(e, "%s", in.hint);
+    }
+    return rc;
+}
+
+static int same_features(const struct features_params *a, const struct features_params *b)
+{
+    return a->pool == b->pool && a->sublinear_tf == b->sublinear_tf && a->sif_a == b->sif_a &&
+           a->bigrams == b->bigrams && a->min_df == b->min_df && a->scale == b->scale;
+}
+
+int cv_run_shared(struct cv_result *r, const struct pipeline_spec *s, size_t ns, const struct corpus *c,
+                  const struct vecset *vs, const struct cv_params *p, struct err *e)
+{
+    for (size_t j = 0; j < ns; j++)
+        memset(&r[j], 0, sizeof r[j]);
+    double t0 = now();
+    size_t N = c->ds.n, K = c->ds.nlabels;
+    if (!c->ds.y) {
+        err_set(e, c->ds.path, 0, "cross-validation needs labelled rows");
         return -1;
     }
-    r->seconds = now() - t0;
-    return 0;
+    if (K < 2) {
+        err_set(e, c->ds.path, 0, "only one label ('%s'); there is nothing to tell apart", K ? c->ds.labels[0] : "");
+        return -1;
+    }
+    for (size_t j = 1; j < ns; j++)
+        if (!same_features(&s[j].feat, &s[0].feat)) {
+            err_set(e, NULL, 0, "shared cross-validation needs the same feature settings for every classifier");
+            return -1;
+        }
+    struct ctx x = { s, ns, c, vs, p, r, NULL, { { 0 } }, NULL };
+    rng_seed(&x.base, p->seed);
+    for (size_t j = 0; j < ns; j++) {
+        r[j].n = N;
+        r[j].k = K;
+        r[j].repeats = p->repeats;
+        r[j].folds = p->folds;
+        /* The same assignment for each: the same seed, the same draws.  The
+         * first one's draws leave x.base where the folds' rngs start. */
+        struct rng g;
+        rng_seed(&g, p->seed);
+        if (make_folds(&r[j].f, c, p, j == 0 ? &x.base : &g, e) < 0) {
+            for (size_t q = 0; q <= j; q++)
+                cv_release(&r[q]);
+            return -1;
+        }
+        r[j].proba = xcalloc(xmul(xmul(p->repeats, N), K), sizeof *r[j].proba);
+    }
+    size_t T = p->repeats * (size_t)p->folds;
+    x.out = xcalloc(xmul(ns, T), sizeof *x.out);
+    features_cache *cache = features_cache_new(&s[0].feat, &c->docs, vs);
+    x.cache = cache;
+    par_for(p->threads, T, one_fold, &x);
+    features_cache_free(cache);
+
+    /* Report the failure of the first task in spec then task order, whichever
+     * thread hit it first, so the message does not depend on scheduling. */
+    int rc = 0;
+    for (size_t t = 0; t < ns * T && rc == 0; t++)
+        if (x.out[t].failed) {
+            *e = x.out[t].e;
+            rc = -1;
+        }
+    double busy = 0, spent[64] = { 0 }, *sp = ns <= 64 ? spent : xcalloc(ns, sizeof *sp);
+    for (size_t j = 0; j < ns && rc == 0; j++) {
+        if (summarise(&r[j], x.out + j * T, &s[j], c, p, e) < 0)
+            rc = -1;
+        for (size_t t = 0; t < T; t++)
+            sp[j] += x.out[j * T + t].secs;
+        busy += sp[j];
+    }
+    double wall = now() - t0;
+    for (size_t j = 0; j < ns && rc == 0; j++)
+        r[j].seconds = ns == 1 || !(busy > 0) ? wall / (double)ns : wall * sp[j] / busy;
+    if (sp != spent)
+        free(sp);
+    free(x.out);
+    if (rc < 0)
+        for (size_t j = 0; j < ns; j++)
+            cv_release(&r[j]);
+    return rc;
+}
+
+int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corpus *c, const struct vecset *vs,
+           const struct cv_params *p, struct err *e)
+{
+    return cv_run_shared(r, s, 1, c, vs, p, e);
 }
 
 void cv_release(struct cv_result *r)

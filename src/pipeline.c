@@ -134,6 +134,25 @@ fail:
     return NULL;
 }
 
+int pipeline_fit_proba_featurized(const struct pipeline_spec *s, size_t k, const struct fmat *X, const int *y,
+                                  const struct fmat *Xte, double *P, struct pipeline_fit_info *info, struct err *e)
+{
+    if (!(s->C > 0)) {
+        err_set(e, NULL, 0, "C must be positive");
+        return -1;
+    }
+    pipeline p;
+    memset(&p, 0, sizeof p);
+    p.s = *s;
+    p.k = k;
+    int rc = fit_classifier(&p, X, y, info, e);
+    for (size_t i = 0; rc == 0 && i < Xte->n; i++)
+        pipeline_proba_row(&p, Xte, i, P + i * k);
+    linear_release(&p.lin);
+    svmfit_free(p.svm);
+    return rc;
+}
+
 void pipeline_proba_row(const pipeline *p, const struct fmat *X, size_t i, double *prob)
 {
     if (p->s.clf == CLF_LOGREG)

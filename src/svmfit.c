@@ -32,14 +32,95 @@ struct svmfit_model {
     int *nsv;               /* (K) */
 };
 
-/* libsvm uses the process-wide rand() inside svm_train's probability
- * estimate: serialise training so srand(seed) + train is atomic and results
- * repeat whatever the thread count. */
-static pthread_mutex_t train_lock = PTHREAD_MUTEX_INITIALIZER;
+/* ---- rand() and srand() with one state per thread ----
+ *
+ * libsvm's probability estimate (svm_binary_svc_probability, inside
+ * svm_train) shuffles each pair's rows for its internal 5-fold
+ * cross-validation with rand().  glibc's rand() has one state for the whole
+ * process, so two fits on two threads would interleave their draws and the
+ * result would depend on scheduling.
+ *
+ * The two functions below replace the C library's for this program.  The
+ * mechanism is ELF symbol interposition: libsvm.so calls rand through its
+ * PLT, and the dynamic linker binds that call to the first definition in
+ * the lookup order, which starts with the executable.  GNU ld puts a symbol
+ * the executable defines into its dynamic symbol table when a shared library
+ * on the link line refers to it (libsvm.so refers to rand@GLIBC_2.2.5), and
+ * an unversioned definition satisfies a versioned reference.  Every
+ * executable linked with svmfit.o (vecsift, the tests, the fuzzers) thus
+ * gives libsvm these.  test_svmfit.c proves the binding: it counts the
+ * draws libsvm makes during one fit and checks them against the number
+ * svm_binary_svc_probability must make, and it checks that fits on four
+ * threads at once give bit-identical models to the same fits one after
+ * another.  C11 reserves the names (7.1.3); POSIX says rand() need not be
+ * thread-safe, and no sanitizer or valgrind tool replaces them (the tests run
+ * under both in tools/run-hardening).
+ *
+ * Each thread gets glibc's own generator (random_r.c, TYPE_3: the additive
+ * feedback generator r[i] = r[i-3] + r[i-31] over 31 words, seeded by the
+ * Park and Miller (1988, "Random Number Generators: Good Ones Are Hard to
+ * Find", CACM 31(10)) minimal standard generator in Schrage's form, the
+ * first 310 outputs discarded), so a fit draws exactly what it drew from
+ * glibc's rand() before: results are unchanged.  test_svmfit.c checks the
+ * sequence against glibc's random_r for several seeds.  A thread that never
+ * calls srand() starts as srand(1), as the C standard requires. */
+struct rand_state {
+    int32_t r[31];
+    int f, b;           /* front and back taps, 3 apart */
+    int seeded;
+    uint64_t draws;
+};
+static _Thread_local struct rand_state rs;
+
+void srand(unsigned seed)
+{
+    if (seed == 0)
+        seed = 1;
+    int32_t word = (int32_t)seed;
+    rs.r[0] = word;
+    for (int i = 1; i < 31; i++) {
+        long hi = word / 127773, lo = word % 127773;
+        long w = 16807 * lo - 2836 * hi;
+        if (w < 0)
+            w += 2147483647;
+        rs.r[i] = word = (int32_t)w;
+    }
+    rs.f = 3;
+    rs.b = 0;
+    rs.seeded = 1;
+    uint64_t keep = rs.draws;
+    for (int i = 0; i < 310; i++)
+        (void)rand();
+    rs.draws = keep;
+}
+
+int rand(void)
+{
+    if (!rs.seeded)
+        srand(1);
+    uint32_t v = (uint32_t)rs.r[rs.f] + (uint32_t)rs.r[rs.b];
+    rs.r[rs.f] = (int32_t)v;
+    rs.f = rs.f == 30 ? 0 : rs.f + 1;
+    rs.b = rs.b == 30 ? 0 : rs.b + 1;
+    rs.draws++;
+    return (int)(v >> 1);
+}
+
+uint64_t svmfit_rand_draws(void)
+{
+    return rs.draws;
+}
 
 static void quiet(const char *s)
 {
     (void)s;
+}
+
+static pthread_once_t quiet_once = PTHREAD_ONCE_INIT;
+
+static void set_quiet(void)
+{
+    svm_set_print_string_function(quiet);
 }
 
 /* Row i of X as libsvm nodes (1-based indices, zeros omitted, -1 end).
@@ -111,8 +192,17 @@ static void rebuild(svmfit_model *m, size_t l)
     m->m.free_sv = 0;
 }
 
+/* Support vector i of libsvm's model 'src' as feature nodes: trained on a
+ * precomputed kernel ('rows' not NULL), its node 0 holds the training row's
+ * serial number (1-based), and 'rows' the row's feature nodes. */
+static const struct svm_node *sv_nodes(const struct svm_model *src, size_t i, struct svm_node *const *rows)
+{
+    return rows ? rows[(size_t)src->SV[i][0].value - 1] : src->SV[i];
+}
+
 /* Copy what prediction needs out of libsvm's model 'src'. */
-static svmfit_model *copy_out(const struct svm_model *src, size_t k, size_t d, enum svmfit_kernel kern, double gamma)
+static svmfit_model *copy_out(const struct svm_model *src, struct svm_node *const *rows, size_t k, size_t d,
+                              enum svmfit_kernel kern, double gamma)
 {
     svmfit_model *m = xcalloc(1, sizeof *m);
     size_t l = (size_t)src->l, np = k * (k - 1) / 2;
@@ -121,7 +211,7 @@ static svmfit_model *copy_out(const struct svm_model *src, size_t k, size_t d, e
     m->kernel = kern;
     m->gamma = gamma;
     for (size_t i = 0; i < l; i++)
-        for (const struct svm_node *p = src->SV[i];; p++) {
+        for (const struct svm_node *p = sv_nodes(src, i, rows);; p++) {
             m->nnodes++;
             if (p->index == -1)
                 break;
@@ -131,7 +221,7 @@ static svmfit_model *copy_out(const struct svm_model *src, size_t k, size_t d, e
     size_t at = 0;
     for (size_t i = 0; i < l; i++) {
         m->sv[i] = m->nodes + at;
-        for (const struct svm_node *p = src->SV[i];; p++) {
+        for (const struct svm_node *p = sv_nodes(src, i, rows);; p++) {
             m->nodes[at++] = *p;
             if (p->index == -1)
                 break;
@@ -152,6 +242,138 @@ static svmfit_model *copy_out(const struct svm_model *src, size_t k, size_t d, e
     memcpy(m->nsv, src->nSV, k * sizeof(int));
     rebuild(m, l);
     return m;
+}
+
+/* ---- a precomputed kernel matrix ----
+ *
+ * Trained as is, libsvm evaluates the kernel on the sparse nodes again and
+ * again: every pair of classes is trained six times (five for the internal
+ * cross-validation of the probability estimate, one for the model), and
+ * the dot products of dense rows walking node lists were three quarters of
+ * compare's CPU time.  For up to PRECOMP_MAX_ROWS rows the kernel matrix is
+ * computed once per fit instead and handed to libsvm as its PRECOMPUTED
+ * kernel (row i: node 0 holds serial i+1, node j+1 holds K(i, j)).
+ *
+ * The values are libsvm's own, bit for bit: its Kernel::dot (the sum over
+ * shared indices in index order) and, for RBF, its kernel_rbf form
+ * exp(-gamma * (|x|^2 + |y|^2 - 2 x.y)).  So the model's support vectors,
+ * dual coefficients and rho are exactly what libsvm computes from the
+ * feature nodes (test_svmfit.c checks), and prediction, on the rebuilt
+ * model over the feature nodes, is unchanged.  The one difference is inside
+ * the probability estimate: when libsvm predicts its held-out rows there it
+ * uses k_function, whose RBF form is exp(-gamma * |x - y|^2), which rounds
+ * differently in the last bits; with the matrix it reads the kernel_rbf
+ * value instead.  Platt's A and B then differ from the node-based fit by
+ * about 1e-15 relative (the linear kernel has one form, so it is bit for
+ * bit).  The cap keeps the matrix (16 bytes per entry: 36 MB at 1500 rows)
+ * small; larger sets train on the nodes. */
+#define PRECOMP_MAX_ROWS 1500
+
+static double node_dot(const struct svm_node *px, const struct svm_node *py)
+{
+    double sum = 0;
+    while (px->index != -1 && py->index != -1) {
+        if (px->index == py->index) {
+            sum += px->value * py->value;
+            ++px;
+            ++py;
+        } else if (px->index > py->index) {
+            ++py;
+        } else {
+            ++px;
+        }
+    }
+    return sum;
+}
+
+/* node_dot of dense row a with four dense rows b0..b3 (every index 1..d
+ * present): the same products added in the same order, four sums at once. */
+static void dense_dot4(const double *a, const double *b0, const double *b1, const double *b2, const double *b3,
+                       size_t d, double *out)
+{
+    double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+    for (size_t q = 0; q < d; q++) {
+        s0 += a[q] * b0[q];
+        s1 += a[q] * b1[q];
+        s2 += a[q] * b2[q];
+        s3 += a[q] * b3[q];
+    }
+    out[0] = s0;
+    out[1] = s1;
+    out[2] = s2;
+    out[3] = s3;
+}
+
+/* The kernel rows of xs[0..n) (d features) in libsvm's PRECOMPUTED layout;
+ * '*slab' gets the memory to free. */
+static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_t d, enum svmfit_kernel kern,
+                                     double gamma, struct svm_node **slab)
+{
+    size_t w = n + 2;
+    struct svm_node *all = xcalloc(xmul(n, w), sizeof *all);
+    struct svm_node **rows = xcalloc(n, sizeof *rows);
+    double *sq = xcalloc(n, sizeof *sq);
+    /* Rows with every feature non-zero, copied out densely, take dense_dot4. */
+    size_t *full = xcalloc(n, sizeof *full), nfull = 0;
+    double *dv = NULL;
+    for (size_t i = 0; i < n; i++) {
+        rows[i] = all + i * w;
+        rows[i][0].index = 0;
+        rows[i][0].value = (double)(i + 1);
+        rows[i][n + 1].index = -1;
+        sq[i] = node_dot(xs[i], xs[i]);
+        size_t c = 0;
+        while (xs[i][c].index != -1)
+            c++;
+        full[i] = c == d ? ++nfull : 0; /* 1-based position among the full rows */
+    }
+    if (nfull) {
+        dv = xcalloc(xmul(nfull, d), sizeof *dv);
+        for (size_t i = 0; i < n; i++)
+            for (size_t q = 0; full[i] && q < d; q++)
+                dv[(full[i] - 1) * d + q] = xs[i][q].value;
+    }
+    double *dots = xcalloc(n, sizeof *dots), *ri = xcalloc(d ? d : 1, sizeof *ri);
+    for (size_t i = 0; i < n; i++) {
+        size_t j = 0;
+        if (full[i]) /* runs of four full rows j..j+3 below i */
+            while (j + 3 <= i && full[j] && full[j + 1] && full[j + 2] && full[j + 3]) {
+                const double *a = dv + (full[i] - 1) * d;
+                dense_dot4(a, dv + (full[j] - 1) * d, dv + (full[j + 1] - 1) * d, dv + (full[j + 2] - 1) * d,
+                           dv + (full[j + 3] - 1) * d, d, dots + j);
+                j += 4;
+            }
+        /* The rest against row i scattered densely: for each index of row j
+         * in ascending order, the product with row i's value where row i has
+         * one; exactly node_dot's sum. */
+        for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+            ri[p->index - 1] = p->value;
+        for (; j <= i; j++) {
+            double sum = 0;
+            for (const struct svm_node *p = xs[j]; p->index != -1; p++) {
+                double a = ri[p->index - 1];
+                if (a != 0)
+                    sum += a * p->value;
+            }
+            dots[j] = sum;
+        }
+        for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+            ri[p->index - 1] = 0;
+        for (j = 0; j <= i; j++) {
+            double kv = kern == SVMFIT_RBF ? exp(-gamma * (sq[i] + sq[j] - 2 * dots[j])) : dots[j];
+            rows[i][j + 1].index = (int)j + 1;
+            rows[i][j + 1].value = kv;
+            rows[j][i + 1].index = (int)i + 1;
+            rows[j][i + 1].value = kv;
+        }
+    }
+    free(dots);
+    free(ri);
+    free(dv);
+    free(full);
+    free(sq);
+    *slab = all;
+    return rows;
 }
 
 svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const struct svmfit_params *p,
@@ -233,22 +455,28 @@ svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const s
     free(count);
 
     svmfit_model *out = NULL;
+    struct svm_node **kx = NULL, *kslab = NULL;
     const char *bad = svm_check_parameter(&prob, &par);
     if (bad) {
         err_set(e, NULL, 0, "SVM settings rejected: %s", bad);
     } else {
-        pthread_mutex_lock(&train_lock);
-        svm_set_print_string_function(quiet);
-        srand((unsigned)(p->seed ^ (p->seed >> 32)));
+        if (X->n <= PRECOMP_MAX_ROWS && !p->nodes_only) {
+            kx = kernel_rows(xs, X->n, X->d, p->kernel, gamma, &kslab);
+            prob.x = kx;
+            par.kernel_type = PRECOMPUTED;
+        }
+        pthread_once(&quiet_once, set_quiet);
+        srand((unsigned)(p->seed ^ (p->seed >> 32))); /* this thread's rand(): see above */
         struct svm_model *sm = svm_train(&prob, &par);
-        pthread_mutex_unlock(&train_lock);
         if (!sm || !sm->probA || !sm->probB) {
             err_set(e, NULL, 0, "the SVM could not be trained");
         } else {
-            out = copy_out(sm, k, X->d, p->kernel, gamma);
+            out = copy_out(sm, kx ? xs : NULL, k, X->d, p->kernel, gamma);
         }
         svm_free_and_destroy_model(&sm); /* model first: it points into the problem */
     }
+    free(kx);
+    free(kslab);
     free(par.weight_label); /* ours, not svm_destroy_param's: allocated here */
     free(par.weight);
     free(xs);

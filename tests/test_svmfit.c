@@ -2,8 +2,12 @@
  * persistence, validation of damaged model fields, training errors.  The
  * comparison with scikit-learn's SVC lives in
  * tests/ext/classifiers_vs_sklearn.py. */
+#define _DEFAULT_SOURCE /* glibc's random_r, the reference for svmfit's rand() */
 #include <criterion/criterion.h>
+#include <limits.h>
 #include <math.h>
+#include <pthread.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "fixtures.h"
@@ -193,4 +197,244 @@ Test(svmfit, same_seed_same_probabilities)
     svmfit_free(a);
     svmfit_free(b);
     fmat_release(&X);
+}
+
+/* ---- svmfit's per-thread rand() (svmfit.c explains the mechanism) ---- */
+
+/* The sequence equals glibc's: srandom_r/random_r on a 128-byte state
+ * (TYPE_3, the state rand() uses; glibc stdlib/random_r.c), for seeds that
+ * cover 0 (taken as 1), small, large and above INT_MAX. */
+Test(svmfit, rand_repeats_glibc_random_r)
+{
+    static const unsigned seeds[] = { 0, 1, 2, 42, 123456789u, 0x80000005u, UINT_MAX };
+    for (size_t s = 0; s < sizeof seeds / sizeof seeds[0]; s++) {
+        struct random_data rd;
+        char st[128];
+        memset(&rd, 0, sizeof rd);
+        memset(st, 0, sizeof st);
+        cr_assert_eq(initstate_r(seeds[s], st, sizeof st, &rd), 0);
+        srand(seeds[s]);
+        uint64_t d0 = svmfit_rand_draws();
+        for (int i = 0; i < 2000; i++) {
+            int32_t want;
+            random_r(&rd, &want);
+            int got = rand();
+            cr_assert_eq(got, want, "seed %u, draw %d: %d, glibc %d", seeds[s], i, got, (int)want);
+        }
+        cr_assert_eq(svmfit_rand_draws() - d0, 2000);
+    }
+}
+
+/* libsvm really calls svmfit's rand(): its probability estimate
+ * (svm_binary_svc_probability in libsvm 3.24's svm.cpp) shuffles each pair
+ * of classes' rows with one rand() per row, so a fit on N rows and K labels
+ * (every pair of labels once) draws (K - 1) * N times.  Had the call gone to
+ * the C library, the count would not move. */
+Test(svmfit, libsvm_draws_from_our_rand)
+{
+    struct fmat X = FMAT_INIT;
+    int y[60];
+    problem(60, 4, &X, y);
+    uint64_t before = svmfit_rand_draws();
+    svmfit_model *m = train(&X, y, 3, SVMFIT_RBF);
+    cr_assert_eq(svmfit_rand_draws() - before, 2 * 60, "libsvm drew %llu times",
+                 (unsigned long long)(svmfit_rand_draws() - before));
+    svmfit_free(m);
+    fmat_release(&X);
+}
+
+/* A thread's srand() leaves other threads' sequences alone.  Thread A seeds,
+ * then thread B seeds, then both draw: with one process-wide state A would
+ * get B's sequence, so this fails for certain without per-thread state. */
+struct seeded {
+    pthread_barrier_t *bar;
+    unsigned seed;
+    int order;          /* 0 seeds first, 1 second */
+    int got[50];
+};
+
+static void *seed_then_draw(void *arg)
+{
+    struct seeded *s = arg;
+    if (s->order == 0)
+        srand(s->seed);
+    pthread_barrier_wait(s->bar);
+    if (s->order == 1)
+        srand(s->seed);
+    pthread_barrier_wait(s->bar);
+    for (int i = 0; i < 50; i++)
+        s->got[i] = rand();
+    return NULL;
+}
+
+Test(svmfit, srand_on_one_thread_leaves_others_alone)
+{
+    pthread_barrier_t bar;
+    pthread_barrier_init(&bar, NULL, 2);
+    struct seeded a = { &bar, 7, 0, { 0 } }, b = { &bar, 8, 1, { 0 } };
+    pthread_t ta, tb;
+    pthread_create(&ta, NULL, seed_then_draw, &a);
+    pthread_create(&tb, NULL, seed_then_draw, &b);
+    pthread_join(ta, NULL);
+    pthread_join(tb, NULL);
+    pthread_barrier_destroy(&bar);
+    struct seeded *both[2] = { &a, &b };
+    for (int t = 0; t < 2; t++) {
+        srand(both[t]->seed);
+        for (int i = 0; i < 50; i++)
+            cr_assert_eq(both[t]->got[i], rand(), "thread seeded %u, draw %d", both[t]->seed, i);
+    }
+}
+
+/* Fits with probability on four threads at once give bit-identical models
+ * (every saved field, numbers printed exactly) to the same fits one after
+ * another.  The seeds differ per fit and a different seed gives a different
+ * model, so interleaved draws would show. */
+#define NFIT 4
+
+struct fitjob {
+    pthread_barrier_t *bar;
+    const struct fmat *X;
+    const int *y;
+    uint64_t seed;
+    char *json;
+};
+
+static char *fit_json(const struct fmat *X, const int *y, uint64_t seed)
+{
+    struct svmfit_params p = SVMFIT_PARAMS_INIT;
+    p.seed = seed;
+    struct err e = ERR_INIT;
+    svmfit_model *m = svmfit_train(X, y, 3, &p, NULL, &e);
+    if (!m)
+        return NULL;
+    cJSON *obj = cJSON_CreateObject();
+    svmfit_save(m, obj);
+    char *s = cJSON_PrintUnformatted(obj);
+    cJSON_Delete(obj);
+    svmfit_free(m);
+    return s;
+}
+
+static void *fit_thread(void *arg)
+{
+    struct fitjob *j = arg;
+    pthread_barrier_wait(j->bar);
+    j->json = fit_json(j->X, j->y, j->seed);
+    return NULL;
+}
+
+Test(svmfit, concurrent_fits_equal_sequential_fits)
+{
+    struct fmat X[NFIT];
+    int y[NFIT][80];
+    char *seq[NFIT];
+    for (int t = 0; t < NFIT; t++) {
+        X[t] = (struct fmat)FMAT_INIT;
+        problem(80, 20 + (uint64_t)t, &X[t], y[t]);
+        seq[t] = fit_json(&X[t], y[t], 100 + (uint64_t)t);
+        cr_assert_not_null(seq[t]);
+    }
+    char *other = fit_json(&X[0], y[0], 999);
+    cr_assert(strcmp(other, seq[0]) != 0, "the seed should change the probability estimate");
+    cJSON_free(other);
+    pthread_barrier_t bar;
+    pthread_barrier_init(&bar, NULL, NFIT);
+    for (int round = 0; round < 3; round++) {
+        struct fitjob jobs[NFIT];
+        pthread_t th[NFIT];
+        for (int t = 0; t < NFIT; t++) {
+            jobs[t] = (struct fitjob){ &bar, &X[t], y[t], 100 + (uint64_t)t, NULL };
+            pthread_create(&th[t], NULL, fit_thread, &jobs[t]);
+        }
+        for (int t = 0; t < NFIT; t++) {
+            pthread_join(th[t], NULL);
+            cr_assert_not_null(jobs[t].json);
+            cr_assert_str_eq(jobs[t].json, seq[t], "round %d, fit %d differs from the sequential fit", round, t);
+            cJSON_free(jobs[t].json);
+        }
+    }
+    pthread_barrier_destroy(&bar);
+    for (int t = 0; t < NFIT; t++) {
+        cJSON_free(seq[t]);
+        fmat_release(&X[t]);
+    }
+}
+
+/* ---- training on a precomputed kernel matrix (svmfit.c) ---- */
+
+static cJSON *fit_obj(const struct fmat *X, const int *y, enum svmfit_kernel kern, int nodes_only)
+{
+    struct svmfit_params p = SVMFIT_PARAMS_INIT;
+    p.kernel = kern;
+    p.nodes_only = nodes_only;
+    struct err e = ERR_INIT;
+    svmfit_model *m = svmfit_train(X, y, 3, &p, NULL, &e);
+    cr_assert_not_null(m, "%s", e.msg);
+    cJSON *obj = cJSON_CreateObject();
+    svmfit_save(m, obj);
+    svmfit_free(m);
+    return obj;
+}
+
+static void expect_same_field(const cJSON *a, const cJSON *b, const char *key, const char *what)
+{
+    char *sa = cJSON_PrintUnformatted(cJSON_GetObjectItemCaseSensitive(a, key));
+    char *sb = cJSON_PrintUnformatted(cJSON_GetObjectItemCaseSensitive(b, key));
+    cr_assert_str_eq(sa, sb, "%s: field %s differs", what, key);
+    cJSON_free(sa);
+    cJSON_free(sb);
+}
+
+/* The matrix holds libsvm's own kernel values, so the trained model (support
+ * vectors, dual coefficients, rho) is bit for bit what libsvm makes from the
+ * nodes; Platt's A and B too for the linear kernel.  For RBF, libsvm's
+ * held-out predictions inside the probability estimate use its other form
+ * of the kernel, exp(-gamma |x - y|^2), which rounds differently: A and B
+ * agree to 1e-12 relative (svmfit.c).  Dense rows and sparse rows (some
+ * zero, some columns absent) both. */
+Test(svmfit, precomputed_kernel_gives_libsvms_model)
+{
+    struct fmat D = FMAT_INIT, S = FMAT_INIT;
+    int y[90];
+    problem(90, 31, &D, y);
+    fmat_sparse(&S, 12);
+    for (size_t i = 0; i < 90; i++) { /* the dense row spread over 12 columns, every third left out */
+        uint32_t cols[4];
+        double vals[4];
+        size_t nz = 0;
+        for (size_t j = 0; j < 4; j++)
+            if ((i + j) % 3 != 0) {
+                cols[nz] = (uint32_t)(3 * j + i % 3);
+                vals[nz++] = D.x[i * 4 + j];
+            }
+        fmat_push_row(&S, cols, vals, nz);
+    }
+    const struct fmat *mats[2] = { &D, &S };
+    static const char *const exact[] = { "gamma", "slot_label", "slot_support", "rho", "dual_coef", "support_vectors" };
+    for (int mi = 0; mi < 2; mi++)
+        for (int kern = SVMFIT_LINEAR; kern <= SVMFIT_RBF; kern++) {
+            char what[64];
+            snprintf(what, sizeof what, "%s rows, %s kernel", mi ? "sparse" : "dense", kern ? "rbf" : "linear");
+            cJSON *a = fit_obj(mats[mi], y, (enum svmfit_kernel)kern, 1);
+            cJSON *b = fit_obj(mats[mi], y, (enum svmfit_kernel)kern, 0);
+            for (size_t f = 0; f < sizeof exact / sizeof exact[0]; f++)
+                expect_same_field(a, b, exact[f], what);
+            static const char *const platt[] = { "platt_a", "platt_b" };
+            for (int q = 0; q < 2; q++) {
+                const cJSON *pa = cJSON_GetObjectItemCaseSensitive(a, platt[q]);
+                const cJSON *pb = cJSON_GetObjectItemCaseSensitive(b, platt[q]);
+                cr_assert_eq(cJSON_GetArraySize(pa), 3);
+                if (kern == SVMFIT_LINEAR)
+                    expect_same_field(a, b, platt[q], what);
+                for (int t = 0; t < 3; t++) {
+                    double u = cJSON_GetArrayItem(pa, t)->valuedouble, v = cJSON_GetArrayItem(pb, t)->valuedouble;
+                    cr_assert(fabs(u - v) <= 1e-12 * fabs(u), "%s: %s[%d] %.17g vs %.17g", what, platt[q], t, u, v);
+                }
+            }
+            cJSON_Delete(a);
+            cJSON_Delete(b);
+        }
+    fmat_release(&D);
+    fmat_release(&S);
 }

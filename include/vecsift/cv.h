@@ -72,6 +72,18 @@ int cv_run(struct cv_result *r, const struct pipeline_spec *s, const struct corp
            const struct cv_params *p, struct err *e);
 void cv_release(struct cv_result *r);
 
+/* cv_run for several specs s[0..ns) that differ only in their classifier
+ * (the same s[j].feat; -1 with 'e' set otherwise), on the same folds: in
+ * each fold the featurizer is fitted and the rows featurized once, and every
+ * classifier is fitted on that one matrix.  r[j] gets exactly what
+ * cv_run(&r[j], &s[j], ...) would give, except 'seconds': the run's wall
+ * time split between the specs by their share of the work (featurising
+ * split evenly).  With --search each spec is fitted on its own.  On failure
+ * every r[j] is released and 'e' holds the first failure in spec, then
+ * fold order. */
+int cv_run_shared(struct cv_result *r, const struct pipeline_spec *s, size_t ns, const struct corpus *c,
+                  const struct vecset *vs, const struct cv_params *p, struct err *e);
+
 /* Per-fold values of one score, in fold order (R * folds): "macro_f1",
  * "accuracy", "log_loss", "weighted_f1".  Writes to 'out'; returns the count,
  * or 0 for an unknown name. */

@@ -62,6 +62,16 @@ pipeline *pipeline_fit_cached(const struct pipeline_spec *s, const struct tokdoc
                               struct pipeline_fit_info *info, struct err *e);
 void pipeline_free(pipeline *p); /* NULL-safe */
 
+/* The classifier part of a fit alone, for callers that fit one featurizer
+ * and try several classifiers on it (cv_run_shared): X holds the training
+ * rows featurized by a featurizer fitted with s->feat on those same rows,
+ * y their labels (X->n of them).  Fits s's classifier, writes the
+ * probabilities (Xte->n x K) of Xte's rows to P and frees the classifier.
+ * The same numbers as pipeline_fit then pipeline_proba.  'info' may be NULL;
+ * its stats are left alone.  Returns 0, or -1 with 'e' set.  Thread-safe. */
+int pipeline_fit_proba_featurized(const struct pipeline_spec *s, size_t k, const struct fmat *X, const int *y,
+                                  const struct fmat *Xte, double *P, struct pipeline_fit_info *info, struct err *e);
+
 size_t pipeline_labels(const pipeline *p);
 const featurizer *pipeline_featurizer(const pipeline *p);
 const struct pipeline_spec *pipeline_spec(const pipeline *p);

@@ -12,6 +12,12 @@
  * and Weng 2007) coupled by the method of Wu, Lin and Weng (2004,
  * "Probability Estimates for Multi-class Classification by Pairwise
  * Coupling").  The label shown is always the most probable one.
+ *
+ * Up to 1500 training rows, libsvm trains on a kernel matrix computed once
+ * per fit with libsvm's own formulas (its PRECOMPUTED kernel): the same
+ * support vectors, coefficients and rho as training on the nodes, several
+ * times faster; Platt's A and B of an RBF fit differ from the node-based fit
+ * in the last bits only (svmfit.c explains why).
  */
 #ifndef VECSIFT_SVMFIT_H
 #define VECSIFT_SVMFIT_H
@@ -35,14 +41,17 @@ struct svmfit_params {
     uint64_t seed;      /* seeds libsvm's rand() for its probability estimate */
     double eps;         /* stopping tolerance (libsvm's -e), default 1e-3 */
     double cache_mb;    /* kernel cache, default 100 */
+    int nodes_only;     /* 1: never train on a precomputed kernel matrix (tests compare both) */
 };
-#define SVMFIT_PARAMS_INIT { SVMFIT_RBF, 1.0, 0.0, 0, 1, 1e-3, 100.0 }
+#define SVMFIT_PARAMS_INIT { SVMFIT_RBF, 1.0, 0.0, 0, 1, 1e-3, 100.0, 0 }
 
 typedef struct svmfit_model svmfit_model;
 
 /* Train on X (N x D) with labels y in [0, K).  Every label must have at
- * least one row and K >= 2.  Thread-safe: training serialises on a lock
- * because libsvm draws from the process-wide rand().  Returns a model owned
+ * least one row and K >= 2.  Thread-safe and lock-free: libsvm draws from
+ * rand(), which this module gives one state per thread (svmfit.c explains
+ * how), so a fit's result depends only on its inputs and seed, whatever
+ * runs beside it.  Returns a model owned
  * by the caller (svmfit_free), or NULL with 'e' set.  '*tiny' (may be NULL)
  * is set to 1 when a label has fewer than 3 rows: its probabilities are
  * unreliable and the caller should warn. */
@@ -63,6 +72,11 @@ void svmfit_proba(const svmfit_model *m, const struct fmat *X, size_t i, double 
  * in OUR label order, positive meaning a; for checks against other wrappers
  * of libsvm. */
 void svmfit_decision(const svmfit_model *m, const struct fmat *X, size_t i, double *dec);
+
+/* How many times this thread has called rand() (libsvm's draws included;
+ * srand's own warm-up not counted).  For tests that prove libsvm reaches
+ * svmfit's per-thread rand(). */
+uint64_t svmfit_rand_draws(void);
 
 /* Store the model as JSON fields of 'obj'. */
 void svmfit_save(const svmfit_model *m, struct cJSON *obj);

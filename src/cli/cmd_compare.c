@@ -2,10 +2,13 @@
  * poolings and classifiers (plus the bow baseline) cross-validated on
  * exactly the same folds, ranked by macro-F1, each tested against the best.
  *
- * Every set-up calls cv_run with the same cv_params (folds, repeats, seed),
- * which makes the same fold assignment, so per-fold scores pair up.  The
- * set-ups run side by side, one per thread; cv_run's results do not depend
- * on the thread count, so neither does the comparison.
+ * Every set-up is cross-validated with the same cv_params (folds, repeats,
+ * seed), which makes the same fold assignment, so per-fold scores pair up.
+ * Set-ups that differ only in the classifier form a group and go through
+ * one cv_run_shared, which featurizes each fold once for all of them.  The
+ * groups run side by side, one per thread; cv's results do not depend on
+ * the thread count (svmfit's rand() is per thread), so neither does the
+ * comparison.
  */
 #include <cjson/cJSON.h>
 #include <errno.h>
@@ -187,35 +190,53 @@ static int open_all(struct cmp_args *a, vecset **vs, struct err *e)
     return 0;
 }
 
+/* A group: the consecutive set-ups rows[first..first+n) that share one
+ * vector set and pooling and differ in the classifier only. */
+struct group {
+    size_t first, n;
+};
+
 struct job {
     struct compare_row *rows;
+    const struct group *groups;
     const struct corpus *c;
     const struct pipeline_spec *base;
     vecset **vs;
     const size_t *vidx;             /* vector set of each row (unused for bow) */
     struct cv_params cp;
-    struct err *errs;
-    int *failed;
+    struct err *errs;               /* (groups) */
+    int *failed;                    /* (groups) */
 };
 
-static void run_one(void *arg, size_t i)
+/* One group's cross-validation: cv_run_shared fits each fold's featurizer
+ * once for all its classifiers (the same numbers as one cv_run per set-up). */
+static void run_group(void *arg, size_t g)
 {
     struct job *j = arg;
-    struct compare_row *row = &j->rows[i];
-    struct pipeline_spec s = *j->base;
-    s.feat.pool = row->pool;
-    s.clf = row->clf;
-    const vecset *vs = row->pool == POOL_BOW ? NULL : j->vs[j->vidx[i]];
-    if (cv_run(&row->r, &s, j->c, vs, &j->cp, &j->errs[i]) < 0) {
-        j->failed[i] = 1;
+    const struct group *gr = &j->groups[g];
+    struct compare_row *rows = j->rows + gr->first;
+    struct pipeline_spec s[3];
+    struct cv_result r[3];
+    for (size_t q = 0; q < gr->n; q++) {
+        s[q] = *j->base;
+        s[q].feat.pool = rows[q].pool;
+        s[q].clf = rows[q].clf;
+    }
+    const vecset *vs = rows[0].pool == POOL_BOW ? NULL : j->vs[j->vidx[gr->first]];
+    if (cv_run_shared(r, s, gr->n, j->c, vs, &j->cp, &j->errs[g]) < 0) {
+        j->failed[g] = 1;
         return;
     }
-    size_t J = row->r.repeats * (size_t)row->r.folds;
-    row->f1 = xcalloc(J, sizeof *row->f1);
-    cv_fold_scores(&row->r, "macro_f1", row->f1);
-    row->coverage = row->r.held_out.tokens
-                        ? (double)row->r.held_out.with_vector / (double)row->r.held_out.tokens
-                        : NAN;
+    for (size_t q = 0; q < gr->n; q++) {
+        struct compare_row *row = &rows[q];
+        row->r = r[q];
+        size_t J = row->r.repeats * (size_t)row->r.folds;
+        row->f1 = xcalloc(J, sizeof *row->f1);
+        cv_fold_scores(&row->r, "macro_f1", row->f1);
+        row->coverage = row->r.held_out.tokens
+                            ? (double)row->r.held_out.with_vector / (double)row->r.held_out.tokens
+                            : NAN;
+    }
 }
 
 static double now(void)
@@ -254,6 +275,7 @@ int cmd_compare(int argc, char **argv)
     vecset *vs[MAX_VECTORS] = { 0 };
     struct compare_row *rows = NULL;
     size_t n = 0, *vidx = NULL, *order = NULL;
+    struct group *groups = NULL;
     struct err *errs = NULL;
     int *failed = NULL;
     cJSON *js = NULL;
@@ -287,24 +309,32 @@ int cmd_compare(int argc, char **argv)
                                                       .clf = (enum pipeline_classifier)k };
                 }
 
-    /* Set-ups side by side, one thread each; with fewer set-ups than
-     * threads, each cross-validation uses the threads instead. */
-    struct job job = { rows, &c, &a.fa.spec, vs, vidx, a.cp, NULL, NULL };
-    errs = xcalloc(n, sizeof *errs);
-    failed = xcalloc(n, sizeof *failed);
+    /* Groups of set-ups that differ in the classifier only (rows are in
+     * that order above), side by side, one thread each; with fewer groups
+     * than threads, each cross-validation uses the threads instead. */
+    groups = xcalloc(n, sizeof *groups);
+    size_t ng = 0;
+    for (size_t i = 0; i < n; i++)
+        if (i > 0 && rows[i].pool == rows[i - 1].pool && rows[i].vectors == rows[i - 1].vectors)
+            groups[ng - 1].n++;
+        else
+            groups[ng++] = (struct group){ i, 1 };
+    struct job job = { rows, groups, &c, &a.fa.spec, vs, vidx, a.cp, NULL, NULL };
+    errs = xcalloc(ng, sizeof *errs);
+    failed = xcalloc(ng, sizeof *failed);
     job.errs = errs;
     job.failed = failed;
-    int outer = (size_t)a.da.threads <= n ? a.da.threads : 1;
+    int outer = (size_t)a.da.threads <= ng ? a.da.threads : 1;
     job.cp.threads = outer > 1 ? 1 : a.da.threads;
     if (!cli_quiet)
         fprintf(stderr, "compare: %zu set-ups x %zu folds on %d threads\n", n,
                 (size_t)a.cp.folds * a.cp.repeats, a.da.threads);
     double t0 = now();
-    par_for(outer, n, run_one, &job);
+    par_for(outer, ng, run_group, &job);
     double wall = now() - t0;
-    for (size_t i = 0; i < n; i++)
-        if (failed[i]) {
-            e = errs[i];
+    for (size_t g = 0; g < ng; g++)
+        if (failed[g]) {
+            e = errs[g];
             goto fail;
         }
     for (size_t i = 0; i < n; i++)
@@ -337,6 +367,7 @@ done:
     }
     free(rows);
     free(vidx);
+    free(groups);
     free(order);
     free(errs);
     free(failed);

@@ -180,8 +180,8 @@ void compare_terminal(FILE *fp, const struct compare_row *rows, const size_t *or
     snprintf(all, sizeof all,
              "\nmacro F1, accuracy, log loss: mean ± sd over the %zu folds. coverage: share of held-out tokens with "
              "a vector (bow: seen in the training rows). seconds: each set-up's cross-validation; set-ups ran side "
-             "by side on %d threads, %.2f s in all.\n\np vs best: %s",
-             J, s->threads, s->wall, text);
+             "by side on %d thread%s, %.2f s in all.\n\np vs best: %s",
+             J, s->threads, s->threads == 1 ? "" : "s", s->wall, text);
     compare_wrap(fp, all, 100);
 }
 
