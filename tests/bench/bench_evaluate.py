@@ -148,9 +148,14 @@ print(f"CPU seconds, one core: vecsift {ocpu:.3f}, scikit-learn {skcpu:.3f}, rat
       f"(load average now {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores)")
 print(f"largest fold accuracy difference: {diff:.4f} (mean accuracy vecsift {np.mean(ours_acc):.4f}, "
       f"scikit-learn {np.mean(res['test_score']):.4f})")
-goal = sk2 / ours2 >= 10 and ours2 < 1.0
+# Two cores as a user has them: each side at its best setting there
+# (scikit-learn's n_jobs=2 pays for starting worker processes, so its
+# n_jobs=1 run is often the faster one on two cores).
+ours_best, sk_best = min(ours1, ours2), min(sk1, sk2)
+goal = sk_best / ours_best >= 10 and ours2 < 1.0
 print("goal (>= 10x and under 1 s on two cores):", "met" if goal else "NOT met",
-      f"on wall time ({sk2 / ours2:.1f}x, {ours2:.3f} s)")
+      f"on wall time (best of each side's 1- and 2-job runs: {sk_best / ours_best:.1f}x; "
+      f"vecsift on 2 threads {ours2:.3f} s)")
 # On a shared machine wall times swing with the other jobs, and
 # scikit-learn's n_jobs=2 pays for starting worker processes; the one-core
 # CPU-second ratio is the steadier figure, so say where it stands too.
