@@ -64,11 +64,7 @@ static int parse(int argc, char **argv, struct audit_args *a, const char **data)
     const char *val;
     while ((i = cli_next(&p, &val)) >= 0) {
         const char *name = opt_name(cmd, i);
-        int t = data_args_option(&a->da, cmd, name, val);
-        if (t == 0)
-            t = fit_args_option(&a->fa, cmd, name, val);
-        if (t == 0)
-            t = cv_args_option(&a->cp, cmd, name, val);
+        int t = cv_command_option(&a->da, &a->fa, &a->cp, cmd, name, val);
         if (t < 0)
             break;
         if (t > 0)
@@ -163,6 +159,7 @@ int cmd_audit(int argc, char **argv)
 {
     struct audit_args a;
     memset(&a, 0, sizeof a);
+    cli_keep_freed_memory();
     data_args_init(&a.da);
     fit_args_init(&a.fa);
     struct cv_params cp0 = CV_PARAMS_INIT;
@@ -199,15 +196,7 @@ int cmd_audit(int argc, char **argv)
     }
     if (fit_args_open_vectors(&a.fa, &vs, &e) < 0)
         goto fail;
-    if (c.ds.group) {
-        vocab *gv = vocab_new();
-        groups = xcalloc(c.ds.n, sizeof *groups);
-        for (size_t i = 0; i < c.ds.n; i++)
-            groups[i] = vocab_add(gv, c.ds.group[i]);
-        a.cp.n_groups = (int)vocab_size(gv);
-        vocab_free(gv);
-        a.cp.group = groups;
-    }
+    groups = cv_args_groups(&a.cp, &c);
     if (cv_run(&r, &a.fa.spec, &c, vs, &a.cp, &e) < 0)
         goto fail;
     if (r.unconverged)

@@ -143,11 +143,7 @@ static int parse(int argc, char **argv, struct cmp_args *a, const char **data)
                 break;
             continue;
         }
-        int t = data_args_option(&a->da, cmd, name, val);
-        if (t == 0)
-            t = fit_args_option(&a->fa, cmd, name, val);
-        if (t == 0)
-            t = cv_args_option(&a->cp, cmd, name, val);
+        int t = cv_command_option(&a->da, &a->fa, &a->cp, cmd, name, val);
         if (t < 0)
             break;
         if (t > 0)
@@ -250,6 +246,7 @@ int cmd_compare(int argc, char **argv)
 {
     struct cmp_args a;
     memset(&a, 0, sizeof a);
+    cli_keep_freed_memory();
     data_args_init(&a.da);
     fit_args_init(&a.fa);
     struct cv_params cp0 = CV_PARAMS_INIT;

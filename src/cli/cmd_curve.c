@@ -94,11 +94,7 @@ static int parse(int argc, char **argv, struct curve_args *a, const char **data)
     const char *val;
     while ((i = cli_next(&p, &val)) >= 0) {
         const char *name = opt_name(cmd, i);
-        int t = data_args_option(&a->da, cmd, name, val);
-        if (t == 0)
-            t = fit_args_option(&a->fa, cmd, name, val);
-        if (t == 0)
-            t = cv_args_option(&a->cp, cmd, name, val);
+        int t = cv_command_option(&a->da, &a->fa, &a->cp, cmd, name, val);
         if (t < 0)
             break;
         if (t > 0)
@@ -127,6 +123,7 @@ int cmd_curve(int argc, char **argv)
 {
     struct curve_args a;
     memset(&a, 0, sizeof a);
+    cli_keep_freed_memory();
     data_args_init(&a.da);
     fit_args_init(&a.fa);
     struct cv_params cp0 = CV_PARAMS_INIT;

@@ -6,7 +6,6 @@
 #include <stdlib.h>
 #include <string.h>
 #ifdef __GLIBC__ /* defined by the libc headers above */
-#include <malloc.h>
 #endif
 
 #include "commands.h"
@@ -63,11 +62,7 @@ static int parse(int argc, char **argv, struct eval_args *a, const char **data)
     const char *val;
     while ((i = cli_next(&p, &val)) >= 0) {
         const char *name = opt_name(cmd, i);
-        int t = data_args_option(&a->da, cmd, name, val);
-        if (t == 0)
-            t = fit_args_option(&a->fa, cmd, name, val);
-        if (t == 0)
-            t = cv_args_option(&a->cp, cmd, name, val);
+        int t = cv_command_option(&a->da, &a->fa, &a->cp, cmd, name, val);
         if (t < 0)
             break;
         if (t > 0)
@@ -92,18 +87,6 @@ static int parse(int argc, char **argv, struct eval_args *a, const char **data)
     return rc;
 }
 
-/* Group ids from the group column's strings. */
-static int *group_ids(const struct corpus *c, int *ngroups)
-{
-    vocab *v = vocab_new();
-    int *g = xcalloc(c->ds.n ? c->ds.n : 1, sizeof *g);
-    for (size_t i = 0; i < c->ds.n; i++)
-        g[i] = vocab_add(v, c->ds.group[i]);
-    *ngroups = (int)vocab_size(v);
-    vocab_free(v);
-    return g;
-}
-
 /* With --group-col, a label whose rows lie in fewer groups than folds is
  * missing from some folds: its per-fold figures count those folds as 0 (the
  * 0/0 rule).  Say so; the pooled figures are unaffected. */
@@ -126,22 +109,6 @@ static void warn_few_groups(const struct corpus *c, const char *col, const int *
     free(seen);
 }
 
-/* Every fold allocates and frees the same large blocks (its feature
- * matrix, the classifier's scratch; about 2 MB for 400 rows of 300-d
- * vectors).  glibc gives blocks this size back to the system on free, by
- * munmap or by trimming the heap, so every fold took them afresh, page by
- * zeroed page: on the demo inbox the page faults cost a third of the
- * command's CPU time.  Keeping freed memory in the process for reuse
- * removes that; the peak footprint is unchanged.  Only allocation
- * placement changes, never a result. */
-static void keep_freed_memory(void)
-{
-#ifdef __GLIBC__
-    mallopt(M_MMAP_THRESHOLD, 64 << 20);
-    mallopt(M_TRIM_THRESHOLD, 256 << 20);
-#endif
-}
-
 int cmd_evaluate(int argc, char **argv)
 {
     struct eval_args a;
@@ -155,7 +122,7 @@ int cmd_evaluate(int argc, char **argv)
     int rc = parse(argc, argv, &a, &data);
     if (rc != 0)
         return rc < 0 ? ERR_OK : rc;
-    keep_freed_memory();
+    cli_keep_freed_memory();
     a.cp.seed = a.da.seed;
     a.cp.threads = a.da.threads;
     a.fa.spec.seed = a.da.seed;
@@ -200,12 +167,9 @@ int cmd_evaluate(int argc, char **argv)
         if (c.empty_docs)
             cli_warn("%s: %zu rows have no words in the text columns", data, c.empty_docs);
     }
-    if (c.ds.group) {
-        groups = group_ids(&c, &a.cp.n_groups);
-        a.cp.group = groups;
-        if (!cli_quiet)
-            warn_few_groups(&c, a.da.group_col, groups, a.cp.n_groups, a.cp.folds);
-    }
+    groups = cv_args_groups(&a.cp, &c);
+    if (groups && !cli_quiet)
+        warn_few_groups(&c, a.da.group_col, groups, a.cp.n_groups, a.cp.folds);
     if (cv_run(&r, &a.fa.spec, &c, vs, &a.cp, &e) < 0)
         goto fail;
     if (r.unconverged)

@@ -80,6 +80,21 @@ void err_name_file(struct err *e, const char *path);
 struct cv_params;
 int cv_args_option(struct cv_params *cp, const struct cli_cmd *cmd, const char *name, const char *val);
 
+/* For the commands that cross-validate: keep freed blocks in the process
+ * for the next fold instead of returning them to the system (allocation
+ * placement only, never a result). */
+void cli_keep_freed_memory(void);
+
+/* With a group column: every row's group id (rows with the same value share
+ * one), set as cp->group and cp->n_groups; the caller frees the array.
+ * Without one: NULL, and cp is left as it was. */
+int *cv_args_groups(struct cv_params *cp, const struct corpus *c);
+
+/* data_args_option, then fit_args_option, then cv_args_option: the options
+ * every cross-validating command shares.  Same return values. */
+int cv_command_option(struct data_args *da, struct fit_args *fa, struct cv_params *cp, const struct cli_cmd *cmd,
+                      const char *name, const char *val);
+
 /* Open the vector set when the pooling needs one (error when missing). */
 int fit_args_open_vectors(const struct fit_args *f, struct vecset **vs, struct err *e);
 

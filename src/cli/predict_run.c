@@ -168,13 +168,15 @@ void predict_pool_init(struct pool *p, const struct job *j, int threads)
     p->tid = xcalloc(T, sizeof *p->tid);
     p->args = xcalloc(T, sizeof *p->args);
     struct pool_arg *args = p->args;
-    for (size_t t = 0; t < T; t++)
-        worker_init(&p->w[t], j);
+    worker_init(&p->w[0], j);
     for (size_t t = 1; t < T; t++) {
         args[t].p = p;
         args[t].id = t;
-        if (pthread_create(&p->tid[p->nthreads], NULL, pool_thread, &args[t]) != 0)
-            break; /* fewer threads: the others do the work */
+        worker_init(&p->w[t], j);
+        if (pthread_create(&p->tid[p->nthreads], NULL, pool_thread, &args[t]) != 0) {
+            worker_release(&p->w[t]); /* fewer threads: the others do the work */
+            break;
+        }
         p->nthreads++;
     }
 }
