@@ -18,6 +18,7 @@
 #include <string.h>
 
 #include "vecsift/err.h"
+#include "vecsift/expv.h"
 #include "vecsift/fmat.h"
 #include "vecsift/lbfgs.h"
 #include "vecsift/xalloc.h"
@@ -50,18 +51,22 @@ static double *row_weights(const int *y, size_t n, size_t k, int balanced)
 }
 
 /* z <- softmax(z) in place (K), by subtracting the largest score first so
- * exp() cannot overflow; returns log sum_c exp(z_c) of the input scores. */
+ * exp() cannot overflow; returns log sum_c exp(z_c) of the input scores.
+ * The exponentials are expv's (the same bits on every CPU), as in the
+ * objective's batched softmax below, so a model's probabilities are the
+ * ones it was trained with. */
 static double softmax_inplace(double *z, size_t k)
 {
     double mx = z[0];
     for (size_t c = 1; c < k; c++)
         if (z[c] > mx)
             mx = z[c];
+    for (size_t c = 0; c < k; c++)
+        z[c] -= mx;
+    expv(z, k);
     double se = 0;
-    for (size_t c = 0; c < k; c++) {
-        z[c] = exp(z[c] - mx);
+    for (size_t c = 0; c < k; c++)
         se += z[c];
-    }
     for (size_t c = 0; c < k; c++)
         z[c] /= se;
     return mx + log(se);
@@ -198,7 +203,7 @@ struct problem {
     size_t k, d;
     double C;
     double scale;      /* L-BFGS sees J * scale */
-    double *z;         /* (K) scratch */
+    double *mx, *zy;   /* (N) scratch: each row's largest score, its label's score */
     double *R;         /* (N, K) scratch: s_i (p_ik - [y_i = k]) */
     double *XP;        /* dense X with K <= KMAX: its packed copy, else NULL */
 };
@@ -208,28 +213,43 @@ static double objective(struct problem *P, const double *theta, double *grad)
 {
     size_t k = P->k, d = P->d, kd = k * d;
     const double *W = theta, *b = theta + kd;
-    double *gW = grad, *gb = grad + kd, *z = P->z;
+    double *gW = grad, *gb = grad + kd;
     memset(grad, 0, (kd + k) * sizeof *grad);
     double loss = 0;
     const struct fmat *X = P->X;
+    size_t n = X->n;
     int fast = P->XP != NULL;
-    if (fast) /* all scores first, into R, which each row then overwrites */
-        dense_scores(X->x, X->n, d, W, k, P->R);
-    for (size_t i = 0; i < X->n; i++) {
+    /* The softmax of every row at once: all scores into R, each row less
+     * its largest score, then one expv over the whole of R (the calls to
+     * exp() one at a time were a tenth of `evaluate`'s time). */
+    if (fast)
+        dense_scores(X->x, n, d, W, k, P->R);
+    for (size_t i = 0; i < n; i++) {
+        double *z = P->R + i * k;
+        if (!fast) /* all K scores per pass over row i */
+            fmat_dot_k(X, i, W, k, z);
         int yi = P->y[i];
         assert(yi >= 0 && (size_t)yi < k);
-        if (fast)
-            memcpy(z, P->R + i * k, k * sizeof *z);
-        else /* all K scores per pass over row i */
-            fmat_dot_k(X, i, W, k, z);
         for (size_t c = 0; c < k; c++)
             z[c] += b[c];
-        double zy = z[yi];
-        double lse = softmax_inplace(z, k);
-        loss += P->s[i] * (lse - zy);
-        double *r = P->R + i * k;
+        double mx = z[0];
+        for (size_t c = 1; c < k; c++)
+            if (z[c] > mx)
+                mx = z[c];
+        P->mx[i] = mx;
+        P->zy[i] = z[yi];
+        for (size_t c = 0; c < k; c++)
+            z[c] -= mx;
+    }
+    expv(P->R, n * k);
+    for (size_t i = 0; i < n; i++) {
+        double *r = P->R + i * k, se = 0;
+        for (size_t c = 0; c < k; c++)
+            se += r[c];
+        int yi = P->y[i];
+        loss += P->s[i] * ((P->mx[i] + log(se)) - P->zy[i]);
         for (size_t c = 0; c < k; c++) {
-            r[c] = P->s[i] * (z[c] - (c == (size_t)yi));
+            r[c] = P->s[i] * (r[c] / se - (c == (size_t)yi));
             gb[c] += r[c];
         }
     }
@@ -299,8 +319,33 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
     double ssum = 0;
     for (size_t i = 0; i < X->n; i++)
         ssum += s[i];
-    struct problem P = { X, y, s, k, d, p->C, 1.0 / (p->C * ssum), NULL, NULL, NULL };
-    P.z = xcalloc(k, sizeof *P.z);
+    /* Start from the model without features: W = 0 and b_c the log of
+     * class c's (weighted) share of the rows, less their mean, which
+     * minimises J over b alone since the penalty leaves b free (starting a
+     * likelihood fit at the null model is common practice for generalised
+     * linear models).  The intercepts sum to zero, as they would from
+     * b = 0: the gradient's b part sums to zero over the classes, so the
+     * sum stays where it starts, and softmax ignores it.  Only this fit's
+     * rows count, so nothing from held-out rows enters; the minimum is the
+     * same, reached in about 5% fewer evaluations on the demo inbox.  A
+     * class without rows starts at 0. */
+    double *share = xcalloc(k, sizeof *share), lsum = 0;
+    size_t present = 0;
+    for (size_t i = 0; i < X->n; i++) {
+        assert(y[i] >= 0 && (size_t)y[i] < k);
+        share[y[i]] += s[i];
+    }
+    for (size_t c = 0; c < k; c++)
+        if (share[c] > 0) {
+            lsum += log(share[c] / ssum);
+            present++;
+        }
+    for (size_t c = 0; c < k; c++)
+        theta[k * d + c] = share[c] > 0 ? log(share[c] / ssum) - lsum / (double)present : 0;
+    free(share);
+    struct problem P = { X, y, s, k, d, p->C, 1.0 / (p->C * ssum), NULL, NULL, NULL, NULL };
+    P.mx = xcalloc(X->n ? X->n : 1, sizeof *P.mx);
+    P.zy = xcalloc(X->n ? X->n : 1, sizeof *P.zy);
     P.R = xcalloc(xmul(X->n, k), sizeof *P.R);
     if (!X->sparse && k <= KMAX)
         P.XP = pack_blocks(X->x, X->n, d);
@@ -326,7 +371,8 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
     m->objective = r.f / P.scale;
     free(P.R);
     free(P.XP);
-    free(P.z);
+    free(P.mx);
+    free(P.zy);
     free(s);
     free(theta);
     return 0;
@@ -355,15 +401,17 @@ double linear_gradient(const struct linear_model *m, const struct fmat *X, const
     memcpy(theta, m->W, k * d * sizeof *theta);
     memcpy(theta + k * d, m->b, k * sizeof *theta);
     double *s = row_weights(y, X->n, k, p->balanced);
-    struct problem P = { X, y, s, k, d, p->C, 1, NULL, NULL, NULL };
-    P.z = xcalloc(k, sizeof *P.z);
+    struct problem P = { X, y, s, k, d, p->C, 1, NULL, NULL, NULL, NULL };
+    P.mx = xcalloc(X->n ? X->n : 1, sizeof *P.mx);
+    P.zy = xcalloc(X->n ? X->n : 1, sizeof *P.zy);
     P.R = xcalloc(xmul(X->n, k), sizeof *P.R);
     if (!X->sparse && k <= KMAX)
         P.XP = pack_blocks(X->x, X->n, d);
     double f = objective(&P, theta, grad);
     free(P.R);
     free(P.XP);
-    free(P.z);
+    free(P.mx);
+    free(P.zy);
     free(s);
     free(theta);
     return f;

@@ -10,6 +10,7 @@
 
 #include "vecsift/err.h"
 #include "vecsift/fmat.h"
+#include "vecsift/expv.h"
 #include "vecsift/linear.h"
 #include "vecsift/rng.h"
 
@@ -71,7 +72,8 @@ Test(linear, separable_two_class_points_are_predicted_right)
         cr_assert_gt(pr[y[i]], 0.5, "row %zu: p = %g", i, pr[y[i]]);
     }
     /* With K = 2 and both rows penalised, the optimum is symmetric
-     * (w_0 = -w_1, b_0 = -b_1 from a zero start): derived in linear.h. */
+     * (w_0 = -w_1, b_0 = -b_1 from a start whose intercepts sum to zero,
+     * which linear_fit's does): derived in linear.h. */
     for (size_t j = 0; j < 2; j++)
         cr_assert_float_eq(m.W[j], -m.W[2 + j], 1e-9);
     cr_assert_float_eq(m.b[0], -m.b[1], 1e-9);
@@ -308,10 +310,11 @@ static void reference_gradient(const struct linear_model *m, const struct fmat *
         double mx = z[0], se = 0;
         for (size_t c = 1; c < k; c++)
             mx = z[c] > mx ? z[c] : mx;
-        for (size_t c = 0; c < k; c++) {
-            z[c] = exp(z[c] - mx);
+        for (size_t c = 0; c < k; c++)
+            z[c] -= mx;
+        expv(z, k); /* the objective's exponential (expv.h) */
+        for (size_t c = 0; c < k; c++)
             se += z[c];
-        }
         for (size_t c = 0; c < k; c++) {
             R[i * k + c] = 1.0 * (z[c] / se - (c == (size_t)y[i]));
             g[k * d + c] += R[i * k + c];

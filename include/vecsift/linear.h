@@ -56,8 +56,9 @@ struct linear_model {
 /* Fit a model to the rows of X (N x D) with labels y[i] in [0, k), which
  * is asserted (a label outside is the caller's bug).  'p' may be NULL for
  * LINEAR_PARAMS_INIT.  Replaces whatever 'm' held; the caller releases it
- * with linear_release().  Starts from W = 0, b = 0, so results repeat
- * exactly.  Returns 0 (check m->converged and warn when it is 0), or -1
+ * with linear_release().  Starts from W = 0 and the intercepts of the
+ * model without features (centred: they sum to zero, as from b = 0), so
+ * results repeat exactly.  Returns 0 (check m->converged and warn when it is 0), or -1
  * with 'e' set when k < 2, N = 0, C <= 0 or a feature is not finite. */
 int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_t k,
                const struct linear_params *p, struct err *e);
