@@ -20,6 +20,7 @@
 #include "vecsift/vecset.h"
 #include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
+#include "vec4.h"
 
 /* N = training rows, V = words/terms seen in training, D = output width,
  * E = vector dimension (D = E for pooling). */
@@ -440,6 +441,22 @@ static const char **doc_tokens(const struct tokdocs *d, size_t r, const char **b
     return buf;
 }
 
+/* xu = X u (X: n x E), each row's dot product in vec4_dot's fixed order. */
+VEC4_CLONES static void rows_dot(const double *X, size_t n, size_t E, const double *u, double *xu)
+{
+    for (size_t i = 0; i < n; i++)
+        xu[i] = vec4_dot(E, X + i * E, u);
+}
+
+/* t = X^T xu: each t[d] sums its rows in order (the same bits as the
+ * plain double loop). */
+VEC4_CLONES static void cols_dot(const double *X, size_t n, size_t E, const double *xu, double *t)
+{
+    memset(t, 0, E * sizeof *t);
+    for (size_t i = 0; i < n; i++)
+        vec4_axpy(E, xu[i], X + i * E, t, t);
+}
+
 /* First right singular vector of X (n x E, uncentred, as in Arora et al.)
  * by power iteration on X^T X from a fixed start, so results repeat. */
 static double *first_component(const double *X, size_t n, size_t E)
@@ -448,16 +465,8 @@ static double *first_component(const double *X, size_t n, size_t E)
     for (size_t d = 0; d < E; d++)
         u[d] = 1.0 / sqrt((double)E) * (1.0 + 1e-3 * (double)(d % 7));
     for (int it = 0; it < 500; it++) {
-        for (size_t i = 0; i < n; i++) {
-            double s = 0;
-            for (size_t d = 0; d < E; d++)
-                s += X[i * E + d] * u[d];
-            xu[i] = s;
-        }
-        memset(t, 0, E * sizeof *t);
-        for (size_t i = 0; i < n; i++)
-            for (size_t d = 0; d < E; d++)
-                t[d] += X[i * E + d] * xu[i];
+        rows_dot(X, n, E, u, xu);
+        cols_dot(X, n, E, xu, t);
         double nrm = 0, diff = 0;
         for (size_t d = 0; d < E; d++)
             nrm += t[d] * t[d];

@@ -41,40 +41,16 @@
  * at the end; the updates are lane-wise, the same arithmetic as the plain
  * loops.  Results do not depend on the CPU (vec4.h). */
 
-/* a . b: lane l of acc0 sums entries j = l mod 8, lane l of acc1 entries
- * j = 4 + l mod 8; then ((acc0 + acc1) lanes (0 + 1) + (2 + 3)) + tail. */
+/* a . b in vec4_dot's fixed order (vec4.h). */
 VEC4_CLONES static double dot(size_t n, const double *a, const double *b)
 {
-    v4d s0 = VEC4_SPLAT(0.0), s1 = s0, x, y;
-    size_t j = 0;
-    for (; j + 8 <= n; j += 8) {
-        VEC4_LOAD(x, a + j);
-        VEC4_LOAD(y, b + j);
-        s0 += x * y;
-        VEC4_LOAD(x, a + j + 4);
-        VEC4_LOAD(y, b + j + 4);
-        s1 += x * y;
-    }
-    s0 += s1;
-    double s = (s0[0] + s0[1]) + (s0[2] + s0[3]);
-    for (; j < n; j++)
-        s += a[j] * b[j];
-    return s;
+    return vec4_dot(n, a, b);
 }
 
 /* y[j] = x[j] + a * d[j] (y may be x). */
 VEC4_CLONES static void axpy(size_t n, double a, const double *d, const double *x, double *y)
 {
-    v4d av = VEC4_SPLAT(a), xv, dv;
-    size_t j = 0;
-    for (; j + 4 <= n; j += 4) {
-        VEC4_LOAD(xv, x + j);
-        VEC4_LOAD(dv, d + j);
-        xv += av * dv;
-        VEC4_STORE(y + j, xv);
-    }
-    for (; j < n; j++)
-        y[j] = x[j] + a * d[j];
+    vec4_axpy(n, a, d, x, y);
 }
 
 static double norm_inf(size_t n, const double *a)
