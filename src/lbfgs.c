@@ -53,6 +53,37 @@ VEC4_CLONES static void axpy(size_t n, double a, const double *d, const double *
     vec4_axpy(n, a, d, x, y);
 }
 
+/* d[j] += a * v[j] for j < n, then w . d: one pass doing what axpy then
+ * dot do, with the same bits (each d[j] is updated lane-wise as axpy
+ * does, and the products are summed in vec4_dot's order), reading d once.
+ * The two-loop recursion is a chain of such pairs. */
+VEC4_CLONES static double axpy_dot(size_t n, double a, const double *v, double *d, const double *w)
+{
+    v4d av = VEC4_SPLAT(a), s0 = VEC4_SPLAT(0.0), s1 = s0, dv, vv, wv;
+    size_t j = 0;
+    for (; j + 8 <= n; j += 8) {
+        VEC4_LOAD(dv, d + j);
+        VEC4_LOAD(vv, v + j);
+        dv += av * vv;
+        VEC4_STORE(d + j, dv);
+        VEC4_LOAD(wv, w + j);
+        s0 += wv * dv;
+        VEC4_LOAD(dv, d + j + 4);
+        VEC4_LOAD(vv, v + j + 4);
+        dv += av * vv;
+        VEC4_STORE(d + j + 4, dv);
+        VEC4_LOAD(wv, w + j + 4);
+        s1 += wv * dv;
+    }
+    s0 += s1;
+    double s = (s0[0] + s0[1]) + (s0[2] + s0[3]);
+    for (; j < n; j++) {
+        d[j] = d[j] + a * v[j];
+        s += w[j] * d[j];
+    }
+    return s;
+}
+
 static double norm_inf(size_t n, const double *a)
 {
     double m = 0;
@@ -233,25 +264,37 @@ static void direction(const struct memory *M, const double *g, double *d)
         d[j] = -g[j];
     if (M->count == 0)
         return;
+    /* Each update of d is fused with the next dot product (axpy_dot): the
+     * same operations as axpy then dot, in the same order. */
+#define SLOT(c) ((M->head + (c)) % M->m)
+    double sd = dot(n, M->s + (size_t)SLOT(M->count - 1) * n, d);
     for (int c = M->count - 1; c >= 0; c--) {
-        int i = (M->head + c) % M->m;
-        const double *s = M->s + (size_t)i * n, *y = M->y + (size_t)i * n;
-        double a = M->rho[i] * dot(n, s, d);
+        int i = SLOT(c);
+        const double *y = M->y + (size_t)i * n;
+        double a = M->rho[i] * sd;
         M->alpha[i] = a;
-        axpy(n, -a, y, d, d); /* d - a y, exactly: negation is exact */
+        if (c > 0) /* d - a y, exactly: negation is exact; then s_{c-1} . d */
+            sd = axpy_dot(n, -a, y, d, M->s + (size_t)SLOT(c - 1) * n);
+        else
+            axpy(n, -a, y, d, d);
     }
     /* H_k^0 = gamma_k I with gamma_k = s'y / y'y of the newest pair (7.20). */
-    int newest = (M->head + M->count - 1) % M->m;
+    int newest = SLOT(M->count - 1);
     const double *yn = M->y + (size_t)newest * n;
     double gamma = 1.0 / (M->rho[newest] * dot(n, yn, yn));
     for (size_t j = 0; j < n; j++)
         d[j] *= gamma;
+    double yd = dot(n, M->y + (size_t)SLOT(0) * n, d);
     for (int c = 0; c < M->count; c++) {
-        int i = (M->head + c) % M->m;
-        const double *s = M->s + (size_t)i * n, *y = M->y + (size_t)i * n;
-        double beta = M->rho[i] * dot(n, y, d);
-        axpy(n, M->alpha[i] - beta, s, d, d);
+        int i = SLOT(c);
+        const double *sv = M->s + (size_t)i * n;
+        double beta = M->rho[i] * yd;
+        if (c + 1 < M->count) /* then y_{c+1} . d */
+            yd = axpy_dot(n, M->alpha[i] - beta, sv, d, M->y + (size_t)SLOT(c + 1) * n);
+        else
+            axpy(n, M->alpha[i] - beta, sv, d, d);
     }
+#undef SLOT
 }
 
 /* Store the pair (xt - x, gt - g), dropping the oldest when full.  A pair
