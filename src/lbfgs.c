@@ -249,10 +249,11 @@ static int wolfe_search(struct line *l, struct pt p0, double a1, struct pt *out)
 struct memory {
     size_t n;
     int m, count, head;   /* oldest pair at head */
-    double *s, *y;        /* (m, n) */
+    double **s, **y;      /* (m) pairs of (n) rows, swapped in, not copied */
     double *rho;          /* (m), 1 / (y_i . s_i) */
     double *alpha;        /* (m), scratch of the two-loop recursion */
     double *ns, *ny;      /* (n) the newest pair, before it is stored */
+    double *slab;         /* the 2 (m + 1) rows above */
 };
 
 /* d = -H_k g by the two-loop recursion (Algorithm 7.4); with no pairs
@@ -267,34 +268,71 @@ static void direction(const struct memory *M, const double *g, double *d)
     /* Each update of d is fused with the next dot product (axpy_dot): the
      * same operations as axpy then dot, in the same order. */
 #define SLOT(c) ((M->head + (c)) % M->m)
-    double sd = dot(n, M->s + (size_t)SLOT(M->count - 1) * n, d);
+    double sd = dot(n, M->s[SLOT(M->count - 1)], d);
     for (int c = M->count - 1; c >= 0; c--) {
         int i = SLOT(c);
-        const double *y = M->y + (size_t)i * n;
+        const double *y = M->y[i];
         double a = M->rho[i] * sd;
         M->alpha[i] = a;
         if (c > 0) /* d - a y, exactly: negation is exact; then s_{c-1} . d */
-            sd = axpy_dot(n, -a, y, d, M->s + (size_t)SLOT(c - 1) * n);
+            sd = axpy_dot(n, -a, y, d, M->s[SLOT(c - 1)]);
         else
             axpy(n, -a, y, d, d);
     }
     /* H_k^0 = gamma_k I with gamma_k = s'y / y'y of the newest pair (7.20). */
     int newest = SLOT(M->count - 1);
-    const double *yn = M->y + (size_t)newest * n;
+    const double *yn = M->y[newest];
     double gamma = 1.0 / (M->rho[newest] * dot(n, yn, yn));
     for (size_t j = 0; j < n; j++)
         d[j] *= gamma;
-    double yd = dot(n, M->y + (size_t)SLOT(0) * n, d);
+    double yd = dot(n, M->y[SLOT(0)], d);
     for (int c = 0; c < M->count; c++) {
         int i = SLOT(c);
-        const double *sv = M->s + (size_t)i * n;
+        const double *sv = M->s[i];
         double beta = M->rho[i] * yd;
         if (c + 1 < M->count) /* then y_{c+1} . d */
-            yd = axpy_dot(n, M->alpha[i] - beta, sv, d, M->y + (size_t)SLOT(c + 1) * n);
+            yd = axpy_dot(n, M->alpha[i] - beta, sv, d, M->y[SLOT(c + 1)]);
         else
             axpy(n, M->alpha[i] - beta, sv, d, d);
     }
 #undef SLOT
+}
+
+/* ns = xt - x, ny = gt - g (as axpy with a = -1: exact), *sy = ns . ny and
+ * *yy = ny . ny in vec4_dot's order: one pass for what two axpy and two
+ * dot calls did, with the same bits. */
+VEC4_CLONES static void pair_dots(size_t n, const double *x, const double *xt, const double *g, const double *gt,
+                                  double *ns, double *ny, double *sy, double *yy)
+{
+    v4d m1 = VEC4_SPLAT(-1.0), a0 = VEC4_SPLAT(0.0), a1 = a0, b0 = a0, b1 = a0, p, q, u, v;
+    size_t j = 0;
+#define PAIR_LANES(off, A, B) \
+    VEC4_LOAD(p, xt + j + (off)); \
+    VEC4_LOAD(q, x + j + (off)); \
+    p += m1 * q; \
+    VEC4_STORE(ns + j + (off), p); \
+    VEC4_LOAD(u, gt + j + (off)); \
+    VEC4_LOAD(v, g + j + (off)); \
+    u += m1 * v; \
+    VEC4_STORE(ny + j + (off), u); \
+    A += p * u; \
+    B += u * u
+    for (; j + 8 <= n; j += 8) {
+        PAIR_LANES(0, a0, b0);
+        PAIR_LANES(4, a1, b1);
+    }
+#undef PAIR_LANES
+    a0 += a1;
+    b0 += b1;
+    double s = (a0[0] + a0[1]) + (a0[2] + a0[3]), w = (b0[0] + b0[1]) + (b0[2] + b0[3]);
+    for (; j < n; j++) {
+        ns[j] = xt[j] + -1.0 * x[j];
+        ny[j] = gt[j] + -1.0 * g[j];
+        s += ns[j] * ny[j];
+        w += ny[j] * ny[j];
+    }
+    *sy = s;
+    *yy = w;
 }
 
 /* Store the pair (xt - x, gt - g), dropping the oldest when full.  A pair
@@ -305,14 +343,19 @@ static void remember(struct memory *M, const double *x, const double *xt,
                      const double *g, const double *gt)
 {
     size_t n = M->n;
-    axpy(n, -1.0, x, xt, M->ns); /* xt - x, exactly */
-    axpy(n, -1.0, g, gt, M->ny);
-    double sy = dot(n, M->ns, M->ny), yy = dot(n, M->ny, M->ny);
+    double sy, yy;
+    pair_dots(n, x, xt, g, gt, M->ns, M->ny, &sy, &yy);
     if (!(sy > 1e-300 && yy > 0))
         return;
+    /* The pair's rows take the slot; the slot's old rows (the oldest pair,
+     * or unused) become the scratch for the next pair. */
     int slot = M->count < M->m ? (M->head + M->count) % M->m : M->head;
-    memcpy(M->s + (size_t)slot * n, M->ns, n * sizeof *M->ns);
-    memcpy(M->y + (size_t)slot * n, M->ny, n * sizeof *M->ny);
+    double *t = M->s[slot];
+    M->s[slot] = M->ns;
+    M->ns = t;
+    t = M->y[slot];
+    M->y[slot] = M->ny;
+    M->ny = t;
     M->rho[slot] = 1.0 / sy;
     if (M->count < M->m)
         M->count++;
@@ -327,18 +370,25 @@ int lbfgs_minimize(size_t n, double *x, lbfgs_eval fn, void *ctx,
     if (!p)
         p = &defaults;
     assert(n > 0 && p->m >= 1);
-    struct memory M = { n, p->m, 0, 0, NULL, NULL, NULL, NULL, NULL, NULL };
-    M.s = xcalloc(xmul((size_t)p->m, n), sizeof *M.s);
-    M.y = xcalloc(xmul((size_t)p->m, n), sizeof *M.y);
+    struct memory M = { n, p->m, 0, 0, NULL, NULL, NULL, NULL, NULL, NULL, NULL };
+    size_t rows = 2 * ((size_t)p->m + 1);
+    M.slab = xcalloc(xmul(rows, n), sizeof *M.slab);
+    M.s = xcalloc((size_t)p->m, sizeof *M.s);
+    M.y = xcalloc((size_t)p->m, sizeof *M.y);
+    for (int i = 0; i < p->m; i++) {
+        M.s[i] = M.slab + (size_t)(2 * i) * n;
+        M.y[i] = M.slab + (size_t)(2 * i + 1) * n;
+    }
+    M.ns = M.slab + (rows - 2) * n;
+    M.ny = M.slab + (rows - 1) * n;
     M.rho = xcalloc((size_t)p->m, sizeof *M.rho);
     M.alpha = xcalloc((size_t)p->m, sizeof *M.alpha);
-    M.ns = xcalloc(n, sizeof *M.ns);
-    M.ny = xcalloc(n, sizeof *M.ny);
     double *g = xcalloc(n, sizeof *g);
     double *d = xcalloc(n, sizeof *d);
     double *xt = xcalloc(n, sizeof *xt);
     double *gt = xcalloc(n, sizeof *gt);
 
+    double *const xout = x; /* the caller's: x and xt trade buffers below */
     struct line l = { n, x, d, xt, gt, fn, ctx, 0, 0 };
     double f = fn(ctx, x, g);
     int evals = 1, iters = 0, status;
@@ -385,8 +435,16 @@ int lbfgs_minimize(size_t n, double *x, lbfgs_eval fn, void *ctx,
         remember(&M, x, xt, g, gt);
         double fprev = f;
         f = acc.f;
-        memcpy(x, xt, n * sizeof *x);
-        memcpy(g, gt, n * sizeof *g);
+        /* the accepted point becomes the current one: swap, not copy */
+        double *t = x;
+        x = xt;
+        xt = t;
+        t = g;
+        g = gt;
+        gt = t;
+        l.x = x;
+        l.xt = xt;
+        l.gt = gt;
         gnorm = norm_inf(n, g);
         if (p->watch) {
             struct lbfgs_step st = { iters, acc.a, p0.f, p0.df, acc.f, acc.df, gnorm, l.approx };
@@ -415,8 +473,11 @@ out:
     free(M.y);
     free(M.rho);
     free(M.alpha);
-    free(M.ns);
-    free(M.ny);
+    free(M.slab);
+    if (x != xout) {
+        memcpy(xout, x, n * sizeof *x);
+        xt = x; /* the buffer allocated here */
+    }
     free(g);
     free(d);
     free(xt);
