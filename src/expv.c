@@ -25,7 +25,6 @@
 
 #include "vec4.h"
 
-typedef int64_t v4i __attribute__((vector_size(4 * sizeof(int64_t))));
 typedef uint64_t v4u __attribute__((vector_size(4 * sizeof(uint64_t))));
 
 /* out[0..4) = exp(in[0..4)) (pointers: a v4d by value outside the AVX

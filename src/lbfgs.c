@@ -84,13 +84,42 @@ VEC4_CLONES static double axpy_dot(size_t n, double a, const double *v, double *
     return s;
 }
 
-static double norm_inf(size_t n, const double *a)
+/* max_j |a_j| (0 for none; NaN entries are passed over, as the plain
+ * loop's comparison does).  A maximum does not depend on the order it is
+ * taken in, so four running maxima give the plain loop's result. */
+VEC4_CLONES static double norm_inf(size_t n, const double *a)
 {
-    double m = 0;
-    for (size_t j = 0; j < n; j++)
-        if (fabs(a[j]) > m)
-            m = fabs(a[j]);
-    return m;
+    const v4i magnitude = VEC4_SPLAT_BITS(INT64_MAX); /* all bits but the sign */
+    v4d m = VEC4_SPLAT(0.0), v;
+    size_t j = 0;
+    for (; j + 4 <= n; j += 4) {
+        VEC4_LOAD(v, a + j);
+        v = (v4d)((v4i)v & magnitude);
+        v4i more = v > m;
+        m = (v4d)(((v4i)v & more) | ((v4i)m & ~more));
+    }
+    double r = 0;
+    for (int l = 0; l < 4; l++)
+        if (m[l] > r)
+            r = m[l];
+    for (; j < n; j++)
+        if (fabs(a[j]) > r)
+            r = fabs(a[j]);
+    return r;
+}
+
+/* d = s * a (s = -1: negation, exact), lane-wise. */
+VEC4_CLONES static void scaled(size_t n, double s, const double *a, double *d)
+{
+    v4d sv = VEC4_SPLAT(s), v;
+    size_t j = 0;
+    for (; j + 4 <= n; j += 4) {
+        VEC4_LOAD(v, a + j);
+        v *= sv;
+        VEC4_STORE(d + j, v);
+    }
+    for (; j < n; j++)
+        d[j] = s * a[j];
 }
 
 /* ---- line search (Algorithms 3.5 and 3.6) ---- */
@@ -261,8 +290,7 @@ struct memory {
 static void direction(const struct memory *M, const double *g, double *d)
 {
     size_t n = M->n;
-    for (size_t j = 0; j < n; j++)
-        d[j] = -g[j];
+    scaled(n, -1.0, g, d);
     if (M->count == 0)
         return;
     /* Each update of d is fused with the next dot product (axpy_dot): the
@@ -283,8 +311,7 @@ static void direction(const struct memory *M, const double *g, double *d)
     int newest = SLOT(M->count - 1);
     const double *yn = M->y[newest];
     double gamma = 1.0 / (M->rho[newest] * dot(n, yn, yn));
-    for (size_t j = 0; j < n; j++)
-        d[j] *= gamma;
+    scaled(n, gamma, d, d);
     double yd = dot(n, M->y[SLOT(0)], d);
     for (int c = 0; c < M->count; c++) {
         int i = SLOT(c);

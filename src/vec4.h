@@ -11,9 +11,13 @@
 #ifndef VECSIFT_VEC4_H
 #define VECSIFT_VEC4_H
 
+#include <stdint.h>
 #include <string.h>
 
 typedef double v4d __attribute__((vector_size(4 * sizeof(double))));
+/* Lane masks and bit patterns of a v4d: v4d comparisons give v4i lanes
+ * of all ones or all zeros; (v4i) and (v4d) casts reinterpret the bits. */
+typedef int64_t v4i __attribute__((vector_size(4 * sizeof(int64_t))));
 
 /* Unaligned loads and stores (memcpy: no alignment or aliasing
  * assumption; compiled to single moves).  Macros, not functions: a v4d
@@ -21,6 +25,7 @@ typedef double v4d __attribute__((vector_size(4 * sizeof(double))));
 #define VEC4_LOAD(v, p) memcpy(&(v), (p), sizeof(v4d))
 #define VEC4_STORE(p, v) memcpy((p), &(v), sizeof(v4d))
 #define VEC4_SPLAT(a) ((v4d){ (a), (a), (a), (a) })
+#define VEC4_SPLAT_BITS(a) ((v4i){ (a), (a), (a), (a) })
 
 #if defined(__x86_64__) && defined(__linux__) && (defined(__GNUC__) || defined(__clang__))
 #define VEC4_CLONES __attribute__((target_clones("avx2", "default")))
