@@ -15,6 +15,7 @@
 #include "vecsift/fmat.h"
 #include "vecsift/jsonv.h"
 #include "vecsift/xalloc.h"
+#include "vec4.h"
 
 /* K = labels, L = support vectors, P = K*(K-1)/2 pairs, D = dimensions. */
 struct svmfit_model {
@@ -30,6 +31,15 @@ struct svmfit_model {
     double *rho, *probA, *probB; /* (P) in libsvm's class-slot order */
     int *label;             /* (K) libsvm class slot -> our label index */
     int *nsv;               /* (K) */
+    /* Prediction on kernel values computed here (see "prediction" below):
+     * pm is m with a PRECOMPUTED kernel, sharing its coefficients; dsv is
+     * NULL when the model does not take this path. */
+    struct svm_model pm;
+    struct svm_node *pnodes;     /* (2L) SV j as libsvm's PRECOMPUTED SV: {0, j+1}, end */
+    struct svm_node **psv;       /* (L) into pnodes */
+    double *dsv;                 /* (L/4 rounded up, D, 4) the SVs densely, four interleaved */
+    size_t nblk;                 /* blocks of four SVs in dsv */
+    int on_nodes;                /* 1: predict through m, walking the nodes (tests) */
 };
 
 /* ---- rand() and srand() with one state per thread ----
@@ -168,7 +178,9 @@ static double default_gamma(const struct fmat *X)
     return var > 0 ? 1.0 / ((double)X->d * var) : 1.0;
 }
 
-/* Point m->m at our arrays. */
+static void dense_view(svmfit_model *m);
+
+/* Point m->m at our arrays, and set up the dense prediction path. */
 static void rebuild(svmfit_model *m, size_t l)
 {
     size_t k = m->k;
@@ -190,6 +202,7 @@ static void rebuild(svmfit_model *m, size_t l)
     m->m.label = m->label;
     m->m.nSV = m->nsv;
     m->m.free_sv = 0;
+    dense_view(m);
 }
 
 /* Support vector i of libsvm's model 'src' as feature nodes: trained on a
@@ -259,7 +272,7 @@ static svmfit_model *copy_out(const struct svm_model *src, struct svm_node *cons
  * exp(-gamma * (|x|^2 + |y|^2 - 2 x.y)).  So the model's support vectors,
  * dual coefficients and rho are exactly what libsvm computes from the
  * feature nodes (test_svmfit.c checks), and prediction, on the rebuilt
- * model over the feature nodes, is unchanged.  The one difference is inside
+ * model (k_function's values, see "prediction"), is unchanged.  The one difference is inside
  * the probability estimate: when libsvm predicts its held-out rows there it
  * uses k_function, whose RBF form is exp(-gamma * |x - y|^2), which rounds
  * differently in the last bits; with the matrix it reads the kernel_rbf
@@ -498,6 +511,9 @@ void svmfit_free(svmfit_model *m)
     free(m->probB);
     free(m->label);
     free(m->nsv);
+    free(m->pnodes);
+    free(m->psv);
+    free(m->dsv);
     free(m);
 }
 
@@ -507,27 +523,210 @@ double svmfit_gamma(const svmfit_model *m) { return m->gamma; }
 size_t svmfit_support_vectors(const svmfit_model *m) { return (size_t)m->m.l; }
 enum svmfit_kernel svmfit_kernel_of(const svmfit_model *m) { return m->kernel; }
 
+/* ---- prediction ----
+ *
+ * libsvm predicts a row x by evaluating k_function(x, SV_j) for every
+ * support vector j, walking both node lists; in compare that walk was a
+ * tenth of the CPU time.  Where the support vectors are mostly non-zero,
+ * dense_view keeps them densely as well, and a prediction computes all
+ * K(x, SV_j) here in one pass over plain arrays, then asks libsvm to
+ * predict with a PRECOMPUTED-kernel view of the same model: pm shares
+ * sv_coef, rho, probA, probB, label and nSV with m, its SV j is the single
+ * node {0, j+1}, and the query's node j+1 holds K(x, SV_j).  libsvm's
+ * k_function for PRECOMPUTED returns x[(int)SV_j[0].value].value, so it
+ * reads our values, and everything after the kernel (decision values,
+ * Platt's sigmoid, pairwise coupling) is libsvm's own code on the same
+ * numbers.
+ *
+ * The values are bit for bit k_function's (libsvm 3.24 svm.cpp):
+ * - RBF: k_function adds, over the union of both rows' indices in
+ *   ascending order, (x_q - y_q)^2 where both have index q and the lone
+ *   value squared where one has it, then returns exp(-gamma * sum).  The
+ *   dense loop adds (x_q - y_q)^2 for every q from 1 to D in the same order,
+ *   the absent values being 0: x - 0 = x and 0 - y = -y exactly, so the
+ *   one-sided terms are the same products, and where both are absent it
+ *   adds (0 - 0)^2 = +0, which leaves any sum unchanged (the sum starts at
+ *   +0 and never becomes -0: every term is +0 or positive).
+ * - Linear: k_function is the sum of x_q * y_q over the shared indices in
+ *   ascending order.  The dense loop also adds x_q * 0 = +-0 where one side
+ *   is absent; s + (+-0) = s for every s other than -0, and the sum cannot
+ *   become -0 (it starts at +0 and +0 + -0 = +0 in round-to-nearest).  Only
+ *   inf * 0 = NaN would differ, so a row with a non-finite value, or a model
+ *   whose support vectors hold one, takes libsvm's node walk.
+ * Neither loop may contract a * b + c into a fused multiply-add: the build
+ * is in ISO C mode (GCC then never contracts) and the AVX2 copy does not
+ * enable FMA (vec4.h).  test_svmfit.c compares both paths with memcmp.
+ *
+ * The dense path pays where most features are non-zero (pooled word
+ * vectors); bag-of-words support vectors are mostly zeros over a wide
+ * vocabulary, and the node walk, which touches only the non-zeros, stays
+ * cheaper there. */
+
+/* The dense path needs at least this share of non-zeros among the support
+ * vectors' L x D values, and at most DENSE_MAX_VALUES values in all. */
+#define DENSE_MIN_FILL 0.5
+#define DENSE_MAX_VALUES ((size_t)1 << 24)
+
+static void dense_view(svmfit_model *m)
+{
+    size_t l = (size_t)m->m.l, d = m->d;
+    m->on_nodes = 0;
+    if (l == 0 || d == 0 || l > (size_t)INT32_MAX - 2)
+        return;
+    m->nblk = (l + 3) / 4;
+    if (m->nblk > DENSE_MAX_VALUES / 4 / d || (double)(m->nnodes - l) < DENSE_MIN_FILL * (double)l * (double)d)
+        return;
+    for (size_t a = 0; a < m->nnodes; a++)
+        if (m->nodes[a].index != -1 && !isfinite(m->nodes[a].value))
+            return;
+    m->dsv = xcalloc(m->nblk * d * 4, sizeof *m->dsv); /* nblk * 4 * d <= DENSE_MAX_VALUES */
+    for (size_t j = 0; j < l; j++)
+        for (const struct svm_node *p = m->sv[j]; p->index != -1; p++)
+            m->dsv[((j / 4) * d + (size_t)p->index - 1) * 4 + j % 4] = p->value;
+    m->pnodes = xcalloc(2 * l, sizeof *m->pnodes);
+    m->psv = xcalloc(l, sizeof *m->psv);
+    for (size_t j = 0; j < l; j++) {
+        m->psv[j] = m->pnodes + 2 * j;
+        m->psv[j][0].index = 0;
+        m->psv[j][0].value = (double)(j + 1);
+        m->psv[j][1].index = -1;
+    }
+    m->pm = m->m;
+    m->pm.param.kernel_type = PRECOMPUTED;
+    m->pm.SV = m->psv;
+}
+
+int svmfit_predict_on_nodes(svmfit_model *m, int on)
+{
+    m->on_nodes = on != 0;
+    return m->dsv && !m->on_nodes;
+}
+
+/* One pass over the D features for blocks b0 .. b0+NB of dsv: lane t of
+ * acc[c] is the sum for SV 4 (b0 + c) + t, each added in feature order.
+ * RBF is a constant 0 or 1, so each use compiles to one loop. */
+#define KERNEL_PASS(NB, RBF)                                                        \
+    do {                                                                       \
+        v4d acc[NB];                                                           \
+        VEC4_UNROLL                                                            \
+        for (size_t c = 0; c < (NB); c++)                                      \
+            acc[c] = VEC4_SPLAT(0.0);                                          \
+        for (size_t q = 0; q < d; q++) {                                       \
+            v4d xv = VEC4_SPLAT(x[q]);                                         \
+            VEC4_UNROLL                                                        \
+            for (size_t c = 0; c < (NB); c++) {                                \
+                v4d sv;                                                        \
+                VEC4_LOAD(sv, dsv + ((b0 + c) * d + q) * 4);                   \
+                if (RBF) {                                                     \
+                    v4d diff = xv - sv;                                        \
+                    acc[c] += diff * diff;                                     \
+                } else {                                                       \
+                    acc[c] += xv * sv;                                         \
+                }                                                              \
+            }                                                                  \
+        }                                                                      \
+        VEC4_UNROLL                                                            \
+        for (size_t c = 0; c < (NB); c++)                                      \
+            VEC4_STORE(out + (b0 + c) * 4, acc[c]);                            \
+    } while (0)
+
+/* out[j] = sum over features of (x - SV_j)^2 (rbf) or x * SV_j, for the
+ * nblk * 4 columns of dsv (padding columns are zero vectors).  Four blocks
+ * at a time keep four independent chains of adds in flight. */
+VEC4_CLONES static void kernel_sums(const double *dsv, size_t nblk, size_t d, const double *x, int rbf, double *out)
+{
+    size_t b0 = 0;
+    if (rbf) {
+        for (; b0 + 4 <= nblk; b0 += 4)
+            KERNEL_PASS(4, 1);
+        for (; b0 < nblk; b0++)
+            KERNEL_PASS(1, 1);
+    } else {
+        for (; b0 + 4 <= nblk; b0 += 4)
+            KERNEL_PASS(4, 0);
+        for (; b0 < nblk; b0++)
+            KERNEL_PASS(1, 0);
+    }
+}
+
+/* Row i of X as the PRECOMPUTED query for m->pm (L + 2 nodes in 'q'), or
+ * NULL when the row must take the node walk (see above). */
+static struct svm_node *kernel_query(const svmfit_model *m, const struct fmat *X, size_t i, struct svm_node *q)
+{
+    size_t d = m->d, l = (size_t)m->m.l, nk = m->nblk * 4;
+    double xst[256], kst[512];
+    double *xd = xst, *kv = nk <= 512 ? kst : xmalloc(nk * sizeof *kv);
+    const double *x;
+    if (X->sparse) {
+        xd = d <= 256 ? xst : xmalloc(d * sizeof *xd);
+        memset(xd, 0, d * sizeof *xd);
+        for (size_t j = X->rowptr[i]; j < X->rowptr[i + 1]; j++)
+            xd[X->col[j]] = X->val[j];
+        x = xd;
+    } else {
+        x = X->x + i * X->d;
+    }
+    int rbf = m->kernel == SVMFIT_RBF, ok = 1;
+    for (size_t t = 0; !rbf && t < d; t++)
+        ok &= isfinite(x[t]) != 0;
+    if (ok) {
+        kernel_sums(m->dsv, m->nblk, d, x, rbf, kv);
+        q[0].index = 0;
+        q[0].value = 0;
+        for (size_t j = 0; j < l; j++) {
+            q[j + 1].index = (int)j + 1;
+            q[j + 1].value = rbf ? exp(-m->gamma * kv[j]) : kv[j];
+        }
+        q[l + 1].index = -1;
+        q[l + 1].value = 0;
+    }
+    if (xd != xst)
+        free(xd);
+    if (kv != kst)
+        free(kv);
+    return ok ? q : NULL;
+}
+
+/* Predict row i of X with libsvm: probabilities into 'ps' (K, slot order)
+ * when 'ps' is set, else decision values into 'dec' (P, slot order). */
+static void predict(const svmfit_model *m, const struct fmat *X, size_t i, double *ps, double *dec)
+{
+    struct svm_node stackbuf[514];
+    size_t l = (size_t)m->m.l, need = X->d + 1;
+    int dense = m->dsv && !m->on_nodes && X->d == m->d;
+    if (dense && l + 2 > need)
+        need = l + 2;
+    struct svm_node *buf = need <= 514 ? stackbuf : xcalloc(need, sizeof *buf);
+    const struct svm_model *sm = &m->m;
+    struct svm_node *x = dense ? kernel_query(m, X, i, buf) : NULL;
+    if (x)
+        sm = &m->pm;
+    else
+        x = row_nodes(X, i, buf);
+    if (ps)
+        svm_predict_probability(sm, x, ps);
+    else
+        svm_predict_values(sm, x, dec);
+    if (buf != stackbuf)
+        free(buf);
+}
+
 void svmfit_proba(const svmfit_model *m, const struct fmat *X, size_t i, double *p)
 {
-    struct svm_node stackbuf[512];
-    struct svm_node *buf = X->d + 1 <= 512 ? stackbuf : xcalloc(X->d + 1, sizeof *buf);
     double slot[64];
     double *ps = m->k <= 64 ? slot : xcalloc(m->k, sizeof *ps);
-    svm_predict_probability(&m->m, row_nodes(X, i, buf), ps);
+    predict(m, X, i, ps, NULL);
     for (size_t c = 0; c < m->k; c++)
         p[m->label[c]] = ps[c];
     if (ps != slot)
         free(ps);
-    if (buf != stackbuf)
-        free(buf);
 }
 
 void svmfit_decision(const svmfit_model *m, const struct fmat *X, size_t i, double *dec)
 {
     size_t k = m->k, np = k * (k - 1) / 2;
-    struct svm_node *buf = xcalloc(X->d + 1, sizeof *buf);
     double *raw = xcalloc(np, sizeof *raw);
-    svm_predict_values(&m->m, row_nodes(X, i, buf), raw);
+    predict(m, X, i, NULL, raw);
     /* libsvm orders pairs by class slot (s < t); map to our label order. */
     size_t q = 0;
     for (size_t s = 0; s < k; s++)
@@ -538,7 +737,6 @@ void svmfit_decision(const svmfit_model *m, const struct fmat *X, size_t i, doub
             dec[idx] = a < b ? raw[q] : -raw[q];
         }
     free(raw);
-    free(buf);
 }
 
 /* ---- persistence ---- */
