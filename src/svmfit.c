@@ -37,7 +37,7 @@ struct svmfit_model {
     struct svm_model pm;
     struct svm_node *pnodes;     /* (2L) SV j as libsvm's PRECOMPUTED SV: {0, j+1}, end */
     struct svm_node **psv;       /* (L) into pnodes */
-    double *dsv;                 /* (L/4 rounded up, D, 4) the SVs densely, four interleaved */
+    double *dsv;                 /* the SVs densely, by pack4: (L/4 rounded up, D, 4) */
     size_t nblk;                 /* blocks of four SVs in dsv */
     int on_nodes;                /* 1: predict through m, walking the nodes (tests) */
 };
@@ -257,6 +257,70 @@ static svmfit_model *copy_out(const struct svm_model *src, struct svm_node *cons
     return m;
 }
 
+/* ---- dense sums over packed vectors (training and prediction) ---- */
+
+/* rows[0..n) (nodes, indices 1..d) densely in blocks of four: block b
+ * holds rows 4b..4b+3 interleaved, value q of row 4b+t at (b d + q) 4 + t;
+ * absent values and the rows past n that fill the last block are 0.  A
+ * new array of ((n + 3) / 4) * d * 4 doubles. */
+static double *pack4(struct svm_node *const *rows, size_t n, size_t d)
+{
+    double *v = xcalloc(xmul((n + 3) / 4, xmul(d, 4)), sizeof *v);
+    for (size_t j = 0; j < n; j++)
+        for (const struct svm_node *p = rows[j]; p->index != -1; p++)
+            v[((j / 4) * d + (size_t)p->index - 1) * 4 + j % 4] = p->value;
+    return v;
+}
+
+/* One pass over the D features for blocks b0 .. b0+NB of dsv: lane t of
+ * acc[c] is the sum for vector 4 (b0 + c) + t, each added in feature order.
+ * RBF is a constant 0 or 1, so each use compiles to one loop. */
+#define KERNEL_PASS(NB, RBF)                                                        \
+    do {                                                                       \
+        v4d acc[NB];                                                           \
+        VEC4_UNROLL                                                            \
+        for (size_t c = 0; c < (NB); c++)                                      \
+            acc[c] = VEC4_SPLAT(0.0);                                          \
+        for (size_t q = 0; q < d; q++) {                                       \
+            v4d xv = VEC4_SPLAT(x[q]);                                         \
+            VEC4_UNROLL                                                        \
+            for (size_t c = 0; c < (NB); c++) {                                \
+                v4d sv;                                                        \
+                VEC4_LOAD(sv, dsv + ((b0 + c) * d + q) * 4);                   \
+                if (RBF) {                                                     \
+                    v4d diff = xv - sv;                                        \
+                    acc[c] += diff * diff;                                     \
+                } else {                                                       \
+                    acc[c] += xv * sv;                                         \
+                }                                                              \
+            }                                                                  \
+        }                                                                      \
+        VEC4_UNROLL                                                            \
+        for (size_t c = 0; c < (NB); c++)                                      \
+            VEC4_STORE(out + (b0 + c) * 4, acc[c]);                            \
+    } while (0)
+
+/* out[j] = sum over features of (x - v_j)^2 (rbf) or x * v_j, for the
+ * nblk * 4 vectors v_j packed in dsv by pack4 (padding vectors are zero).
+ * Each sum starts at +0 and adds its D terms in feature order, one lane
+ * per vector; four blocks at a time keep four independent chains of adds
+ * in flight. */
+VEC4_CLONES static void kernel_sums(const double *dsv, size_t nblk, size_t d, const double *x, int rbf, double *out)
+{
+    size_t b0 = 0;
+    if (rbf) {
+        for (; b0 + 4 <= nblk; b0 += 4)
+            KERNEL_PASS(4, 1);
+        for (; b0 < nblk; b0++)
+            KERNEL_PASS(1, 1);
+    } else {
+        for (; b0 + 4 <= nblk; b0 += 4)
+            KERNEL_PASS(4, 0);
+        for (; b0 < nblk; b0++)
+            KERNEL_PASS(1, 0);
+    }
+}
+
 /* ---- a precomputed kernel matrix ----
  *
  * Trained as is, libsvm evaluates the kernel on the sparse nodes again and
@@ -299,26 +363,29 @@ static double node_dot(const struct svm_node *px, const struct svm_node *py)
     return sum;
 }
 
-/* node_dot of dense row a with four dense rows b0..b3 (every index 1..d
- * present): the same products added in the same order, four sums at once. */
-static void dense_dot4(const double *a, const double *b0, const double *b1, const double *b2, const double *b3,
-                       size_t d, double *out)
-{
-    double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
-    for (size_t q = 0; q < d; q++) {
-        s0 += a[q] * b0[q];
-        s1 += a[q] * b1[q];
-        s2 += a[q] * b2[q];
-        s3 += a[q] * b3[q];
-    }
-    out[0] = s0;
-    out[1] = s1;
-    out[2] = s2;
-    out[3] = s3;
-}
+/* The share of non-zeros above which the training rows are packed densely
+ * for their dot products (below it, a walk over columns touches only the
+ * products that exist). */
+#define PACK_MIN_FILL 0.5
 
 /* The kernel rows of xs[0..n) (d features) in libsvm's PRECOMPUTED layout;
- * '*slab' gets the memory to free. */
+ * '*slab' gets the memory to free.
+ *
+ * Only the lower triangle's dot products are computed: the matrix is
+ * symmetric bit for bit (libsvm's dot multiplies the same pairs in the same
+ * order either way round, and |x|^2 + |y|^2 commutes).  Each is node_dot's
+ * sum, the products over the shared indices in ascending order, by one of
+ * two routes:
+ * - Mostly non-zero rows with finite values (pooled vectors): kernel_sums
+ *   over all rows packed four by four, row i scattered densely, adds the
+ *   products of all d features in index order.  The extra terms, where a
+ *   row lacks the index, are +-0 and leave the sum unchanged: it starts at
+ *   +0, never becomes -0 (+0 + -0 = +0 in round-to-nearest, and exact
+ *   cancellation gives +0), and s + (+-0) = s for every other s.  An
+ *   infinite value would make inf * 0 = NaN, hence the finiteness check.
+ * - Otherwise (bag of words), by columns: for each index q of row i in
+ *   ascending order, every row j <= i holding q gets x_iq * x_jq added to
+ *   its sum, which is node_dot's sequence of additions for every j. */
 static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_t d, enum svmfit_kernel kern,
                                      double gamma, struct svm_node **slab)
 {
@@ -326,53 +393,59 @@ static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_
     struct svm_node *all = xcalloc(xmul(n, w), sizeof *all);
     struct svm_node **rows = xcalloc(n, sizeof *rows);
     double *sq = xcalloc(n, sizeof *sq);
-    /* Rows with every feature non-zero, copied out densely, take dense_dot4. */
-    size_t *full = xcalloc(n, sizeof *full), nfull = 0;
-    double *dv = NULL;
+    size_t nnz = 0;
+    int finite = 1;
     for (size_t i = 0; i < n; i++) {
         rows[i] = all + i * w;
         rows[i][0].index = 0;
         rows[i][0].value = (double)(i + 1);
         rows[i][n + 1].index = -1;
         sq[i] = node_dot(xs[i], xs[i]);
-        size_t c = 0;
-        while (xs[i][c].index != -1)
-            c++;
-        full[i] = c == d ? ++nfull : 0; /* 1-based position among the full rows */
+        for (const struct svm_node *p = xs[i]; p->index != -1; p++, nnz++)
+            finite &= isfinite(p->value) != 0;
     }
-    if (nfull) {
-        dv = xcalloc(xmul(nfull, d), sizeof *dv);
+    int packed = finite && d > 0 && (double)nnz >= PACK_MIN_FILL * (double)n * (double)d;
+    double *pk = NULL, *fd = NULL, *cval = NULL;
+    size_t *cstart = NULL, *crow = NULL;
+    if (packed) {
+        pk = pack4(xs, n, d);
+        fd = xcalloc((n + 3) / 4 * 4, sizeof *fd);
+    } else { /* the rows' values by column, rows ascending in each */
+        cstart = xcalloc(d + 1, sizeof *cstart);
+        crow = xcalloc(nnz ? nnz : 1, sizeof *crow);
+        cval = xcalloc(nnz ? nnz : 1, sizeof *cval);
         for (size_t i = 0; i < n; i++)
-            for (size_t q = 0; full[i] && q < d; q++)
-                dv[(full[i] - 1) * d + q] = xs[i][q].value;
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+                cstart[p->index]++;
+        for (size_t q = 0; q < d; q++)
+            cstart[q + 1] += cstart[q];
+        size_t *fill = xcalloc(d ? d : 1, sizeof *fill);
+        for (size_t i = 0; i < n; i++)
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++) {
+                size_t at = cstart[p->index - 1] + fill[p->index - 1]++;
+                crow[at] = i;
+                cval[at] = p->value;
+            }
+        free(fill);
     }
     double *dots = xcalloc(n, sizeof *dots), *ri = xcalloc(d ? d : 1, sizeof *ri);
     for (size_t i = 0; i < n; i++) {
-        size_t j = 0;
-        if (full[i]) /* runs of four full rows j..j+3 below i */
-            while (j + 3 <= i && full[j] && full[j + 1] && full[j + 2] && full[j + 3]) {
-                const double *a = dv + (full[i] - 1) * d;
-                dense_dot4(a, dv + (full[j] - 1) * d, dv + (full[j + 1] - 1) * d, dv + (full[j + 2] - 1) * d,
-                           dv + (full[j + 3] - 1) * d, d, dots + j);
-                j += 4;
+        if (packed) {
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+                ri[p->index - 1] = p->value;
+            kernel_sums(pk, i / 4 + 1, d, ri, 0, fd); /* fd[j]: rows i and j, for every j <= i */
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+                ri[p->index - 1] = 0;
+            memcpy(dots, fd, (i + 1) * sizeof *dots);
+        } else {
+            memset(dots, 0, (i + 1) * sizeof *dots);
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++) {
+                size_t q = (size_t)p->index - 1;
+                for (size_t at = cstart[q]; at < cstart[q + 1] && crow[at] <= i; at++)
+                    dots[crow[at]] += p->value * cval[at];
             }
-        /* The rest against row i scattered densely: for each index of row j
-         * in ascending order, the product with row i's value where row i has
-         * one; exactly node_dot's sum. */
-        for (const struct svm_node *p = xs[i]; p->index != -1; p++)
-            ri[p->index - 1] = p->value;
-        for (; j <= i; j++) {
-            double sum = 0;
-            for (const struct svm_node *p = xs[j]; p->index != -1; p++) {
-                double a = ri[p->index - 1];
-                if (a != 0)
-                    sum += a * p->value;
-            }
-            dots[j] = sum;
         }
-        for (const struct svm_node *p = xs[i]; p->index != -1; p++)
-            ri[p->index - 1] = 0;
-        for (j = 0; j <= i; j++) {
+        for (size_t j = 0; j <= i; j++) {
             double kv = kern == SVMFIT_RBF ? exp(-gamma * (sq[i] + sq[j] - 2 * dots[j])) : dots[j];
             rows[i][j + 1].index = (int)j + 1;
             rows[i][j + 1].value = kv;
@@ -382,8 +455,11 @@ static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_
     }
     free(dots);
     free(ri);
-    free(dv);
-    free(full);
+    free(pk);
+    free(fd);
+    free(cstart);
+    free(crow);
+    free(cval);
     free(sq);
     *slab = all;
     return rows;
@@ -579,10 +655,7 @@ static void dense_view(svmfit_model *m)
     for (size_t a = 0; a < m->nnodes; a++)
         if (m->nodes[a].index != -1 && !isfinite(m->nodes[a].value))
             return;
-    m->dsv = xcalloc(m->nblk * d * 4, sizeof *m->dsv); /* nblk * 4 * d <= DENSE_MAX_VALUES */
-    for (size_t j = 0; j < l; j++)
-        for (const struct svm_node *p = m->sv[j]; p->index != -1; p++)
-            m->dsv[((j / 4) * d + (size_t)p->index - 1) * 4 + j % 4] = p->value;
+    m->dsv = pack4(m->sv, l, d);
     m->pnodes = xcalloc(2 * l, sizeof *m->pnodes);
     m->psv = xcalloc(l, sizeof *m->psv);
     for (size_t j = 0; j < l; j++) {
@@ -600,53 +673,6 @@ int svmfit_predict_on_nodes(svmfit_model *m, int on)
 {
     m->on_nodes = on != 0;
     return m->dsv && !m->on_nodes;
-}
-
-/* One pass over the D features for blocks b0 .. b0+NB of dsv: lane t of
- * acc[c] is the sum for SV 4 (b0 + c) + t, each added in feature order.
- * RBF is a constant 0 or 1, so each use compiles to one loop. */
-#define KERNEL_PASS(NB, RBF)                                                        \
-    do {                                                                       \
-        v4d acc[NB];                                                           \
-        VEC4_UNROLL                                                            \
-        for (size_t c = 0; c < (NB); c++)                                      \
-            acc[c] = VEC4_SPLAT(0.0);                                          \
-        for (size_t q = 0; q < d; q++) {                                       \
-            v4d xv = VEC4_SPLAT(x[q]);                                         \
-            VEC4_UNROLL                                                        \
-            for (size_t c = 0; c < (NB); c++) {                                \
-                v4d sv;                                                        \
-                VEC4_LOAD(sv, dsv + ((b0 + c) * d + q) * 4);                   \
-                if (RBF) {                                                     \
-                    v4d diff = xv - sv;                                        \
-                    acc[c] += diff * diff;                                     \
-                } else {                                                       \
-                    acc[c] += xv * sv;                                         \
-                }                                                              \
-            }                                                                  \
-        }                                                                      \
-        VEC4_UNROLL                                                            \
-        for (size_t c = 0; c < (NB); c++)                                      \
-            VEC4_STORE(out + (b0 + c) * 4, acc[c]);                            \
-    } while (0)
-
-/* out[j] = sum over features of (x - SV_j)^2 (rbf) or x * SV_j, for the
- * nblk * 4 columns of dsv (padding columns are zero vectors).  Four blocks
- * at a time keep four independent chains of adds in flight. */
-VEC4_CLONES static void kernel_sums(const double *dsv, size_t nblk, size_t d, const double *x, int rbf, double *out)
-{
-    size_t b0 = 0;
-    if (rbf) {
-        for (; b0 + 4 <= nblk; b0 += 4)
-            KERNEL_PASS(4, 1);
-        for (; b0 < nblk; b0++)
-            KERNEL_PASS(1, 1);
-    } else {
-        for (; b0 + 4 <= nblk; b0 += 4)
-            KERNEL_PASS(4, 0);
-        for (; b0 < nblk; b0++)
-            KERNEL_PASS(1, 0);
-    }
 }
 
 /* Row i of X as the PRECOMPUTED query for m->pm (L + 2 nodes in 'q'), or

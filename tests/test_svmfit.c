@@ -391,8 +391,9 @@ static void expect_same_field(const cJSON *a, const cJSON *b, const char *key, c
  * nodes; Platt's A and B too for the linear kernel.  For RBF, libsvm's
  * held-out predictions inside the probability estimate use its other form
  * of the kernel, exp(-gamma |x - y|^2), which rounds differently: A and B
- * agree to 1e-12 relative (svmfit.c).  Dense rows and sparse rows (some
- * zero, some columns absent) both. */
+ * agree to 1e-12 relative (svmfit.c).  Dense rows, sparse rows (some
+ * zero, some columns absent), and dense rows mixed with rows holding zeros
+ * (the matrix takes two routes to a dot product there). */
 Test(svmfit, precomputed_kernel_gives_libsvms_model)
 {
     struct fmat D = FMAT_INIT, S = FMAT_INIT;
@@ -410,12 +411,20 @@ Test(svmfit, precomputed_kernel_gives_libsvms_model)
             }
         fmat_push_row(&S, cols, vals, nz);
     }
-    const struct fmat *mats[2] = { &D, &S };
+    /* Mixed: dense rows, every seventh with a zero feature, one all zero. */
+    struct fmat M = FMAT_INIT;
+    fmat_dense(&M, 90, 4);
+    memcpy(M.x, D.x, 90 * 4 * sizeof *M.x);
+    for (size_t i = 0; i < 90; i += 7)
+        M.x[i * 4 + i % 4] = 0;
+    memset(M.x + 40 * 4, 0, 4 * sizeof *M.x);
+    const struct fmat *mats[3] = { &D, &S, &M };
+    static const char *const names[3] = { "dense", "sparse", "mixed" };
     static const char *const exact[] = { "gamma", "slot_label", "slot_support", "rho", "dual_coef", "support_vectors" };
-    for (int mi = 0; mi < 2; mi++)
+    for (int mi = 0; mi < 3; mi++)
         for (int kern = SVMFIT_LINEAR; kern <= SVMFIT_RBF; kern++) {
             char what[64];
-            snprintf(what, sizeof what, "%s rows, %s kernel", mi ? "sparse" : "dense", kern ? "rbf" : "linear");
+            snprintf(what, sizeof what, "%s rows, %s kernel", names[mi], kern ? "rbf" : "linear");
             cJSON *a = fit_obj(mats[mi], y, (enum svmfit_kernel)kern, 1);
             cJSON *b = fit_obj(mats[mi], y, (enum svmfit_kernel)kern, 0);
             for (size_t f = 0; f < sizeof exact / sizeof exact[0]; f++)
@@ -437,6 +446,7 @@ Test(svmfit, precomputed_kernel_gives_libsvms_model)
         }
     fmat_release(&D);
     fmat_release(&S);
+    fmat_release(&M);
 }
 
 /* ---- prediction on kernel values computed densely (svmfit.c) ---- */
