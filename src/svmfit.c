@@ -465,6 +465,45 @@ static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_
     return rows;
 }
 
+/* Reorder the problem's rows (xs, ys) as libsvm's svm_group_classes would:
+ * labels in the order they first appear, each label's rows in their order.
+ * libsvm then finds them grouped already (its permutation is the identity)
+ * and trains on the same rows in the same order, so the model is the same
+ * bits: the same label slots, the same sub-problem per pair of classes, the
+ * same rand() draws.  What changes is where the kernel values of a pair lie
+ * in the precomputed matrix: each class's columns are one run, so libsvm's
+ * kernel_precomputed, reading row i at the serial numbers of the pair's
+ * rows, reads neighbouring entries instead of one cache line per entry.
+ * The only trace in libsvm's model is sv_indices, which svmfit never uses
+ * (copy_out maps serial numbers back through the reordered xs). */
+static void group_rows(struct svm_node **xs, double *ys, size_t n, size_t k)
+{
+    size_t *slot = xmalloc(k * sizeof *slot), *start = xcalloc(k + 1, sizeof *start), nslot = 0;
+    for (size_t c = 0; c < k; c++)
+        slot[c] = SIZE_MAX;
+    for (size_t i = 0; i < n; i++) {
+        size_t c = (size_t)ys[i];
+        if (slot[c] == SIZE_MAX)
+            slot[c] = nslot++;
+        start[slot[c] + 1]++;
+    }
+    for (size_t s = 0; s < nslot; s++)
+        start[s + 1] += start[s];
+    struct svm_node **gx = xmalloc(n * sizeof *gx);
+    double *gy = xmalloc(n * sizeof *gy);
+    for (size_t i = 0; i < n; i++) {
+        size_t at = start[slot[(size_t)ys[i]]]++;
+        gx[at] = xs[i];
+        gy[at] = ys[i];
+    }
+    memcpy(xs, gx, n * sizeof *gx);
+    memcpy(ys, gy, n * sizeof *gy);
+    free(gx);
+    free(gy);
+    free(slot);
+    free(start);
+}
+
 svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const struct svmfit_params *p,
                            int *tiny, struct err *e)
 {
@@ -550,6 +589,7 @@ svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const s
         err_set(e, NULL, 0, "SVM settings rejected: %s", bad);
     } else {
         if (X->n <= PRECOMP_MAX_ROWS && !p->nodes_only) {
+            group_rows(xs, ys, X->n, k);
             kx = kernel_rows(xs, X->n, X->d, p->kernel, gamma, &kslab);
             prob.x = kx;
             par.kernel_type = PRECOMPUTED;
