@@ -390,7 +390,7 @@ static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_
                                      double gamma, struct svm_node **slab)
 {
     size_t w = n + 2;
-    struct svm_node *all = xcalloc(xmul(n, w), sizeof *all);
+    struct svm_node *all = xmalloc(xmul(xmul(n, w), sizeof *all)); /* every node is written below */
     struct svm_node **rows = xcalloc(n, sizeof *rows);
     double *sq = xcalloc(n, sizeof *sq);
     size_t nnz = 0;
@@ -400,6 +400,7 @@ static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_
         rows[i][0].index = 0;
         rows[i][0].value = (double)(i + 1);
         rows[i][n + 1].index = -1;
+        rows[i][n + 1].value = 0;
         sq[i] = node_dot(xs[i], xs[i]);
         for (const struct svm_node *p = xs[i]; p->index != -1; p++, nnz++)
             finite &= isfinite(p->value) != 0;
