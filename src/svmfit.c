@@ -335,8 +335,8 @@ VEC4_CLONES static void kernel_sums(const double *dsv, size_t nblk, size_t d, co
  * shared indices in index order) and, for RBF, its kernel_rbf form
  * exp(-gamma * (|x|^2 + |y|^2 - 2 x.y)).  So the model's support vectors,
  * dual coefficients and rho are exactly what libsvm computes from the
- * feature nodes (test_svmfit.c checks), and prediction, on the rebuilt
- * model (k_function's values, see "prediction"), is unchanged.  The one difference is inside
+ * feature nodes (test_svmfit.c checks), and prediction (k_function's
+ * values, see "prediction") is unchanged.  The one difference is inside
  * the probability estimate: when libsvm predicts its held-out rows there it
  * uses k_function, whose RBF form is exp(-gamma * |x - y|^2), which rounds
  * differently in the last bits; with the matrix it reads the kernel_rbf
