@@ -15,6 +15,7 @@
 #include "vecsift/fmat.h"
 #include "vecsift/jsonv.h"
 #include "vecsift/xalloc.h"
+#include "vec4.h"
 
 /* K = labels, L = support vectors, P = K*(K-1)/2 pairs, D = dimensions. */
 struct svmfit_model {
@@ -30,6 +31,15 @@ struct svmfit_model {
     double *rho, *probA, *probB; /* (P) in libsvm's class-slot order */
     int *label;             /* (K) libsvm class slot -> our label index */
     int *nsv;               /* (K) */
+    /* Prediction on kernel values computed here (see "prediction" below):
+     * pm is m with a PRECOMPUTED kernel, sharing its coefficients; dsv is
+     * NULL when the model does not take this path. */
+    struct svm_model pm;
+    struct svm_node *pnodes;     /* (2L) SV j as libsvm's PRECOMPUTED SV: {0, j+1}, end */
+    struct svm_node **psv;       /* (L) into pnodes */
+    double *dsv;                 /* the SVs densely, by pack4: (L/4 rounded up, D, 4) */
+    size_t nblk;                 /* blocks of four SVs in dsv */
+    int on_nodes;                /* 1: predict through m, walking the nodes (tests) */
 };
 
 /* ---- rand() and srand() with one state per thread ----
@@ -168,7 +178,9 @@ static double default_gamma(const struct fmat *X)
     return var > 0 ? 1.0 / ((double)X->d * var) : 1.0;
 }
 
-/* Point m->m at our arrays. */
+static void dense_view(svmfit_model *m);
+
+/* Point m->m at our arrays, and set up the dense prediction path. */
 static void rebuild(svmfit_model *m, size_t l)
 {
     size_t k = m->k;
@@ -190,6 +202,7 @@ static void rebuild(svmfit_model *m, size_t l)
     m->m.label = m->label;
     m->m.nSV = m->nsv;
     m->m.free_sv = 0;
+    dense_view(m);
 }
 
 /* Support vector i of libsvm's model 'src' as feature nodes: trained on a
@@ -244,6 +257,70 @@ static svmfit_model *copy_out(const struct svm_model *src, struct svm_node *cons
     return m;
 }
 
+/* ---- dense sums over packed vectors (training and prediction) ---- */
+
+/* rows[0..n) (nodes, indices 1..d) densely in blocks of four: block b
+ * holds rows 4b..4b+3 interleaved, value q of row 4b+t at (b d + q) 4 + t;
+ * absent values and the rows past n that fill the last block are 0.  A
+ * new array of ((n + 3) / 4) * d * 4 doubles. */
+static double *pack4(struct svm_node *const *rows, size_t n, size_t d)
+{
+    double *v = xcalloc(xmul((n + 3) / 4, xmul(d, 4)), sizeof *v);
+    for (size_t j = 0; j < n; j++)
+        for (const struct svm_node *p = rows[j]; p->index != -1; p++)
+            v[((j / 4) * d + (size_t)p->index - 1) * 4 + j % 4] = p->value;
+    return v;
+}
+
+/* One pass over the D features for blocks b0 .. b0+NB of dsv: lane t of
+ * acc[c] is the sum for vector 4 (b0 + c) + t, each added in feature order.
+ * RBF is a constant 0 or 1, so each use compiles to one loop. */
+#define KERNEL_PASS(NB, RBF)                                                        \
+    do {                                                                       \
+        v4d acc[NB];                                                           \
+        VEC4_UNROLL                                                            \
+        for (size_t c = 0; c < (NB); c++)                                      \
+            acc[c] = VEC4_SPLAT(0.0);                                          \
+        for (size_t q = 0; q < d; q++) {                                       \
+            v4d xv = VEC4_SPLAT(x[q]);                                         \
+            VEC4_UNROLL                                                        \
+            for (size_t c = 0; c < (NB); c++) {                                \
+                v4d sv;                                                        \
+                VEC4_LOAD(sv, dsv + ((b0 + c) * d + q) * 4);                   \
+                if (RBF) {                                                     \
+                    v4d diff = xv - sv;                                        \
+                    acc[c] += diff * diff;                                     \
+                } else {                                                       \
+                    acc[c] += xv * sv;                                         \
+                }                                                              \
+            }                                                                  \
+        }                                                                      \
+        VEC4_UNROLL                                                            \
+        for (size_t c = 0; c < (NB); c++)                                      \
+            VEC4_STORE(out + (b0 + c) * 4, acc[c]);                            \
+    } while (0)
+
+/* out[j] = sum over features of (x - v_j)^2 (rbf) or x * v_j, for the
+ * nblk * 4 vectors v_j packed in dsv by pack4 (padding vectors are zero).
+ * Each sum starts at +0 and adds its D terms in feature order, one lane
+ * per vector; four blocks at a time keep four independent chains of adds
+ * in flight. */
+VEC4_CLONES static void kernel_sums(const double *dsv, size_t nblk, size_t d, const double *x, int rbf, double *out)
+{
+    size_t b0 = 0;
+    if (rbf) {
+        for (; b0 + 4 <= nblk; b0 += 4)
+            KERNEL_PASS(4, 1);
+        for (; b0 < nblk; b0++)
+            KERNEL_PASS(1, 1);
+    } else {
+        for (; b0 + 4 <= nblk; b0 += 4)
+            KERNEL_PASS(4, 0);
+        for (; b0 < nblk; b0++)
+            KERNEL_PASS(1, 0);
+    }
+}
+
 /* ---- a precomputed kernel matrix ----
  *
  * Trained as is, libsvm evaluates the kernel on the sparse nodes again and
@@ -258,8 +335,8 @@ static svmfit_model *copy_out(const struct svm_model *src, struct svm_node *cons
  * shared indices in index order) and, for RBF, its kernel_rbf form
  * exp(-gamma * (|x|^2 + |y|^2 - 2 x.y)).  So the model's support vectors,
  * dual coefficients and rho are exactly what libsvm computes from the
- * feature nodes (test_svmfit.c checks), and prediction, on the rebuilt
- * model over the feature nodes, is unchanged.  The one difference is inside
+ * feature nodes (test_svmfit.c checks), and prediction (k_function's
+ * values, see "prediction") is unchanged.  The one difference is inside
  * the probability estimate: when libsvm predicts its held-out rows there it
  * uses k_function, whose RBF form is exp(-gamma * |x - y|^2), which rounds
  * differently in the last bits; with the matrix it reads the kernel_rbf
@@ -286,80 +363,90 @@ static double node_dot(const struct svm_node *px, const struct svm_node *py)
     return sum;
 }
 
-/* node_dot of dense row a with four dense rows b0..b3 (every index 1..d
- * present): the same products added in the same order, four sums at once. */
-static void dense_dot4(const double *a, const double *b0, const double *b1, const double *b2, const double *b3,
-                       size_t d, double *out)
-{
-    double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
-    for (size_t q = 0; q < d; q++) {
-        s0 += a[q] * b0[q];
-        s1 += a[q] * b1[q];
-        s2 += a[q] * b2[q];
-        s3 += a[q] * b3[q];
-    }
-    out[0] = s0;
-    out[1] = s1;
-    out[2] = s2;
-    out[3] = s3;
-}
+/* The share of non-zeros above which the training rows are packed densely
+ * for their dot products (below it, a walk over columns touches only the
+ * products that exist). */
+#define PACK_MIN_FILL 0.5
 
 /* The kernel rows of xs[0..n) (d features) in libsvm's PRECOMPUTED layout;
- * '*slab' gets the memory to free. */
+ * '*slab' gets the memory to free.
+ *
+ * Only the lower triangle's dot products are computed: the matrix is
+ * symmetric bit for bit (libsvm's dot multiplies the same pairs in the same
+ * order either way round, and |x|^2 + |y|^2 commutes).  Each is node_dot's
+ * sum, the products over the shared indices in ascending order, by one of
+ * two routes:
+ * - Mostly non-zero rows with finite values (pooled vectors): kernel_sums
+ *   over all rows packed four by four, row i scattered densely, adds the
+ *   products of all d features in index order.  The extra terms, where a
+ *   row lacks the index, are +-0 and leave the sum unchanged: it starts at
+ *   +0, never becomes -0 (+0 + -0 = +0 in round-to-nearest, and exact
+ *   cancellation gives +0), and s + (+-0) = s for every other s.  An
+ *   infinite value would make inf * 0 = NaN, hence the finiteness check.
+ * - Otherwise (bag of words), by columns: for each index q of row i in
+ *   ascending order, every row j <= i holding q gets x_iq * x_jq added to
+ *   its sum, which is node_dot's sequence of additions for every j. */
 static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_t d, enum svmfit_kernel kern,
                                      double gamma, struct svm_node **slab)
 {
     size_t w = n + 2;
-    struct svm_node *all = xcalloc(xmul(n, w), sizeof *all);
+    struct svm_node *all = xmalloc(xmul(xmul(n, w), sizeof *all)); /* every node is written below */
     struct svm_node **rows = xcalloc(n, sizeof *rows);
     double *sq = xcalloc(n, sizeof *sq);
-    /* Rows with every feature non-zero, copied out densely, take dense_dot4. */
-    size_t *full = xcalloc(n, sizeof *full), nfull = 0;
-    double *dv = NULL;
+    size_t nnz = 0;
+    int finite = 1;
     for (size_t i = 0; i < n; i++) {
         rows[i] = all + i * w;
         rows[i][0].index = 0;
         rows[i][0].value = (double)(i + 1);
         rows[i][n + 1].index = -1;
+        rows[i][n + 1].value = 0;
         sq[i] = node_dot(xs[i], xs[i]);
-        size_t c = 0;
-        while (xs[i][c].index != -1)
-            c++;
-        full[i] = c == d ? ++nfull : 0; /* 1-based position among the full rows */
+        for (const struct svm_node *p = xs[i]; p->index != -1; p++, nnz++)
+            finite &= isfinite(p->value) != 0;
     }
-    if (nfull) {
-        dv = xcalloc(xmul(nfull, d), sizeof *dv);
+    int packed = finite && d > 0 && (double)nnz >= PACK_MIN_FILL * (double)n * (double)d;
+    double *pk = NULL, *fd = NULL, *cval = NULL;
+    size_t *cstart = NULL, *crow = NULL;
+    if (packed) {
+        pk = pack4(xs, n, d);
+        fd = xcalloc((n + 3) / 4 * 4, sizeof *fd);
+    } else { /* the rows' values by column, rows ascending in each */
+        cstart = xcalloc(d + 1, sizeof *cstart);
+        crow = xcalloc(nnz ? nnz : 1, sizeof *crow);
+        cval = xcalloc(nnz ? nnz : 1, sizeof *cval);
         for (size_t i = 0; i < n; i++)
-            for (size_t q = 0; full[i] && q < d; q++)
-                dv[(full[i] - 1) * d + q] = xs[i][q].value;
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+                cstart[p->index]++;
+        for (size_t q = 0; q < d; q++)
+            cstart[q + 1] += cstart[q];
+        size_t *fill = xcalloc(d ? d : 1, sizeof *fill);
+        for (size_t i = 0; i < n; i++)
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++) {
+                size_t at = cstart[p->index - 1] + fill[p->index - 1]++;
+                crow[at] = i;
+                cval[at] = p->value;
+            }
+        free(fill);
     }
     double *dots = xcalloc(n, sizeof *dots), *ri = xcalloc(d ? d : 1, sizeof *ri);
     for (size_t i = 0; i < n; i++) {
-        size_t j = 0;
-        if (full[i]) /* runs of four full rows j..j+3 below i */
-            while (j + 3 <= i && full[j] && full[j + 1] && full[j + 2] && full[j + 3]) {
-                const double *a = dv + (full[i] - 1) * d;
-                dense_dot4(a, dv + (full[j] - 1) * d, dv + (full[j + 1] - 1) * d, dv + (full[j + 2] - 1) * d,
-                           dv + (full[j + 3] - 1) * d, d, dots + j);
-                j += 4;
+        if (packed) {
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+                ri[p->index - 1] = p->value;
+            kernel_sums(pk, i / 4 + 1, d, ri, 0, fd); /* fd[j]: rows i and j, for every j <= i */
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++)
+                ri[p->index - 1] = 0;
+            memcpy(dots, fd, (i + 1) * sizeof *dots);
+        } else {
+            memset(dots, 0, (i + 1) * sizeof *dots);
+            for (const struct svm_node *p = xs[i]; p->index != -1; p++) {
+                size_t q = (size_t)p->index - 1;
+                for (size_t at = cstart[q]; at < cstart[q + 1] && crow[at] <= i; at++)
+                    dots[crow[at]] += p->value * cval[at];
             }
-        /* The rest against row i scattered densely: for each index of row j
-         * in ascending order, the product with row i's value where row i has
-         * one; exactly node_dot's sum. */
-        for (const struct svm_node *p = xs[i]; p->index != -1; p++)
-            ri[p->index - 1] = p->value;
-        for (; j <= i; j++) {
-            double sum = 0;
-            for (const struct svm_node *p = xs[j]; p->index != -1; p++) {
-                double a = ri[p->index - 1];
-                if (a != 0)
-                    sum += a * p->value;
-            }
-            dots[j] = sum;
         }
-        for (const struct svm_node *p = xs[i]; p->index != -1; p++)
-            ri[p->index - 1] = 0;
-        for (j = 0; j <= i; j++) {
+        for (size_t j = 0; j <= i; j++) {
             double kv = kern == SVMFIT_RBF ? exp(-gamma * (sq[i] + sq[j] - 2 * dots[j])) : dots[j];
             rows[i][j + 1].index = (int)j + 1;
             rows[i][j + 1].value = kv;
@@ -369,11 +456,53 @@ static struct svm_node **kernel_rows(struct svm_node *const *xs, size_t n, size_
     }
     free(dots);
     free(ri);
-    free(dv);
-    free(full);
+    free(pk);
+    free(fd);
+    free(cstart);
+    free(crow);
+    free(cval);
     free(sq);
     *slab = all;
     return rows;
+}
+
+/* Reorder the problem's rows (xs, ys) as libsvm's svm_group_classes would:
+ * labels in the order they first appear, each label's rows in their order.
+ * libsvm then finds them grouped already (its permutation is the identity)
+ * and trains on the same rows in the same order, so the model is the same
+ * bits: the same label slots, the same sub-problem per pair of classes, the
+ * same rand() draws.  What changes is where the kernel values of a pair lie
+ * in the precomputed matrix: each class's columns are one run, so libsvm's
+ * kernel_precomputed, reading row i at the serial numbers of the pair's
+ * rows, reads neighbouring entries instead of one cache line per entry.
+ * The only trace in libsvm's model is sv_indices, which svmfit never uses
+ * (copy_out maps serial numbers back through the reordered xs). */
+static void group_rows(struct svm_node **xs, double *ys, size_t n, size_t k)
+{
+    size_t *slot = xmalloc(k * sizeof *slot), *start = xcalloc(k + 1, sizeof *start), nslot = 0;
+    for (size_t c = 0; c < k; c++)
+        slot[c] = SIZE_MAX;
+    for (size_t i = 0; i < n; i++) {
+        size_t c = (size_t)ys[i];
+        if (slot[c] == SIZE_MAX)
+            slot[c] = nslot++;
+        start[slot[c] + 1]++;
+    }
+    for (size_t s = 0; s < nslot; s++)
+        start[s + 1] += start[s];
+    struct svm_node **gx = xmalloc(n * sizeof *gx);
+    double *gy = xmalloc(n * sizeof *gy);
+    for (size_t i = 0; i < n; i++) {
+        size_t at = start[slot[(size_t)ys[i]]]++;
+        gx[at] = xs[i];
+        gy[at] = ys[i];
+    }
+    memcpy(xs, gx, n * sizeof *gx);
+    memcpy(ys, gy, n * sizeof *gy);
+    free(gx);
+    free(gy);
+    free(slot);
+    free(start);
 }
 
 svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const struct svmfit_params *p,
@@ -461,6 +590,7 @@ svmfit_model *svmfit_train(const struct fmat *X, const int *y, size_t k, const s
         err_set(e, NULL, 0, "SVM settings rejected: %s", bad);
     } else {
         if (X->n <= PRECOMP_MAX_ROWS && !p->nodes_only) {
+            group_rows(xs, ys, X->n, k);
             kx = kernel_rows(xs, X->n, X->d, p->kernel, gamma, &kslab);
             prob.x = kx;
             par.kernel_type = PRECOMPUTED;
@@ -498,6 +628,9 @@ void svmfit_free(svmfit_model *m)
     free(m->probB);
     free(m->label);
     free(m->nsv);
+    free(m->pnodes);
+    free(m->psv);
+    free(m->dsv);
     free(m);
 }
 
@@ -507,27 +640,160 @@ double svmfit_gamma(const svmfit_model *m) { return m->gamma; }
 size_t svmfit_support_vectors(const svmfit_model *m) { return (size_t)m->m.l; }
 enum svmfit_kernel svmfit_kernel_of(const svmfit_model *m) { return m->kernel; }
 
+/* ---- prediction ----
+ *
+ * libsvm predicts a row x by evaluating k_function(x, SV_j) for every
+ * support vector j, walking both node lists; in compare that walk was a
+ * tenth of the CPU time.  Where the support vectors are mostly non-zero,
+ * dense_view keeps them densely as well, and a prediction computes all
+ * K(x, SV_j) here in one pass over plain arrays, then asks libsvm to
+ * predict with a PRECOMPUTED-kernel view of the same model: pm shares
+ * sv_coef, rho, probA, probB, label and nSV with m, its SV j is the single
+ * node {0, j+1}, and the query's node j+1 holds K(x, SV_j).  libsvm's
+ * k_function for PRECOMPUTED returns x[(int)SV_j[0].value].value, so it
+ * reads our values, and everything after the kernel (decision values,
+ * Platt's sigmoid, pairwise coupling) is libsvm's own code on the same
+ * numbers.
+ *
+ * The values are bit for bit k_function's (libsvm 3.24 svm.cpp):
+ * - RBF: k_function adds, over the union of both rows' indices in
+ *   ascending order, (x_q - y_q)^2 where both have index q and the lone
+ *   value squared where one has it, then returns exp(-gamma * sum).  The
+ *   dense loop adds (x_q - y_q)^2 for every q from 1 to D in the same order,
+ *   the absent values being 0: x - 0 = x and 0 - y = -y exactly, so the
+ *   one-sided terms are the same products, and where both are absent it
+ *   adds (0 - 0)^2 = +0, which leaves any sum unchanged (the sum starts at
+ *   +0 and never becomes -0: every term is +0 or positive).
+ * - Linear: k_function is the sum of x_q * y_q over the shared indices in
+ *   ascending order.  The dense loop also adds x_q * 0 = +-0 where one side
+ *   is absent; s + (+-0) = s for every s other than -0, and the sum cannot
+ *   become -0 (it starts at +0 and +0 + -0 = +0 in round-to-nearest).  Only
+ *   inf * 0 = NaN would differ, so a row with a non-finite value, or a model
+ *   whose support vectors hold one, takes libsvm's node walk.
+ * Neither loop may contract a * b + c into a fused multiply-add: the build
+ * is in ISO C mode (GCC then never contracts) and the AVX2 copy does not
+ * enable FMA (vec4.h).  test_svmfit.c compares both paths with memcmp.
+ *
+ * The dense path pays where most features are non-zero (pooled word
+ * vectors); bag-of-words support vectors are mostly zeros over a wide
+ * vocabulary, and the node walk, which touches only the non-zeros, stays
+ * cheaper there. */
+
+/* The dense path needs at least this share of non-zeros among the support
+ * vectors' L x D values, and at most DENSE_MAX_VALUES values in all. */
+#define DENSE_MIN_FILL 0.5
+#define DENSE_MAX_VALUES ((size_t)1 << 24)
+
+static void dense_view(svmfit_model *m)
+{
+    size_t l = (size_t)m->m.l, d = m->d;
+    m->on_nodes = 0;
+    if (l == 0 || d == 0 || l > (size_t)INT32_MAX - 2)
+        return;
+    m->nblk = (l + 3) / 4;
+    if (m->nblk > DENSE_MAX_VALUES / 4 / d || (double)(m->nnodes - l) < DENSE_MIN_FILL * (double)l * (double)d)
+        return;
+    for (size_t a = 0; a < m->nnodes; a++)
+        if (m->nodes[a].index != -1 && !isfinite(m->nodes[a].value))
+            return;
+    m->dsv = pack4(m->sv, l, d);
+    m->pnodes = xcalloc(2 * l, sizeof *m->pnodes);
+    m->psv = xcalloc(l, sizeof *m->psv);
+    for (size_t j = 0; j < l; j++) {
+        m->psv[j] = m->pnodes + 2 * j;
+        m->psv[j][0].index = 0;
+        m->psv[j][0].value = (double)(j + 1);
+        m->psv[j][1].index = -1;
+    }
+    m->pm = m->m;
+    m->pm.param.kernel_type = PRECOMPUTED;
+    m->pm.SV = m->psv;
+}
+
+int svmfit_predict_on_nodes(svmfit_model *m, int on)
+{
+    m->on_nodes = on != 0;
+    return m->dsv && !m->on_nodes;
+}
+
+/* Row i of X as the PRECOMPUTED query for m->pm (L + 2 nodes in 'q'), or
+ * NULL when the row must take the node walk (see above). */
+static struct svm_node *kernel_query(const svmfit_model *m, const struct fmat *X, size_t i, struct svm_node *q)
+{
+    size_t d = m->d, l = (size_t)m->m.l, nk = m->nblk * 4;
+    double xst[256], kst[512];
+    double *xd = xst, *kv = nk <= 512 ? kst : xmalloc(nk * sizeof *kv);
+    const double *x;
+    if (X->sparse) {
+        xd = d <= 256 ? xst : xmalloc(d * sizeof *xd);
+        memset(xd, 0, d * sizeof *xd);
+        for (size_t j = X->rowptr[i]; j < X->rowptr[i + 1]; j++)
+            xd[X->col[j]] = X->val[j];
+        x = xd;
+    } else {
+        x = X->x + i * X->d;
+    }
+    int rbf = m->kernel == SVMFIT_RBF, ok = 1;
+    for (size_t t = 0; !rbf && t < d; t++)
+        ok &= isfinite(x[t]) != 0;
+    if (ok) {
+        kernel_sums(m->dsv, m->nblk, d, x, rbf, kv);
+        q[0].index = 0;
+        q[0].value = 0;
+        for (size_t j = 0; j < l; j++) {
+            q[j + 1].index = (int)j + 1;
+            q[j + 1].value = rbf ? exp(-m->gamma * kv[j]) : kv[j];
+        }
+        q[l + 1].index = -1;
+        q[l + 1].value = 0;
+    }
+    if (xd != xst)
+        free(xd);
+    if (kv != kst)
+        free(kv);
+    return ok ? q : NULL;
+}
+
+/* Predict row i of X with libsvm: probabilities into 'ps' (K, slot order)
+ * when 'ps' is set, else decision values into 'dec' (P, slot order). */
+static void predict(const svmfit_model *m, const struct fmat *X, size_t i, double *ps, double *dec)
+{
+    struct svm_node stackbuf[514];
+    size_t l = (size_t)m->m.l, need = X->d + 1;
+    int dense = m->dsv && !m->on_nodes && X->d == m->d;
+    if (dense && l + 2 > need)
+        need = l + 2;
+    struct svm_node *buf = need <= 514 ? stackbuf : xcalloc(need, sizeof *buf);
+    const struct svm_model *sm = &m->m;
+    struct svm_node *x = dense ? kernel_query(m, X, i, buf) : NULL;
+    if (x)
+        sm = &m->pm;
+    else
+        x = row_nodes(X, i, buf);
+    if (ps)
+        svm_predict_probability(sm, x, ps);
+    else
+        svm_predict_values(sm, x, dec);
+    if (buf != stackbuf)
+        free(buf);
+}
+
 void svmfit_proba(const svmfit_model *m, const struct fmat *X, size_t i, double *p)
 {
-    struct svm_node stackbuf[512];
-    struct svm_node *buf = X->d + 1 <= 512 ? stackbuf : xcalloc(X->d + 1, sizeof *buf);
     double slot[64];
     double *ps = m->k <= 64 ? slot : xcalloc(m->k, sizeof *ps);
-    svm_predict_probability(&m->m, row_nodes(X, i, buf), ps);
+    predict(m, X, i, ps, NULL);
     for (size_t c = 0; c < m->k; c++)
         p[m->label[c]] = ps[c];
     if (ps != slot)
         free(ps);
-    if (buf != stackbuf)
-        free(buf);
 }
 
 void svmfit_decision(const svmfit_model *m, const struct fmat *X, size_t i, double *dec)
 {
     size_t k = m->k, np = k * (k - 1) / 2;
-    struct svm_node *buf = xcalloc(X->d + 1, sizeof *buf);
     double *raw = xcalloc(np, sizeof *raw);
-    svm_predict_values(&m->m, row_nodes(X, i, buf), raw);
+    predict(m, X, i, NULL, raw);
     /* libsvm orders pairs by class slot (s < t); map to our label order. */
     size_t q = 0;
     for (size_t s = 0; s < k; s++)
@@ -538,7 +804,6 @@ void svmfit_decision(const svmfit_model *m, const struct fmat *X, size_t i, doub
             dec[idx] = a < b ? raw[q] : -raw[q];
         }
     free(raw);
-    free(buf);
 }
 
 /* ---- persistence ---- */

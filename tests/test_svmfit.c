@@ -391,8 +391,9 @@ static void expect_same_field(const cJSON *a, const cJSON *b, const char *key, c
  * nodes; Platt's A and B too for the linear kernel.  For RBF, libsvm's
  * held-out predictions inside the probability estimate use its other form
  * of the kernel, exp(-gamma |x - y|^2), which rounds differently: A and B
- * agree to 1e-12 relative (svmfit.c).  Dense rows and sparse rows (some
- * zero, some columns absent) both. */
+ * agree to 1e-12 relative (svmfit.c).  Dense rows, sparse rows (some
+ * zero, some columns absent), and dense rows mixed with rows holding zeros
+ * (the matrix takes two routes to a dot product there). */
 Test(svmfit, precomputed_kernel_gives_libsvms_model)
 {
     struct fmat D = FMAT_INIT, S = FMAT_INIT;
@@ -410,12 +411,20 @@ Test(svmfit, precomputed_kernel_gives_libsvms_model)
             }
         fmat_push_row(&S, cols, vals, nz);
     }
-    const struct fmat *mats[2] = { &D, &S };
+    /* Mixed: dense rows, every seventh with a zero feature, one all zero. */
+    struct fmat M = FMAT_INIT;
+    fmat_dense(&M, 90, 4);
+    memcpy(M.x, D.x, 90 * 4 * sizeof *M.x);
+    for (size_t i = 0; i < 90; i += 7)
+        M.x[i * 4 + i % 4] = 0;
+    memset(M.x + 40 * 4, 0, 4 * sizeof *M.x);
+    const struct fmat *mats[3] = { &D, &S, &M };
+    static const char *const names[3] = { "dense", "sparse", "mixed" };
     static const char *const exact[] = { "gamma", "slot_label", "slot_support", "rho", "dual_coef", "support_vectors" };
-    for (int mi = 0; mi < 2; mi++)
+    for (int mi = 0; mi < 3; mi++)
         for (int kern = SVMFIT_LINEAR; kern <= SVMFIT_RBF; kern++) {
             char what[64];
-            snprintf(what, sizeof what, "%s rows, %s kernel", mi ? "sparse" : "dense", kern ? "rbf" : "linear");
+            snprintf(what, sizeof what, "%s rows, %s kernel", names[mi], kern ? "rbf" : "linear");
             cJSON *a = fit_obj(mats[mi], y, (enum svmfit_kernel)kern, 1);
             cJSON *b = fit_obj(mats[mi], y, (enum svmfit_kernel)kern, 0);
             for (size_t f = 0; f < sizeof exact / sizeof exact[0]; f++)
@@ -437,4 +446,186 @@ Test(svmfit, precomputed_kernel_gives_libsvms_model)
         }
     fmat_release(&D);
     fmat_release(&S);
+    fmat_release(&M);
+}
+
+/* ---- prediction on kernel values computed densely (svmfit.c) ---- */
+
+/* Query rows for the prediction checks, dense (D columns): normal values
+ * with some entries exactly 0 or -0, an all-zero row, rows scaled far out
+ * (RBF values underflow to 0) and far in (squares below the normal range),
+ * and the training rows themselves (K(x, x) = exp(0) = 1 for a support
+ * vector). */
+static void query_rows(const struct fmat *train, size_t n, uint64_t seed, struct fmat *Q)
+{
+    size_t d = train->d;
+    struct rng r;
+    rng_seed(&r, seed);
+    fmat_dense(Q, n + train->n, d);
+    for (size_t i = 0; i < n; i++) {
+        double scale = i % 17 == 5 ? 1e3 : i % 17 == 9 ? 1e-160 : 1.0;
+        for (size_t j = 0; j < d; j++) {
+            double u = rng_uniform(&r);
+            Q->x[i * d + j] = u < 0.15 ? 0.0 : u < 0.2 ? -0.0 : scale * rng_normal(&r);
+        }
+        if (i == 3)
+            memset(Q->x + i * d, 0, d * sizeof *Q->x);
+    }
+    for (size_t i = 0; i < train->n; i++)
+        for (size_t j = 0; j < d; j++) {
+            double v = 0;
+            if (train->sparse) {
+                for (size_t t = train->rowptr[i]; t < train->rowptr[i + 1]; t++)
+                    if (train->col[t] == j)
+                        v = train->val[t];
+            } else {
+                v = train->x[i * d + j];
+            }
+            Q->x[(n + i) * d + j] = v;
+        }
+}
+
+/* The same rows stored sparsely, explicit zeros kept where the dense row
+ * has 0 or -0 in an odd column. */
+static void as_sparse(const struct fmat *Q, struct fmat *S)
+{
+    uint32_t *cols = calloc(Q->d, sizeof *cols);
+    double *vals = calloc(Q->d, sizeof *vals);
+    fmat_sparse(S, Q->d);
+    for (size_t i = 0; i < Q->n; i++) {
+        size_t nz = 0;
+        for (size_t j = 0; j < Q->d; j++) {
+            double v = Q->x[i * Q->d + j];
+            if (v != 0.0 || j % 2 == 1) {
+                cols[nz] = (uint32_t)j;
+                vals[nz++] = v;
+            }
+        }
+        fmat_push_row(S, cols, vals, nz);
+    }
+    free(cols);
+    free(vals);
+}
+
+/* Every row of Q (dense and sparse copies): probabilities and decision
+ * values through the dense kernel equal those from libsvm's own kernel
+ * evaluation over the nodes, byte for byte.  The reference is libsvm 3.24
+ * itself (Debian's libsvm3): svmfit_predict_on_nodes(m, 1) hands it the
+ * feature nodes as before this path existed. */
+static void expect_paths_agree(svmfit_model *m, const struct fmat *Q, const char *what)
+{
+    struct fmat S = FMAT_INIT;
+    as_sparse(Q, &S);
+    size_t k = svmfit_labels(m), np = k * (k - 1) / 2;
+    double p1[8], p2[8], d1[28], d2[28];
+    cr_assert(k <= 8);
+    const struct fmat *both[2] = { Q, &S };
+    for (int s = 0; s < 2; s++)
+        for (size_t i = 0; i < Q->n; i++) {
+            cr_assert_eq(svmfit_predict_on_nodes(m, 1), 0);
+            svmfit_proba(m, both[s], i, p1);
+            svmfit_decision(m, both[s], i, d1);
+            cr_assert_eq(svmfit_predict_on_nodes(m, 0), 1, "%s: the dense path is off", what);
+            svmfit_proba(m, both[s], i, p2);
+            svmfit_decision(m, both[s], i, d2);
+            cr_assert(memcmp(p1, p2, k * sizeof *p1) == 0, "%s, %s row %zu: probabilities differ (%.17g vs %.17g)",
+                      what, s ? "sparse" : "dense", i, p1[0], p2[0]);
+            cr_assert(memcmp(d1, d2, np * sizeof *d1) == 0, "%s, %s row %zu: decision values differ (%.17g vs %.17g)",
+                      what, s ? "sparse" : "dense", i, d1[0], d2[0]);
+        }
+    fmat_release(&S);
+}
+
+Test(svmfit, dense_kernel_predicts_libsvms_bits)
+{
+    /* Several widths, so whole groups of sixteen support vectors, lone
+     * blocks of four and a part-filled last block all occur, and both
+     * kernels; a model trained on the nodes and one read back from JSON. */
+    static const size_t widths[] = { 4, 7, 33 };
+    for (size_t w = 0; w < 3; w++) {
+        size_t d = widths[w], n = 70 + 23 * w;
+        struct fmat X = FMAT_INIT, Q = FMAT_INIT;
+        int y[200];
+        struct rng r;
+        rng_seed(&r, 40 + w);
+        fmat_dense(&X, n, d);
+        for (size_t i = 0; i < n; i++) {
+            for (size_t j = 0; j < d; j++)
+                X.x[i * d + j] = rng_normal(&r);
+            double s0 = X.x[i * d] + 0.5 * rng_normal(&r), s1 = X.x[i * d + 1] + 0.5 * rng_normal(&r);
+            y[i] = s0 > s1 ? (s0 > 0.3 ? 0 : 3) : (s1 > -0.2 ? 1 : 2);
+        }
+        query_rows(&X, 60, 7 + w, &Q);
+        for (int kern = SVMFIT_LINEAR; kern <= SVMFIT_RBF; kern++)
+            for (int nodes = 0; nodes < 2; nodes++) {
+                struct svmfit_params p = SVMFIT_PARAMS_INIT;
+                p.kernel = (enum svmfit_kernel)kern;
+                p.nodes_only = nodes;
+                p.seed = 5 + w;
+                struct err e = ERR_INIT;
+                svmfit_model *m = svmfit_train(&X, y, 4, &p, NULL, &e);
+                cr_assert_not_null(m, "%s", e.msg);
+                char what[96];
+                snprintf(what, sizeof what, "D = %zu, %s kernel, %zu SVs%s", d, kern ? "rbf" : "linear",
+                         svmfit_support_vectors(m), nodes ? ", trained on nodes" : "");
+                expect_paths_agree(m, &Q, what);
+                cJSON *obj = cJSON_CreateObject();
+                svmfit_save(m, obj);
+                obj = fx_reparse(obj);
+                struct jsonv_ctx c = { "m.json", "classifier", &e };
+                svmfit_model *g = svmfit_load(&c, obj, d, 4);
+                cr_assert_not_null(g, "%s", e.msg);
+                strcat(what, ", loaded");
+                expect_paths_agree(g, &Q, what);
+                svmfit_free(g);
+                svmfit_free(m);
+                cJSON_Delete(obj);
+            }
+        fmat_release(&X);
+        fmat_release(&Q);
+    }
+}
+
+/* Where the dense path would change the result or cost more, it is not
+ * taken: a linear-kernel row holding inf (inf * 0 is NaN, libsvm skips the
+ * absent index) goes to libsvm's node walk and gives its bits; support
+ * vectors mostly zero over a wide feature space (bag of words) keep the
+ * node walk for every row. */
+Test(svmfit, dense_kernel_steps_aside)
+{
+    struct fmat X = FMAT_INIT, X5 = FMAT_INIT, Q = FMAT_INIT;
+    int y[60];
+    problem(60, 12, &X, y);
+    fmat_dense(&X5, 60, 5); /* X with a fifth feature that is always 0 */
+    for (size_t i = 0; i < 60; i++)
+        memcpy(X5.x + i * 5, X.x + i * 4, 4 * sizeof *X.x);
+    svmfit_model *m = train(&X5, y, 3, SVMFIT_LINEAR);
+    query_rows(&X5, 4, 3, &Q);
+    Q.x[4] = INFINITY;
+    Q.x[5 + 4] = -INFINITY;
+    Q.x[10 + 4] = NAN;
+    expect_paths_agree(m, &Q, "linear kernel, rows with inf");
+    for (size_t i = 0; i < 3; i++) {
+        double dec[3];
+        svmfit_decision(m, &Q, i, dec);
+        for (size_t t = 0; t < 3; t++) /* no support vector has feature 4: libsvm never reads it */
+            cr_assert(isfinite(dec[t]), "row %zu: decision value %zu is %g", i, t, dec[t]);
+    }
+    svmfit_free(m);
+    fmat_release(&Q);
+    fmat_release(&X5);
+
+    /* 60 rows, 200 columns, 3 non-zeros per row. */
+    struct fmat W = FMAT_INIT;
+    fmat_sparse(&W, 200);
+    for (size_t i = 0; i < 60; i++) {
+        uint32_t cols[3] = { (uint32_t)(i % 50), (uint32_t)(60 + i), (uint32_t)(150 + y[i]) };
+        double vals[3] = { X.x[i * 4], X.x[i * 4 + 1], 1.0 };
+        fmat_push_row(&W, cols, vals, 3);
+    }
+    m = train(&W, y, 3, SVMFIT_RBF);
+    cr_assert_eq(svmfit_predict_on_nodes(m, 0), 0, "sparse wide support vectors should keep the node walk");
+    svmfit_free(m);
+    fmat_release(&W);
+    fmat_release(&X);
 }

@@ -17,7 +17,10 @@
  * per fit with libsvm's own formulas (its PRECOMPUTED kernel): the same
  * support vectors, coefficients and rho as training on the nodes, several
  * times faster; Platt's A and B of an RBF fit differ from the node-based fit
- * in the last bits only (svmfit.c explains why).
+ * in the last bits only (svmfit.c explains why).  Prediction computes the
+ * kernel values against all support vectors in one dense pass when they are
+ * mostly non-zero, and libsvm predicts from those: the same bits as libsvm
+ * evaluating the kernel itself.
  */
 #ifndef VECSIFT_SVMFIT_H
 #define VECSIFT_SVMFIT_H
@@ -72,6 +75,15 @@ void svmfit_proba(const svmfit_model *m, const struct fmat *X, size_t i, double 
  * in OUR label order, positive meaning a; for checks against other wrappers
  * of libsvm. */
 void svmfit_decision(const svmfit_model *m, const struct fmat *X, size_t i, double *dec);
+
+/* For tests: 'on' 1 makes svmfit_proba and svmfit_decision hand libsvm the
+ * row's feature nodes, so libsvm evaluates the kernel itself over the
+ * support vectors' nodes; 0 (every model's start) lets them compute the
+ * kernel values densely and predict through libsvm's PRECOMPUTED kernel
+ * where the model allows it (svmfit.c says when; the results are the same
+ * bits).  Returns 1 when predictions now take the dense path.  Not
+ * thread-safe against predictions running on the same model. */
+int svmfit_predict_on_nodes(svmfit_model *m, int on);
 
 /* How many times this thread has called rand() (libsvm's draws included;
  * srand's own warm-up not counted).  For tests that prove libsvm reaches
