@@ -21,6 +21,11 @@ is what our bow does.  Tokens: lower-cased runs of letters and digits (a
 simplification of our tokeniser).  Scores are printed side by side as a
 sanity check; they need not be equal (tokenisers and solvers differ).
 
+The reference grid runs twice: in one process (the grid as written, one
+core), and with its cells (set-up x classifier) spread over two joblib
+worker processes, scikit-learn's best on two cores; the goal is judged
+both against the one-process grid and best against best.
+
 Times: wall seconds and CPU seconds (user + system, all threads) of each
 run.  The machine this runs on may be shared (CI, other jobs): wall time then
 depends on what else runs, while CPU seconds count only the work done, so the
@@ -49,6 +54,7 @@ for _v in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_v, "1")
 
 import numpy as np  # noqa: E402
+from joblib import Parallel, delayed  # noqa: E402
 from scipy import sparse  # noqa: E402
 from sklearn.decomposition import TruncatedSVD  # noqa: E402
 from sklearn.feature_extraction.text import CountVectorizer, TfidfVectorizer  # noqa: E402
@@ -111,11 +117,9 @@ def run_timed(cmd):
     return time.perf_counter() - t0, child_cpu() - c0
 
 
-def sklearn_grid(texts, y, folds, vec_paths):
-    """Returns {(vectors, pool, classifier): mean per-fold macro F1} and the
-    CPU seconds spent pooling, fitting and scoring per classifier."""
-    out = {}
-    spent = {"logreg": 0.0, "svm-rbf": 0.0}
+def grid_inputs(texts, vec_paths):
+    """The count matrix and, per vector set, the (vocabulary x D) vectors:
+    the parts of the reference pipeline shared by every set-up."""
     counts = CountVectorizer(tokenizer=svdvec.tokens, lowercase=False, token_pattern=None)
     C = counts.fit_transform(texts).tocsr().astype(np.float64)
     vocab = counts.get_feature_names_out()
@@ -132,32 +136,53 @@ def sklearn_grid(texts, y, folds, vec_paths):
                 has[j] = 1
         mats[vp] = (E, has)
         setups += [(vp, p) for p in ("mean", "tfidf", "sif")]
-    for vp, pool in setups:
-        for clf in ("logreg", "svm-rbf"):
-            t0 = time.process_time()
-            scores = []
-            for fold in folds:
-                for f in range(FOLDS):
-                    te = np.flatnonzero(fold == f)
-                    tr = np.flatnonzero(fold != f)
-                    if pool == "bow":
-                        tv = TfidfVectorizer(tokenizer=svdvec.tokens, lowercase=False, token_pattern=None,
-                                             ngram_range=(1, 2))
-                        Xtr = tv.fit_transform([texts[i] for i in tr])
-                        Xte = tv.transform([texts[i] for i in te])
-                    else:
-                        X = pooled(C, *mats[vp], pool, tr)
-                        sc = StandardScaler().fit(X[tr])
-                        Xtr, Xte = sc.transform(X[tr]), sc.transform(X[te])
-                    if clf == "logreg":
-                        m = LogisticRegression(C=1.0, max_iter=1000)
-                    else:
-                        m = SVC(C=1.0, kernel="rbf", gamma="scale", probability=True, random_state=SEED)
-                    m.fit(Xtr, y[tr])
-                    P = m.predict_proba(Xte)
-                    scores.append(f1_score(y[te], m.classes_[P.argmax(axis=1)], average="macro", zero_division=0))
-            out[(vp, pool, clf)] = float(np.mean(scores))
-            spent[clf] += time.process_time() - t0
+    return C, mats, setups
+
+
+def grid_cell(texts, y, folds, C, mat, pool, clf):
+    """One set-up and classifier over every fold: (mean per-fold macro F1,
+    CPU seconds of this process spent on it)."""
+    t0 = time.process_time()
+    scores = []
+    for fold in folds:
+        for f in range(FOLDS):
+            te = np.flatnonzero(fold == f)
+            tr = np.flatnonzero(fold != f)
+            if pool == "bow":
+                tv = TfidfVectorizer(tokenizer=svdvec.tokens, lowercase=False, token_pattern=None,
+                                     ngram_range=(1, 2))
+                Xtr = tv.fit_transform([texts[i] for i in tr])
+                Xte = tv.transform([texts[i] for i in te])
+            else:
+                X = pooled(C, *mat, pool, tr)
+                sc = StandardScaler().fit(X[tr])
+                Xtr, Xte = sc.transform(X[tr]), sc.transform(X[te])
+            if clf == "logreg":
+                m = LogisticRegression(C=1.0, max_iter=1000)
+            else:
+                m = SVC(C=1.0, kernel="rbf", gamma="scale", probability=True, random_state=SEED)
+            m.fit(Xtr, y[tr])
+            P = m.predict_proba(Xte)
+            scores.append(f1_score(y[te], m.classes_[P.argmax(axis=1)], average="macro", zero_division=0))
+    return float(np.mean(scores)), time.process_time() - t0
+
+
+def sklearn_grid(texts, y, folds, vec_paths, jobs=1):
+    """Returns {(vectors, pool, classifier): mean per-fold macro F1} and the
+    CPU seconds spent pooling, fitting and scoring per classifier (with
+    jobs > 1, the cells run in that many joblib worker processes and the
+    CPU seconds are the workers')."""
+    C, mats, setups = grid_inputs(texts, vec_paths)
+    cells = [(vp, pool, clf) for vp, pool in setups for clf in ("logreg", "svm-rbf")]
+    args = [(texts, y, folds, C, mats.get(vp), pool, clf) for vp, pool, clf in cells]
+    if jobs == 1:
+        res = [grid_cell(*a) for a in args]
+    else:
+        res = Parallel(n_jobs=jobs)(delayed(grid_cell)(*a) for a in args)
+    out = {cell: r[0] for cell, r in zip(cells, res)}
+    spent = {"logreg": 0.0, "svm-rbf": 0.0}
+    for (vp, pool, clf), r in zip(cells, res):
+        spent[clf] += r[1]
     return out, spent
 
 
@@ -208,18 +233,24 @@ def main():
         for r in res + same:
             r.pop("seconds", None)
 
-        runs, spents = [], []
-        for _ in range(RUNS):
-            t0, c0 = time.perf_counter(), time.process_time()
-            with open(DATA, newline="", encoding="utf-8") as f:
-                rows = list(csv.DictReader(f))
-            texts = [r["subject"] + " " + r["body"] for r in rows]
-            y = np.array([r["queue"] for r in rows])
-            ref, spent = sklearn_grid(texts, y, folds, paths)
-            runs.append((time.perf_counter() - t0, time.process_time() - c0))
-            spents.append(spent)
-        theirs = best(runs)
-        spent = {clf: min(sp[clf] for sp in spents) for clf in spents[0]}
+        def reference(jobs):
+            runs, spents, ref = [], [], None
+            for _ in range(RUNS):
+                t0, c0 = time.perf_counter(), time.process_time()
+                with open(DATA, newline="", encoding="utf-8") as f:
+                    rows = list(csv.DictReader(f))
+                texts = [r["subject"] + " " + r["body"] for r in rows]
+                y = np.array([r["queue"] for r in rows])
+                ref, spent = sklearn_grid(texts, y, folds, paths, jobs)
+                runs.append((time.perf_counter() - t0, time.process_time() - c0))
+                spents.append(spent)
+            return best(runs), {clf: min(sp[clf] for sp in spents) for clf in spents[0]}, ref
+
+        theirs, spent, ref = reference(1)
+        # scikit-learn's best on two cores: the grid's cells in two joblib
+        # worker processes (wall time only: the workers' CPU is not this
+        # process's)
+        theirs2 = reference(2)[0]
         load1 = os.getloadavg()
 
     name = {os.path.join(tmp, nm + ".vecs"): nm for nm, _ in sets}
@@ -234,6 +265,7 @@ def main():
     print(f"{'run':34} {'wall s':>8} {'CPU s':>8} {'wall ratio':>10} {'CPU ratio':>10}")
     print(f"{'scikit-learn ' + __import__('sklearn').__version__ + ' (one process)':34} {theirs[0]:8.2f} "
           f"{theirs[1]:8.2f} {1:10.1f} {1:10.1f}")
+    print(f"{'scikit-learn, 2 joblib workers':34} {theirs2[0]:8.2f} {'-':>8} {theirs[0] / theirs2[0]:9.1f}x {'-':>10}")
     for t in (1, 2):
         print(f"{'vecsift compare --threads %d' % t:34} {ours[t][0]:8.2f} {ours[t][1]:8.2f} "
               f"{theirs[0] / ours[t][0]:9.1f}x {theirs[1] / ours[t][1]:9.1f}x")
@@ -248,10 +280,14 @@ def main():
         o = ours_clf[clf]
         print(f"  {clf:8} vecsift {o:7.2f} s   scikit-learn {spent[clf]:7.2f} s   ratio {spent[clf] / o:5.1f}x")
     cpu1, wall1 = theirs[1] / ours[1][1], theirs[0] / ours[1][0]
-    print(f"\ngoal: vecsift >= 10x faster; CPU seconds: {'met' if cpu1 >= 10 else 'NOT met'} "
-          f"({cpu1:.1f}x, one thread); wall: {'met' if wall1 >= 10 else 'NOT met'} on one thread "
-          f"({wall1:.1f}x), {'met' if theirs[0] / ours[2][0] >= 10 else 'NOT met'} on two "
-          f"({theirs[0] / ours[2][0]:.1f}x)")
+    wall2 = theirs[0] / ours[2][0]
+    # two cores as a user has them: each side at its best setting there
+    best2 = min(theirs[0], theirs2[0]) / min(ours[1][0], ours[2][0])
+    print(f"\ngoal: vecsift >= 10x faster in wall time.  Against the one-process grid: "
+          f"{'met' if wall1 >= 10 else 'NOT met'} on one thread ({wall1:.1f}x), "
+          f"{'met' if wall2 >= 10 else 'NOT met'} on two ({wall2:.1f}x).  Best against best on two cores "
+          f"(scikit-learn with 1 or 2 workers): {'met' if best2 >= 10 else 'NOT met'} ({best2:.1f}x).  "
+          f"CPU seconds, one thread: {cpu1:.1f}x.")
 
 
 if __name__ == "__main__":
