@@ -294,12 +294,12 @@ static double objective_scaled(void *ctx, const double *theta, double *grad)
  * demo inbox than from b = 0.  A class without rows gets 0. */
 static void null_intercepts(const int *y, const double *s, size_t n, size_t k, double ssum, double *b)
 {
+    for (size_t i = 0; i < n; i++) /* before allocating: an assertion must not leak */
+        assert(y[i] >= 0 && (size_t)y[i] < k);
     double *share = xcalloc(k, sizeof *share), lsum = 0;
     size_t present = 0;
-    for (size_t i = 0; i < n; i++) {
-        assert(y[i] >= 0 && (size_t)y[i] < k);
+    for (size_t i = 0; i < n; i++)
         share[y[i]] += s[i];
-    }
     for (size_t c = 0; c < k; c++)
         if (share[c] > 0) {
             lsum += log(share[c] / ssum);
