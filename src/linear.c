@@ -294,8 +294,6 @@ static double objective_scaled(void *ctx, const double *theta, double *grad)
  * demo inbox than from b = 0.  A class without rows gets 0. */
 static void null_intercepts(const int *y, const double *s, size_t n, size_t k, double ssum, double *b)
 {
-    for (size_t i = 0; i < n; i++) /* before allocating: an assertion must not leak */
-        assert(y[i] >= 0 && (size_t)y[i] < k);
     double *share = xcalloc(k, sizeof *share), lsum = 0;
     size_t present = 0;
     for (size_t i = 0; i < n; i++)
@@ -343,6 +341,10 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
                                i + 1, v[j]);
     }
 
+    /* Labels outside [0, k) are the caller's bug: asserted here, before
+     * anything is allocated (an abort then leaks nothing). */
+    for (size_t i = 0; i < X->n; i++)
+        assert(y[i] >= 0 && (size_t)y[i] < k);
     size_t d = X->d, n = xmul(k, d) + k;
     double *theta = xcalloc(n, sizeof *theta);
     double *s = row_weights(y, X->n, k, p->balanced);
