@@ -216,6 +216,26 @@ struct problem {
     double *XP;        /* dense X with K <= KMAX: its packed copy, else NULL */
 };
 
+/* P's scratch (mx, zy, R, and XP for a dense X with K <= KMAX), from its
+ * X and k; problem_release frees it. */
+static void problem_scratch(struct problem *P)
+{
+    const struct fmat *X = P->X;
+    P->mx = xcalloc(X->n ? X->n : 1, sizeof *P->mx);
+    P->zy = xcalloc(X->n ? X->n : 1, sizeof *P->zy);
+    P->R = xcalloc(xmul(X->n, P->k), sizeof *P->R);
+    if (!X->sparse && P->k <= KMAX)
+        P->XP = pack_blocks(X->x, X->n, P->d);
+}
+
+static void problem_release(struct problem *P)
+{
+    free(P->R);
+    free(P->XP);
+    free(P->mx);
+    free(P->zy);
+}
+
 /* J at theta = [W (K*D), b (K)]; grad (same layout) is filled. */
 static double objective(struct problem *P, const double *theta, double *grad)
 {
@@ -353,11 +373,7 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
         ssum += s[i];
     null_intercepts(y, s, X->n, k, ssum, theta + k * d);
     struct problem P = { X, y, s, k, d, p->C, 1.0 / (p->C * ssum), NULL, NULL, NULL, NULL };
-    P.mx = xcalloc(X->n ? X->n : 1, sizeof *P.mx);
-    P.zy = xcalloc(X->n ? X->n : 1, sizeof *P.zy);
-    P.R = xcalloc(xmul(X->n, k), sizeof *P.R);
-    if (!X->sparse && k <= KMAX)
-        P.XP = pack_blocks(X->x, X->n, d);
+    problem_scratch(&P);
 
     /* ftol: stop once the relative decrease is a few dozen ulps, where the
      * value carries no more information (64 * DBL_EPSILON; the choice
@@ -378,10 +394,7 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
     m->iters = r.iters;
     m->converged = r.converged;
     m->objective = r.f / P.scale;
-    free(P.R);
-    free(P.XP);
-    free(P.mx);
-    free(P.zy);
+    problem_release(&P);
     free(s);
     free(theta);
     return 0;
@@ -411,16 +424,9 @@ double linear_gradient(const struct linear_model *m, const struct fmat *X, const
     memcpy(theta + k * d, m->b, k * sizeof *theta);
     double *s = row_weights(y, X->n, k, p->balanced);
     struct problem P = { X, y, s, k, d, p->C, 1, NULL, NULL, NULL, NULL };
-    P.mx = xcalloc(X->n ? X->n : 1, sizeof *P.mx);
-    P.zy = xcalloc(X->n ? X->n : 1, sizeof *P.zy);
-    P.R = xcalloc(xmul(X->n, k), sizeof *P.R);
-    if (!X->sparse && k <= KMAX)
-        P.XP = pack_blocks(X->x, X->n, d);
+    problem_scratch(&P);
     double f = objective(&P, theta, grad);
-    free(P.R);
-    free(P.XP);
-    free(P.mx);
-    free(P.zy);
+    problem_release(&P);
     free(s);
     free(theta);
     return f;
