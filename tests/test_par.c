@@ -82,6 +82,16 @@ static int feed_write(void *ctx, void *chunk)
     return 0;
 }
 
+/* A feed of n chunks whose read of chunk fail_read and write of chunk
+ * fail_write fail (beyond n: never). */
+static void feed_init(struct feed *f, size_t n, size_t fail_read, size_t fail_write)
+{
+    memset(f, 0, sizeof *f);
+    f->n = n;
+    f->fail_read = fail_read;
+    f->fail_write = fail_write;
+}
+
 static int run_feed(struct feed *f, size_t threads, size_t nslots)
 {
     struct chunk *chunks = calloc(nslots, sizeof *chunks);
@@ -101,9 +111,7 @@ Test(par, stream_writes_in_input_order_for_any_threads)
     for (size_t t = 1; t <= 5; t++)
         for (size_t S = 2; S <= 7; S += 5) {
             struct feed f;
-            memset(&f, 0, sizeof f);
-            f.n = 60;
-            f.fail_read = f.fail_write = 1000;
+            feed_init(&f, 60, 1000, 1000);
             cr_assert_eq(run_feed(&f, t, S), 0);
             cr_assert_eq(f.nwritten, 60, "threads %zu, slots %zu: %zu chunks written", t, S, f.nwritten);
             for (size_t i = 0; i < 60; i++)
@@ -115,9 +123,7 @@ Test(par, stream_writes_in_input_order_for_any_threads)
 Test(par, stream_writes_a_chunk_only_after_the_next_is_read)
 {
     struct feed f;
-    memset(&f, 0, sizeof f);
-    f.n = 20;
-    f.fail_read = f.fail_write = 1000;
+    feed_init(&f, 20, 1000, 1000);
     cr_assert_eq(run_feed(&f, 3, 4), 0);
     for (size_t i = 0; i + 1 < f.nwritten; i++)
         cr_assert_geq(f.maxread_at_write[i], i + 2, "chunk %zu written when only %zu were read", i,
@@ -127,9 +133,7 @@ Test(par, stream_writes_a_chunk_only_after_the_next_is_read)
 Test(par, stream_one_empty_last_chunk_is_still_written)
 {
     struct feed f;
-    memset(&f, 0, sizeof f);
-    f.n = 1;
-    f.fail_read = f.fail_write = 1000;
+    feed_init(&f, 1, 1000, 1000);
     cr_assert_eq(run_feed(&f, 4, 2), 0);
     cr_assert_eq(f.nwritten, 1);
 }
@@ -139,10 +143,7 @@ Test(par, stream_stops_at_a_failed_read)
     for (size_t t = 1; t <= 4; t++)
         for (size_t j = 0; j < 6; j++) {
             struct feed f;
-            memset(&f, 0, sizeof f);
-            f.n = 50;
-            f.fail_read = j;
-            f.fail_write = 1000;
+            feed_init(&f, 50, j, 1000);
             cr_assert_eq(run_feed(&f, t, 2 * t + 2), -1);
             /* nothing from chunk j-1 on: it waited for chunk j */
             cr_assert_leq(f.nwritten + 1, j ? j : 1, "threads %zu, read %zu failed: %zu chunks written", t, j,
@@ -156,10 +157,7 @@ Test(par, stream_stops_at_a_failed_write)
 {
     for (size_t t = 1; t <= 4; t++) {
         struct feed f;
-        memset(&f, 0, sizeof f);
-        f.n = 50;
-        f.fail_read = 1000;
-        f.fail_write = 7;
+        feed_init(&f, 50, 1000, 7);
         cr_assert_eq(run_feed(&f, t, 3), -1);
         cr_assert_eq(f.nwritten, 7, "threads %zu: %zu chunks written before the failed one", t, f.nwritten);
     }

@@ -15,13 +15,7 @@
 #include "vecsift/pipeline.h"
 #include "vecsift/route.h"
 
-static const char *const WORDS[] = { "cat", "sat", "ran", "dog", "hen", "owl" };
-static const float VECS[] = { 1, 0, 2, 3, 0, 4, 5, 1, 0, 10, 1, 1, -2, 3, 1, 0.5f, -1, 2 };
-static const char *const TEXTS[] = { "cat sat sat", "sat cat cat owl", "ran dog",   "dog dog ran hen",
-                                     "hen cat owl", "hen hen sat",     "owl owl",   "cat dog",
-                                     "ran ran sat", "hen fox",         "dog owl cat" };
-static const int Y[] = { 0, 0, 1, 1, 2, 2, 2, 0, 1, 2, 1 };
-enum { N = 11, K = 3 };
+enum { N = FX_N, K = FX_K };
 static const size_t ALL[N] = { 0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10 };
 
 /* Texts to route: the training texts written as a user would (capitals,
@@ -39,25 +33,17 @@ static struct model m;
 static void make_model(enum features_pool pool)
 {
     const char *dir = fx_tmpdir();
-    vs = fx_vectors(dir, "v.vecs", WORDS, VECS, 6, 3);
+    vs = fx_vectors(dir, "v.vecs", fx_words, fx_vecs, FX_NWORDS, FX_DIM);
     struct tokdocs d;
-    fx_docs(&d, TEXTS, N);
+    fx_docs(&d, fx_texts, N);
     struct pipeline_spec s = PIPELINE_SPEC_INIT;
     s.feat.pool = pool;
     s.tol = 1e-10;
     struct err e = ERR_INIT;
-    memset(&m, 0, sizeof m);
-    m.pipe = pipeline_fit(&s, &d, Y, K, ALL, N, vs, NULL, &e);
-    cr_assert_not_null(m.pipe, "%s", e.msg);
+    pipeline *p = pipeline_fit(&s, &d, fx_y, K, ALL, N, vs, NULL, &e);
+    cr_assert_not_null(p, "%s", e.msg);
     tokdocs_release(&d);
-    m.k = K;
-    m.labels = calloc(K, sizeof *m.labels);
-    m.labels[0] = strdup("alpha");
-    m.labels[1] = strdup("beta");
-    m.labels[2] = strdup("gamma");
-    struct text_options to = TEXT_OPTIONS_INIT;
-    m.text = to;
-    m.review_below = -1;
+    fx_model(&m, p, K, vs, NULL, fx_y, N, -1);
 }
 
 static void drop_model(void)
