@@ -6,7 +6,6 @@
  * depends on that row and the model alone, so the output is identical for
  * any --threads and for any split of the input into parts.
  */
-#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -14,9 +13,7 @@
 #include "commands.h"
 #include "common.h"
 #include "vecsift/csv.h"
-#include "vecsift/dataset.h"
 #include "vecsift/err.h"
-#include "vecsift/fmat.h"
 #include "vecsift/model.h"
 #include "vecsift/ofile.h"
 #include "vecsift/par.h"
@@ -142,7 +139,9 @@ static void stream_work(void *ctx, void *chunk, size_t worker)
     predict_batch_route(chunk, u->w[worker], u->ntext, u->m->k);
 }
 
-/* The header goes out with the first chunk: par_stream writes a chunk
+/* The header goes out with the first chunk (the column names are fixed
+ * once the reader is open, so reading them here while another thread
+ * reads rows is safe): par_stream writes a chunk
  * only once the next one has been read, so a bad row among the first
  * 2 x PREDICT_CHUNK rows leaves nothing on stdout, where no temporary file
  * can be thrown away (a file output is discarded anyway). */
