@@ -3,7 +3,9 @@
 
 #include <errno.h>
 #include <math.h>
+#include <assert.h>
 #include <stdarg.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -251,4 +253,72 @@ int cli_double(const struct cli_cmd *cmd, const char *opt, const char *val, doub
     }
     *out = v;
     return 0;
+}
+
+/* Store one option's value where its row says; 0, or -1 after a usage error. */
+static int take(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *args)
+{
+    void *dst = (char *)args + o->off;
+    long v;
+    switch (o->take) {
+    case CLI_TAKE_SET:
+        *(int *)dst = (int)o->lo;
+        return 0;
+    case CLI_TAKE_STR:
+        *(const char **)dst = val;
+        return 0;
+    case CLI_TAKE_QUIET:
+        cli_quiet = 1;
+        return 0;
+    case CLI_TAKE_DOUBLE:
+        return cli_double(cmd, o->name, val, o->dlo, o->dhi, (double *)dst);
+    case CLI_TAKE_FN:
+        return o->fn(cmd, o, val, dst);
+    case CLI_TAKE_INT:
+    case CLI_TAKE_LONG:
+    case CLI_TAKE_SIZE:
+    case CLI_TAKE_U64:
+        if (cli_long(cmd, o->name, val, o->lo, o->hi, &v) < 0)
+            return -1;
+        if (o->take == CLI_TAKE_INT)
+            *(int *)dst = (int)v;
+        else if (o->take == CLI_TAKE_LONG)
+            *(long *)dst = v;
+        else if (o->take == CLI_TAKE_SIZE)
+            *(size_t *)dst = (size_t)v;
+        else
+            *(uint64_t *)dst = (uint64_t)v;
+        return 0;
+    case CLI_TAKE_NONE:
+        break;
+    }
+    assert(!"an option row without a kind of value");
+    return -1;
+}
+
+int cli_parse(struct cli_parser *p, const struct cli_cmd *cmd, int argc, char **argv, void *args)
+{
+    cli_parser_init(p, cmd, argc, argv);
+    int i;
+    const char *val;
+    while ((i = cli_next(p, &val)) >= 0)
+        if (take(cmd, &cmd->opts[i], val, args) < 0)
+            return CLI_FAIL;
+    return i;
+}
+
+int cli_parse_exact(const struct cli_cmd *cmd, int argc, char **argv, void *args, int n, const char **pos,
+                    const char *wrong)
+{
+    struct cli_parser p;
+    int r = cli_parse(&p, cmd, argc, argv, args);
+    if (r == CLI_END && p.npos != n)
+        r = cli_usage(cmd, wrong, p.npos);
+    else if (r == CLI_END)
+        for (int i = 0; i < n; i++)
+            pos[i] = p.pos[i];
+    else
+        r = cli_parse_status(r);
+    cli_parser_release(&p);
+    return r;
 }

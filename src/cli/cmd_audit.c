@@ -22,17 +22,25 @@
 #include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
 
-static const struct cli_opt opts[] = {
-    { "output", 'o', "<file>", "where to write the suspect rows as CSV (default: - for stdout)" },
-    { "excerpt", 0, "<n>", "bytes of text kept in the excerpt column (default: 160)" },
-    PIPELINE_OPTIONS,
-    { "folds", 'k', "<n>", "folds, >= 2 (default: 5)" },
-    { "repeats", 'R', "<n>", "repeats with fresh shuffles; probabilities are averaged (default: 1)" },
-    { "group-col", 'g', "<name>", "keep rows sharing this column's value (a customer, a thread) in one fold" },
-    DATA_OPTIONS,
-    RUN_OPTIONS,
-    { NULL, 0, NULL, NULL }
+struct audit_args {
+    struct common_cv cv;
+    const char *out;
+    long excerpt;
 };
+
+#define A struct audit_args
+static const struct cli_opt opts[] = {
+    CLI_OPT_STR("output", 'o', "<file>", "where to write the suspect rows as CSV (default: - for stdout)", A, out),
+    CLI_OPT_LONG("excerpt", 0, "<n>", "bytes of text kept in the excerpt column (default: 160)", A, excerpt, 8, 100000),
+    COMMON_FIT_OPTIONS(A, cv.fa),
+    COMMON_OPT_FOLDS(A, cv.cp),
+    COMMON_OPT_REPEATS("repeats with fresh shuffles; probabilities are averaged (default: 1)", A, cv.cp),
+    COMMON_OPT_GROUP_COL(A, cv.da),
+    COMMON_DATA_OPTIONS(A, cv.da),
+    COMMON_RUN_OPTIONS(A, cv.da),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_audit_info = {
     "audit", "[options] DATA.csv [-o SUSPECTS.csv]",
@@ -46,44 +54,6 @@ const struct cli_cmd cmd_audit_info = {
     "p_suggested.  A suspect is a row to look at, not a proven mistake: some\n"
     "are texts that really belong to two queues.  A summary goes to stderr."
 };
-
-struct audit_args {
-    struct data_args da;
-    struct fit_args fa;
-    struct cv_params cp;
-    const char *out;
-    long excerpt;
-};
-
-static int parse(int argc, char **argv, struct audit_args *a, const char **data)
-{
-    const struct cli_cmd *cmd = &cmd_audit_info;
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    int i;
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        int t = cv_command_option(&a->da, &a->fa, &a->cp, cmd, name, val);
-        if (t < 0)
-            break;
-        if (t > 0)
-            continue;
-        if (strcmp(name, "output") == 0) {
-            a->out = val;
-        } else if (strcmp(name, "excerpt") == 0) {
-            if (cli_long(cmd, name, val, 8, 100000, &a->excerpt) < 0)
-                break;
-        }
-    }
-    int rc = i == CLI_HELP ? -1 : i != CLI_END ? ERR_INPUT : 0;
-    if (rc == 0 && p.npos != 1)
-        rc = cli_usage(cmd, "audit takes one data file");
-    if (rc == 0)
-        *data = p.pos[0];
-    cli_parser_release(&p);
-    return rc;
-}
 
 /* Mean over the R repeats of the (R, N, K) out-of-fold probabilities. */
 static double *mean_proba(const struct cv_result *r)
@@ -158,22 +128,18 @@ static void summary(const struct labelcheck_result *lr, const struct corpus *c, 
 int cmd_audit(int argc, char **argv)
 {
     struct audit_args a;
-    memset(&a, 0, sizeof a);
-    cli_keep_freed_memory();
-    data_args_init(&a.da);
-    fit_args_init(&a.fa);
-    struct cv_params cp0 = CV_PARAMS_INIT;
-    a.cp = cp0;
-    a.cp.repeats = 1;
+    common_keep_freed_memory();
+    common_cv_init(&a.cv, 1);
     a.out = "-";
     a.excerpt = 160;
     const char *data = NULL;
-    int rc = parse(argc, argv, &a, &data);
-    if (rc != 0)
-        return rc < 0 ? ERR_OK : rc;
-    a.cp.seed = a.da.seed;
-    a.cp.threads = a.da.threads;
-    a.fa.spec.seed = a.da.seed;
+    int rc = cli_parse_exact(&cmd_audit_info, argc, argv, &a, 1, &data, "audit takes one data file");
+    if (rc != CLI_END)
+        return rc;
+    rc = ERR_OK;
+    common_cv_ready(&a.cv);
+    struct common_fit *fa = &a.cv.fa;
+    struct cv_params *cp = &a.cv.cp;
 
     struct err e = ERR_INIT;
     struct corpus c;
@@ -183,21 +149,19 @@ int cmd_audit(int argc, char **argv)
     struct labelcheck_result lr = LABELCHECK_RESULT_INIT;
     double *P = NULL;
     int *groups = NULL;
-    const char *ins[] = { data, a.fa.vectors };
+    const char *ins[] = { data, fa->vectors };
     if (ofile_check_distinct(a.out, ins, 2, &e) < 0)
         goto fail;
-    struct dataset_options dopt;
-    data_args_dataset(&a.da, 1, &dopt);
-    if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
+    if (common_load_labelled(&c, data, &a.cv.da, &e) < 0)
         goto fail;
     if (c.ds.nlabels < 2) {
         err_set(&e, data, 0, "an audit needs at least 2 labels, the data has %zu", c.ds.nlabels);
         goto fail;
     }
-    if (fit_args_open_vectors(&a.fa, &vs, &e) < 0)
+    if (common_open_vectors(fa, &vs, &e) < 0)
         goto fail;
-    groups = cv_args_groups(&a.cp, &c);
-    if (cv_run(&r, &a.fa.spec, &c, vs, &a.cp, &e) < 0)
+    groups = common_cv_groups(cp, &c);
+    if (cv_run(&r, &fa->spec, &c, vs, cp, &e) < 0)
         goto fail;
     if (r.unconverged)
         cli_warn("%d of %zu fits stopped at the iteration cap; raise --max-iter or lower --C", r.unconverged,
@@ -207,7 +171,7 @@ int cmd_audit(int argc, char **argv)
         goto fail;
     if (write_suspects(a.out, &lr, &c, P, (size_t)a.excerpt, &e) < 0)
         goto fail;
-    summary(&lr, &c, (size_t)a.cp.folds, a.cp.repeats);
+    summary(&lr, &c, (size_t)cp->folds, cp->repeats);
     goto done;
 fail:
     rc = cli_fail(&e);

@@ -31,23 +31,44 @@
 
 #define MAX_VECTORS 16
 
-static const struct cli_opt opts[] = {
-    { "vectors", 'v', "<file>", "packed vector set (.vecs); repeat to compare several" },
-    { "pool", 'p', "<list>", "comma-separated: mean, tfidf, sif, bow (default: tfidf; bow is always added)" },
-    { "classifier", 'c', "<list>", "comma-separated: logreg, svm-linear, svm-rbf (default: logreg)" },
-    { "C", 'C', "<x>", "inverse regularisation strength, > 0, for every set-up (default: 1)" },
-    { "gamma", 0, "<x>", "svm-rbf kernel width (default: 1 / (dimensions * variance))" },
-    { "class-weight", 0, "<how>", "none | balanced: weight labels by n / (k * n_label) (default: none)" },
-    { "sublinear-tf", 0, NULL, "use 1 + ln(tf) instead of raw term counts" },
-    { "max-iter", 0, "<n>", "logreg: L-BFGS iteration cap (default: 1000)" },
-    { "folds", 'k', "<n>", "folds, >= 2 (default: 5)" },
-    { "repeats", 'R', "<n>", "repeats with fresh shuffles (default: 3)" },
-    { "json", 'j', "<file>", "write the ranking, per-fold scores and tests as JSON" },
-    { "report", 0, "<file>", "write a self-contained HTML page with an interval plot" },
-    DATA_OPTIONS,
-    RUN_OPTIONS,
-    { NULL, 0, NULL, NULL }
+/* The vector sets of --vectors, in order. */
+struct vector_list {
+    const char *path[MAX_VECTORS];
+    size_t n;
 };
+
+struct cmp_args {
+    struct common_cv cv;
+    struct vector_list vectors;
+    int pools[4];                    /* by enum features_pool: asked for */
+    int clfs[3];                     /* by enum pipeline_classifier */
+    const char *json, *report;
+};
+
+static cli_take_fn take_vectors, take_pools, take_classifiers;
+
+#define A struct cmp_args
+static const struct cli_opt opts[] = {
+    CLI_OPT_FN("vectors", 'v', "<file>", "packed vector set (.vecs); repeat to compare several", A, vectors,
+               struct vector_list, take_vectors),
+    CLI_OPT_FN("pool", 'p', "<list>", "comma-separated: mean, tfidf, sif, bow (default: tfidf; bow is always added)",
+               A, pools, int *, take_pools),
+    CLI_OPT_FN("classifier", 'c', "<list>", "comma-separated: logreg, svm-linear, svm-rbf (default: logreg)", A, clfs,
+               int *, take_classifiers),
+    COMMON_OPT_C("inverse regularisation strength, > 0, for every set-up (default: 1)", A, cv.fa),
+    COMMON_OPT_GAMMA(A, cv.fa),
+    COMMON_OPT_CLASS_WEIGHT(A, cv.fa),
+    COMMON_OPT_SUBLINEAR_TF(A, cv.fa),
+    COMMON_OPT_MAX_ITER(A, cv.fa),
+    COMMON_OPT_FOLDS(A, cv.cp),
+    COMMON_OPT_REPEATS("repeats with fresh shuffles (default: 3)", A, cv.cp),
+    CLI_OPT_STR("json", 'j', "<file>", "write the ranking, per-fold scores and tests as JSON", A, json),
+    CLI_OPT_STR("report", 0, "<file>", "write a self-contained HTML page with an interval plot", A, report),
+    COMMON_DATA_OPTIONS(A, cv.da),
+    COMMON_RUN_OPTIONS(A, cv.da),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_compare_info = {
     "compare", "[options] DATA.csv",
@@ -58,17 +79,6 @@ const struct cli_cmd cmd_compare_info = {
     "the same folds.  Rows are ranked by mean macro-F1 over folds; each is\n"
     "tested against the best with the corrected resampled t-test of Nadeau\n"
     "and Bengio (2003) on its per-fold macro-F1, one-sided at 5%."
-};
-
-struct cmp_args {
-    struct data_args da;
-    struct fit_args fa;
-    struct cv_params cp;
-    const char *vectors[MAX_VECTORS];
-    size_t nvec;
-    int pools[4];                    /* by enum features_pool: asked for */
-    int clfs[3];                     /* by enum pipeline_classifier */
-    const char *json, *report;
 };
 
 /* Parse a comma-separated list of names into flags[]; -1 after a usage error. */
@@ -115,72 +125,44 @@ static int one_clf(const char *s, int *v)
     return 0;
 }
 
-static int parse(int argc, char **argv, struct cmp_args *a, const char **data)
+static int take_vectors(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
 {
-    const struct cli_cmd *cmd = &cmd_compare_info;
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    int i;
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        if (strcmp(name, "vectors") == 0) {
-            if (a->nvec == MAX_VECTORS) {
-                i = CLI_FAIL;
-                cli_usage(cmd, "at most %d --vectors options", MAX_VECTORS);
-                break;
-            }
-            a->vectors[a->nvec++] = val;
-            continue;
-        }
-        if (strcmp(name, "pool") == 0) {
-            if (parse_list(cmd, name, val, a->pools, 4, one_pool, "mean, tfidf, sif, bow") < 0)
-                break;
-            continue;
-        }
-        if (strcmp(name, "classifier") == 0) {
-            if (parse_list(cmd, name, val, a->clfs, 3, one_clf, "logreg, svm-linear, svm-rbf") < 0)
-                break;
-            continue;
-        }
-        int t = cv_command_option(&a->da, &a->fa, &a->cp, cmd, name, val);
-        if (t < 0)
-            break;
-        if (t > 0)
-            continue;
-        if (strcmp(name, "json") == 0) {
-            a->json = val;
-        } else if (strcmp(name, "report") == 0) {
-            a->report = val;
-        }
+    (void)o;
+    struct vector_list *l = dst;
+    if (l->n == MAX_VECTORS) {
+        cli_usage(cmd, "at most %d --vectors options", MAX_VECTORS);
+        return -1;
     }
-    int rc = i == CLI_HELP ? -1 : i != CLI_END ? ERR_INPUT : 0;
-    if (rc == 0 && p.npos != 1)
-        rc = cli_usage(cmd, "compare takes one data file");
-    if (rc == 0 && a->cp.folds * (long)a->cp.repeats < 2)
-        rc = cli_usage(cmd, "the test needs at least 2 folds in all");
-    if (rc == 0)
-        *data = p.pos[0];
-    cli_parser_release(&p);
-    return rc;
+    l->path[l->n++] = val;
+    return 0;
+}
+
+static int take_pools(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    return parse_list(cmd, o->name, val, dst, 4, one_pool, "mean, tfidf, sif, bow");
+}
+
+static int take_classifiers(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    return parse_list(cmd, o->name, val, dst, 3, one_clf, "logreg, svm-linear, svm-rbf");
 }
 
 /* Open every vector set before any work; a missing file is bad input. */
 static int open_all(struct cmp_args *a, vecset **vs, struct err *e)
 {
     int dense = a->pools[POOL_MEAN] || a->pools[POOL_TFIDF] || a->pools[POOL_SIF];
-    if (dense && a->nvec == 0) {
+    if (dense && a->vectors.n == 0) {
         int p = a->pools[POOL_MEAN] ? POOL_MEAN : a->pools[POOL_TFIDF] ? POOL_TFIDF : POOL_SIF;
         err_set(e, NULL, 0, "pooling '%s' needs word vectors", features_pool_name((enum features_pool)p));
         return err_hint(e, "pass one or more --vectors FILE.vecs, or compare --pool bow alone");
     }
-    for (size_t v = 0; v < a->nvec; v++) {
+    for (size_t v = 0; v < a->vectors.n; v++) {
         struct stat st;
-        if (stat(a->vectors[v], &st) < 0 && errno == ENOENT) {
-            err_set(e, a->vectors[v], 0, "vector set not found");
+        if (stat(a->vectors.path[v], &st) < 0 && errno == ENOENT) {
+            err_set(e, a->vectors.path[v], 0, "vector set not found");
             return err_hint(e, "check the path given to --vectors (number %zu)", v + 1);
         }
-        if (!(vs[v] = vecset_open(a->vectors[v], e)))
+        if (!(vs[v] = vecset_open(a->vectors.path[v], e)))
             return -1;
     }
     return 0;
@@ -246,25 +228,28 @@ int cmd_compare(int argc, char **argv)
 {
     struct cmp_args a;
     memset(&a, 0, sizeof a);
-    cli_keep_freed_memory();
-    data_args_init(&a.da);
-    fit_args_init(&a.fa);
-    struct cv_params cp0 = CV_PARAMS_INIT;
-    a.cp = cp0;
+    common_keep_freed_memory();
+    common_cv_init(&a.cv, 3);
     const char *data = NULL;
-    int rc = parse(argc, argv, &a, &data);
-    if (rc != 0)
-        return rc < 0 ? ERR_OK : rc;
+    int rc = cli_parse_exact(&cmd_compare_info, argc, argv, &a, 1, &data, "compare takes one data file");
+    if (rc != CLI_END)
+        return rc;
+    rc = ERR_OK;
+    if (a.cv.cp.folds * (long)a.cv.cp.repeats < 2)
+        return cli_usage(&cmd_compare_info, "the test needs at least 2 folds in all");
+    struct common_data *da = &a.cv.da;
+    struct common_fit *fa = &a.cv.fa;
+    struct cv_params *cp = &a.cv.cp;
     int any = 0;
     for (int p = 0; p < 4; p++)
         any |= a.pools[p];
     if (!any)
-        a.pools[a.nvec ? POOL_TFIDF : POOL_BOW] = 1;
+        a.pools[a.vectors.n ? POOL_TFIDF : POOL_BOW] = 1;
     a.pools[POOL_BOW] = 1; /* the baseline is always there */
     if (!(a.clfs[0] | a.clfs[1] | a.clfs[2]))
         a.clfs[CLF_LOGREG] = 1;
-    a.cp.seed = a.da.seed;
-    a.fa.spec.seed = a.da.seed;
+    cp->seed = da->seed;
+    fa->spec.seed = da->seed;
 
     struct err e = ERR_INIT;
     struct corpus c;
@@ -277,32 +262,30 @@ int cmd_compare(int argc, char **argv)
     int *failed = NULL;
     cJSON *js = NULL;
     const char *ins[MAX_VECTORS + 1] = { data };
-    for (size_t v = 0; v < a.nvec; v++)
-        ins[v + 1] = a.vectors[v];
+    for (size_t v = 0; v < a.vectors.n; v++)
+        ins[v + 1] = a.vectors.path[v];
     const char *outs[] = { a.json, a.report };
     for (size_t q = 0; q < 2; q++)
-        if (outs[q] && ofile_check_distinct(outs[q], ins, a.nvec + 1, &e) < 0)
+        if (outs[q] && ofile_check_distinct(outs[q], ins, a.vectors.n + 1, &e) < 0)
             goto fail;
     if (open_all(&a, vs, &e) < 0)
         goto fail;
-    struct dataset_options dopt;
-    data_args_dataset(&a.da, 1, &dopt);
-    if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
+    if (common_load_labelled(&c, data, da, &e) < 0)
         goto fail;
 
     /* The set-ups: bow with each classifier, then vectors x pool x classifier. */
-    size_t cap = 3 + a.nvec * 3 * 3;
+    size_t cap = 3 + a.vectors.n * 3 * 3;
     rows = xcalloc(cap, sizeof *rows);
     vidx = xcalloc(cap, sizeof *vidx);
     for (int k = 0; k < 3; k++)
         if (a.clfs[k])
             rows[n++] = (struct compare_row){ .pool = POOL_BOW, .clf = (enum pipeline_classifier)k };
-    for (size_t v = 0; v < a.nvec; v++)
+    for (size_t v = 0; v < a.vectors.n; v++)
         for (int p = 0; p < 3; p++)
             for (int k = 0; k < 3 && a.pools[p]; k++)
                 if (a.clfs[k]) {
                     vidx[n] = v;
-                    rows[n++] = (struct compare_row){ .vectors = a.vectors[v], .pool = (enum features_pool)p,
+                    rows[n++] = (struct compare_row){ .vectors = a.vectors.path[v], .pool = (enum features_pool)p,
                                                       .clf = (enum pipeline_classifier)k };
                 }
 
@@ -316,16 +299,16 @@ int cmd_compare(int argc, char **argv)
             groups[ng - 1].n++;
         else
             groups[ng++] = (struct group){ i, 1 };
-    struct job job = { rows, groups, &c, &a.fa.spec, vs, vidx, a.cp, NULL, NULL };
+    struct job job = { rows, groups, &c, &fa->spec, vs, vidx, *cp, NULL, NULL };
     errs = xcalloc(ng, sizeof *errs);
     failed = xcalloc(ng, sizeof *failed);
     job.errs = errs;
     job.failed = failed;
-    int outer = (size_t)a.da.threads <= ng ? a.da.threads : 1;
-    job.cp.threads = outer > 1 ? 1 : a.da.threads;
+    int outer = (size_t)da->threads <= ng ? da->threads : 1;
+    job.cp.threads = outer > 1 ? 1 : da->threads;
     if (!cli_quiet)
         fprintf(stderr, "compare: %zu set-ups x %zu folds on %d threads\n", n,
-                (size_t)a.cp.folds * a.cp.repeats, a.da.threads);
+                (size_t)cp->folds * cp->repeats, da->threads);
     double t0 = now();
     par_for(outer, ng, run_group, &job);
     double wall = now() - t0;
@@ -339,9 +322,9 @@ int cmd_compare(int argc, char **argv)
             cli_warn("%zu: %d of %zu fits stopped at the iteration cap; raise --max-iter or lower --C", i + 1,
                      rows[i].r.unconverged, rows[i].r.repeats * (size_t)rows[i].r.folds);
 
-    double nte = (double)c.ds.n / (double)a.cp.folds;
-    struct compare_setup s = { data, &a.da, &a.fa.spec, &a.cp, c.ds.n, c.ds.nlabels, nte, (double)c.ds.n - nte,
-                               0.05, wall, a.da.threads };
+    double nte = (double)c.ds.n / (double)cp->folds;
+    struct compare_setup s = { data, da, &fa->spec, cp, c.ds.n, c.ds.nlabels, nte, (double)c.ds.n - nte,
+                               0.05, wall, da->threads };
     order = xcalloc(n, sizeof *order);
     if (compare_rank(rows, n, &s, order, &e) < 0)
         goto fail;
@@ -368,7 +351,7 @@ done:
     free(order);
     free(errs);
     free(failed);
-    for (size_t v = 0; v < a.nvec; v++)
+    for (size_t v = 0; v < a.vectors.n; v++)
         vecset_close(vs[v]);
     corpus_release(&c);
     return rc;

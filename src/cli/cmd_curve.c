@@ -21,18 +21,35 @@
 
 #define MAX_SIZES 32
 
-static const struct cli_opt opts[] = {
-    PIPELINE_OPTIONS,
-    { "folds", 'k', "<n>", "folds, >= 2 (default: 5)" },
-    { "repeats", 'R', "<n>", "repeats with fresh shuffles (default: 3)" },
-    { "sizes", 0, "<list>", "shares of each fold's training rows, in (0, 1] (default: 0.1,0.2,0.4,0.7,1)" },
-    { "plot", 0, "<file>", "write the curve as an SVG image" },
-    { "report", 0, "<file>", "write a self-contained HTML page" },
-    { "json", 'j', "<file>", "write the points and the estimate as JSON" },
-    DATA_OPTIONS,
-    RUN_OPTIONS,
-    { NULL, 0, NULL, NULL }
+/* The shares of --sizes, ascending, without repeats. */
+struct shares {
+    double x[MAX_SIZES];
+    size_t n;
 };
+
+struct curve_args {
+    struct common_cv cv;
+    struct shares sizes;
+    const char *plot, *report, *json;
+};
+
+static cli_take_fn take_sizes;
+
+#define A struct curve_args
+static const struct cli_opt opts[] = {
+    COMMON_FIT_OPTIONS(A, cv.fa),
+    COMMON_OPT_FOLDS(A, cv.cp),
+    COMMON_OPT_REPEATS("repeats with fresh shuffles (default: 3)", A, cv.cp),
+    CLI_OPT_FN("sizes", 0, "<list>", "shares of each fold's training rows, in (0, 1] (default: 0.1,0.2,0.4,0.7,1)", A,
+               sizes, struct shares, take_sizes),
+    CLI_OPT_STR("plot", 0, "<file>", "write the curve as an SVG image", A, plot),
+    CLI_OPT_STR("report", 0, "<file>", "write a self-contained HTML page", A, report),
+    CLI_OPT_STR("json", 'j', "<file>", "write the points and the estimate as JSON", A, json),
+    COMMON_DATA_OPTIONS(A, cv.da),
+    COMMON_RUN_OPTIONS(A, cv.da),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_curve_info = {
     "curve", "[options] DATA.csv",
@@ -45,100 +62,57 @@ const struct cli_cmd cmd_curve_info = {
     "estimate is withheld when the curve is too flat or noisy to tell."
 };
 
-struct curve_args {
-    struct data_args da;
-    struct fit_args fa;
-    struct cv_params cp;
-    double sizes[MAX_SIZES];
-    size_t nsizes;
-    const char *plot, *report, *json;
-};
-
 static int cmp_double(const void *a, const void *b)
 {
     double x = *(const double *)a, y = *(const double *)b;
     return x < y ? -1 : x > y;
 }
 
-static int parse_sizes(const struct cli_cmd *cmd, const char *val, struct curve_args *a)
+/* --sizes: a comma-separated list of shares into struct shares. */
+static int take_sizes(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
 {
+    (void)o;
+    struct shares *a = dst;
     char *copy = xstrdup(val), *save = NULL;
     int rc = 0;
-    a->nsizes = 0;
+    a->n = 0;
     for (char *tok = strtok_r(copy, ",", &save); tok && rc == 0; tok = strtok_r(NULL, ",", &save)) {
         double x;
-        if (a->nsizes == MAX_SIZES)
+        if (a->n == MAX_SIZES)
             rc = cli_usage(cmd, "option '--sizes' takes at most %d shares", MAX_SIZES);
         else if (cli_double(cmd, "sizes", tok, 1e-6, 1.0, &x) < 0)
             rc = -1;
         else
-            a->sizes[a->nsizes++] = x;
+            a->x[a->n++] = x;
     }
     free(copy);
-    if (rc == 0 && a->nsizes == 0)
+    if (rc == 0 && a->n == 0)
         rc = cli_usage(cmd, "option '--sizes' needs at least one share in (0, 1]");
-    qsort(a->sizes, a->nsizes, sizeof a->sizes[0], cmp_double);
+    qsort(a->x, a->n, sizeof a->x[0], cmp_double);
     size_t m = 0; /* drop repeats */
-    for (size_t i = 0; i < a->nsizes; i++)
-        if (m == 0 || a->sizes[i] != a->sizes[m - 1])
-            a->sizes[m++] = a->sizes[i];
-    a->nsizes = m;
+    for (size_t i = 0; i < a->n; i++)
+        if (m == 0 || a->x[i] != a->x[m - 1])
+            a->x[m++] = a->x[i];
+    a->n = m;
     return rc ? -1 : 0;
-}
-
-static int parse(int argc, char **argv, struct curve_args *a, const char **data)
-{
-    const struct cli_cmd *cmd = &cmd_curve_info;
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    int i;
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        int t = cv_command_option(&a->da, &a->fa, &a->cp, cmd, name, val);
-        if (t < 0)
-            break;
-        if (t > 0)
-            continue;
-        if (strcmp(name, "sizes") == 0) {
-            if (parse_sizes(cmd, val, a) < 0)
-                break;
-        } else if (strcmp(name, "plot") == 0) {
-            a->plot = val;
-        } else if (strcmp(name, "report") == 0) {
-            a->report = val;
-        } else if (strcmp(name, "json") == 0) {
-            a->json = val;
-        }
-    }
-    int rc = i == CLI_HELP ? -1 : i != CLI_END ? ERR_INPUT : 0;
-    if (rc == 0 && p.npos != 1)
-        rc = cli_usage(cmd, "curve takes one data file");
-    if (rc == 0)
-        *data = p.pos[0];
-    cli_parser_release(&p);
-    return rc;
 }
 
 int cmd_curve(int argc, char **argv)
 {
     struct curve_args a;
     memset(&a, 0, sizeof a);
-    cli_keep_freed_memory();
-    data_args_init(&a.da);
-    fit_args_init(&a.fa);
-    struct cv_params cp0 = CV_PARAMS_INIT;
-    a.cp = cp0;
+    common_keep_freed_memory();
+    common_cv_init(&a.cv, 3);
     static const double defaults[] = { 0.1, 0.2, 0.4, 0.7, 1.0 };
-    memcpy(a.sizes, defaults, sizeof defaults);
-    a.nsizes = sizeof defaults / sizeof defaults[0];
+    memcpy(a.sizes.x, defaults, sizeof defaults);
+    a.sizes.n = sizeof defaults / sizeof defaults[0];
     const char *data = NULL;
-    int rc = parse(argc, argv, &a, &data);
-    if (rc != 0)
-        return rc < 0 ? ERR_OK : rc;
-    a.cp.seed = a.da.seed;
-    a.cp.threads = a.da.threads;
-    a.fa.spec.seed = a.da.seed;
+    int rc = cli_parse_exact(&cmd_curve_info, argc, argv, &a, 1, &data, "curve takes one data file");
+    if (rc != CLI_END)
+        return rc;
+    rc = ERR_OK;
+    common_cv_ready(&a.cv);
+    struct common_cv *cv = &a.cv;
 
     struct err e = ERR_INIT;
     struct corpus c;
@@ -146,29 +120,27 @@ int cmd_curve(int argc, char **argv)
     struct vecset *vs = NULL;
     struct curve_point *pt = NULL;
     cJSON *js = NULL;
-    const char *ins[] = { data, a.fa.vectors };
+    const char *ins[] = { data, cv->fa.vectors };
     const char *outs[] = { a.plot, a.report, a.json };
     for (size_t q = 0; q < 3; q++)
         if (outs[q] && ofile_check_distinct(outs[q], ins, 2, &e) < 0)
             goto fail;
-    if (fit_args_open_vectors(&a.fa, &vs, &e) < 0)
+    if (common_open_vectors(&cv->fa, &vs, &e) < 0)
         goto fail;
-    struct dataset_options dopt;
-    data_args_dataset(&a.da, 1, &dopt);
-    if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
+    if (common_load_labelled(&c, data, &cv->da, &e) < 0)
         goto fail;
 
-    pt = xcalloc(a.nsizes, sizeof *pt);
+    pt = xcalloc(a.sizes.n, sizeof *pt);
     int tiny = 0, unconverged = 0;
-    for (size_t q = 0; q < a.nsizes; q++) {
-        struct cv_params cp = a.cp;
+    for (size_t q = 0; q < a.sizes.n; q++) {
+        struct cv_params cp = cv->cp;
         struct cv_result r = CV_RESULT_INIT;
-        cp.train_fraction = a.sizes[q];
+        cp.train_fraction = a.sizes.x[q];
         if (!cli_quiet)
-            fprintf(stderr, "curve: share %.2f of the training rows (%zu of %zu)\n", a.sizes[q], q + 1, a.nsizes);
-        if (cv_run(&r, &a.fa.spec, &c, vs, &cp, &e) < 0)
+            fprintf(stderr, "curve: share %.2f of the training rows (%zu of %zu)\n", a.sizes.x[q], q + 1, a.sizes.n);
+        if (cv_run(&r, &cv->fa.spec, &c, vs, &cp, &e) < 0)
             goto fail;
-        pt[q].fraction = a.sizes[q];
+        pt[q].fraction = a.sizes.x[q];
         /* the mean over fits (folds differ by a row or so), rounded by cv */
         pt[q].train_rows = (double)r.train_rows;
         pt[q].macro_f1 = r.spread.macro_f1;
@@ -183,16 +155,16 @@ int cmd_curve(int argc, char **argv)
     if (unconverged)
         cli_warn("%d fits stopped at the iteration cap; raise --max-iter or lower --C", unconverged);
 
-    struct curve_setup s = { data, &a.fa, &a.cp, c.ds.n, c.ds.nlabels };
+    struct curve_setup s = { data, &cv->fa, &cv->cp, c.ds.n, c.ds.nlabels };
     struct curve_estimate est;
-    curve_estimate(pt, a.nsizes, &s, &est);
-    curve_terminal(stdout, pt, a.nsizes, &s, &est);
-    if (a.plot && curve_svg(a.plot, pt, a.nsizes, &e) < 0)
+    curve_estimate(pt, a.sizes.n, &s, &est);
+    curve_terminal(stdout, pt, a.sizes.n, &s, &est);
+    if (a.plot && curve_svg(a.plot, pt, a.sizes.n, &e) < 0)
         goto fail;
-    if (a.report && curve_html(a.report, pt, a.nsizes, &s, &est, &e) < 0)
+    if (a.report && curve_html(a.report, pt, a.sizes.n, &s, &est, &e) < 0)
         goto fail;
     if (a.json) {
-        js = curve_json(pt, a.nsizes, &s, &est);
+        js = curve_json(pt, a.sizes.n, &s, &est);
         if (evaluate_write_json(a.json, js, &e) < 0)
             goto fail;
     }

@@ -22,13 +22,20 @@
 #define VECSIFT_DATA_DIR "/usr/local/share/vecsift"
 #endif
 
-static const struct cli_opt opts[] = {
-    { "data", 'd', "<dir>", "the demo inbox (default: datasets/inbox, else the installed copy)" },
-    { "out", 'o', "<dir>", "where to write vectors, reports and routed rows (default: demo-output)" },
-    { "models", 'm', "<dir>", "where to write the model (default: models)" },
-    RUN_OPTIONS,
-    { NULL, 0, NULL, NULL }
+struct demo_args {
+    struct common_data da;
+    const char *data, *out, *models;
 };
+
+#define A struct demo_args
+static const struct cli_opt opts[] = {
+    CLI_OPT_STR("data", 'd', "<dir>", "the demo inbox (default: datasets/inbox, else the installed copy)", A, data),
+    CLI_OPT_STR("out", 'o', "<dir>", "where to write vectors, reports and routed rows (default: demo-output)", A, out),
+    CLI_OPT_STR("models", 'm', "<dir>", "where to write the model (default: models)", A, models),
+    COMMON_RUN_OPTIONS(A, da),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_demo_info = {
     "demo", "[options]",
@@ -101,34 +108,15 @@ static int read_cut(const char *path, double *cut, double *cover, double *macro,
 
 int cmd_demo(int argc, char **argv)
 {
-    const struct cli_cmd *cmd = &cmd_demo_info;
-    struct data_args da;
-    data_args_init(&da);
-    const char *data = NULL, *out = "demo-output", *models = "models";
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    int i;
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        int t = data_args_option(&da, cmd, name, val);
-        if (t < 0)
-            break;
-        if (t > 0)
-            continue;
-        if (strcmp(name, "data") == 0)
-            data = val;
-        else if (strcmp(name, "out") == 0)
-            out = val;
-        else if (strcmp(name, "models") == 0)
-            models = val;
-    }
-    int npos = p.npos;
-    cli_parser_release(&p);
-    if (i != CLI_END)
-        return i == CLI_HELP ? ERR_OK : ERR_INPUT;
-    if (npos)
-        return cli_usage(cmd, "demo takes no file arguments");
+    struct demo_args a;
+    memset(&a, 0, sizeof a);
+    common_data_init(&a.da);
+    a.out = "demo-output";
+    a.models = "models";
+    int rc = cli_parse_exact(&cmd_demo_info, argc, argv, &a, 0, NULL, "demo takes no file arguments");
+    if (rc != CLI_END)
+        return rc;
+    const char *data = a.data, *out = a.out, *models = a.models;
 
     struct err e = ERR_INIT;
     if (!data) {
@@ -159,12 +147,11 @@ int cmd_demo(int argc, char **argv)
     snprintf(oof, sizeof oof, "%s/out-of-fold.csv", out);
     snprintf(routed, sizeof routed, "%s/incoming-routed.csv", out);
     snprintf(model, sizeof model, "%s/inbox.json", models);
-    snprintf(threads, sizeof threads, "%d", da.threads);
-    snprintf(seed, sizeof seed, "%llu", (unsigned long long)da.seed);
+    snprintf(threads, sizeof threads, "%d", a.da.threads);
+    snprintf(seed, sizeof seed, "%llu", (unsigned long long)a.da.seed);
 
     printf("vecsift demo: Pebblewick Home Gadgets' support inbox (invented data: the company, its\n"
            "customers and every ticket are made up). Data in %s, results in %s.\n", data, out);
-    int rc;
     rc = step(cmd_vectors, "vectors", "learn", unlabelled, "--text-col", "subject", "--text-col", "body", "-o", vecs,
               "--threads", threads, "--seed", seed, "--quiet", NULL);
     if (rc)

@@ -18,20 +18,29 @@
 #include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
 
-static const struct cli_opt opts[] = {
-    PIPELINE_OPTIONS,
-    { "folds", 'k', "<n>", "folds, >= 2 (default: 5)" },
-    { "repeats", 'R', "<n>", "repeats with fresh shuffles (default: 3)" },
-    { "group-col", 'g', "<name>", "keep rows sharing this column's value (a customer, a thread) in one fold" },
-    { "search", 0, NULL, "choose C (and gamma) by an inner cross-validation inside each fold" },
-    { "target-precision", 'P', "<p>", "precision the confidence cut-off must reach (default: 0.95)" },
-    { "json", 'j', "<file>", "write every figure as JSON" },
-    { "predictions", 0, "<file>", "write the out-of-fold predictions as CSV" },
-    { "report", 0, "<file>", "write a self-contained HTML report" },
-    DATA_OPTIONS,
-    RUN_OPTIONS,
-    { NULL, 0, NULL, NULL }
+struct eval_args {
+    struct common_cv cv;
+    double target;
+    const char *json, *preds, *report;
 };
+
+#define A struct eval_args
+static const struct cli_opt opts[] = {
+    COMMON_FIT_OPTIONS(A, cv.fa),
+    COMMON_OPT_FOLDS(A, cv.cp),
+    COMMON_OPT_REPEATS("repeats with fresh shuffles (default: 3)", A, cv.cp),
+    COMMON_OPT_GROUP_COL(A, cv.da),
+    CLI_OPT_FLAG("search", 0, "choose C (and gamma) by an inner cross-validation inside each fold", A, cv.cp.search),
+    CLI_OPT_DOUBLE("target-precision", 'P', "<p>", "precision the confidence cut-off must reach (default: 0.95)", A,
+                   target, 0.0, 1.0),
+    CLI_OPT_STR("json", 'j', "<file>", "write every figure as JSON", A, json),
+    CLI_OPT_STR("predictions", 0, "<file>", "write the out-of-fold predictions as CSV", A, preds),
+    CLI_OPT_STR("report", 0, "<file>", "write a self-contained HTML report", A, report),
+    COMMON_DATA_OPTIONS(A, cv.da),
+    COMMON_RUN_OPTIONS(A, cv.da),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_evaluate_info = {
     "evaluate", "[options] DATA.csv",
@@ -45,48 +54,6 @@ const struct cli_cmd cmd_evaluate_info = {
     "--json, --predictions, --report is '-' (stdout), the label table and the\n"
     "summary go to stderr."
 };
-
-struct eval_args {
-    struct data_args da;
-    struct fit_args fa;
-    struct cv_params cp;
-    double target;
-    const char *json, *preds, *report;
-};
-
-static int parse(int argc, char **argv, struct eval_args *a, const char **data)
-{
-    const struct cli_cmd *cmd = &cmd_evaluate_info;
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    int i;
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        int t = cv_command_option(&a->da, &a->fa, &a->cp, cmd, name, val);
-        if (t < 0)
-            break;
-        if (t > 0)
-            continue;
-        if (strcmp(name, "target-precision") == 0) {
-            if (cli_double(cmd, name, val, 0.0, 1.0, &a->target) < 0)
-                break;
-        } else if (strcmp(name, "json") == 0) {
-            a->json = val;
-        } else if (strcmp(name, "predictions") == 0) {
-            a->preds = val;
-        } else if (strcmp(name, "report") == 0) {
-            a->report = val;
-        }
-    }
-    int rc = i == CLI_HELP ? -1 : i != CLI_END ? ERR_INPUT : 0;
-    if (rc == 0 && p.npos != 1)
-        rc = cli_usage(cmd, "evaluate takes one data file");
-    if (rc == 0)
-        *data = p.pos[0];
-    cli_parser_release(&p);
-    return rc;
-}
 
 /* With --group-col, a label whose rows lie in fewer groups than folds is
  * missing from some folds: its per-fold figures count those folds as 0 (the
@@ -114,19 +81,16 @@ int cmd_evaluate(int argc, char **argv)
 {
     struct eval_args a;
     memset(&a, 0, sizeof a);
-    data_args_init(&a.da);
-    fit_args_init(&a.fa);
-    struct cv_params cp0 = CV_PARAMS_INIT;
-    a.cp = cp0;
+    common_cv_init(&a.cv, 3);
     a.target = 0.95;
     const char *data = NULL;
-    int rc = parse(argc, argv, &a, &data);
-    if (rc != 0)
-        return rc < 0 ? ERR_OK : rc;
-    cli_keep_freed_memory();
-    a.cp.seed = a.da.seed;
-    a.cp.threads = a.da.threads;
-    a.fa.spec.seed = a.da.seed;
+    int rc = cli_parse_exact(&cmd_evaluate_info, argc, argv, &a, 1, &data, "evaluate takes one data file");
+    if (rc != CLI_END)
+        return rc;
+    rc = ERR_OK;
+    common_keep_freed_memory();
+    common_cv_ready(&a.cv);
+    struct common_cv *cv = &a.cv;
 
     struct err e = ERR_INIT;
     struct corpus c;
@@ -135,7 +99,7 @@ int cmd_evaluate(int argc, char **argv)
     struct cv_result r = CV_RESULT_INIT;
     int *groups = NULL;
     cJSON *js = NULL;
-    const char *ins[] = { data, a.fa.vectors };
+    const char *ins[] = { data, cv->fa.vectors };
     const char *outs[] = { a.json, a.preds, a.report };
     /* An output written to stdout ("-") takes stdout alone: the label table
      * and the summary then go to stderr, so the file stays parseable. */
@@ -151,14 +115,12 @@ int cmd_evaluate(int argc, char **argv)
             term = stderr;
         }
     }
-    struct dataset_options dopt;
-    data_args_dataset(&a.da, 1, &dopt);
-    if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
+    if (common_load_labelled(&c, data, &cv->da, &e) < 0)
         goto fail;
-    if (fit_args_open_vectors(&a.fa, &vs, &e) < 0)
+    if (common_open_vectors(&cv->fa, &vs, &e) < 0)
         goto fail;
     if (!cli_quiet) {
-        evaluate_label_table(term, &c, a.cp.folds);
+        evaluate_label_table(term, &c, cv->cp.folds);
         fflush(term);
         size_t conflicting, dup = corpus_duplicates(&c, &conflicting);
         if (dup)
@@ -168,10 +130,10 @@ int cmd_evaluate(int argc, char **argv)
         if (c.empty_docs)
             cli_warn("%s: %zu rows have no words in the text columns", data, c.empty_docs);
     }
-    groups = cv_args_groups(&a.cp, &c);
+    groups = common_cv_groups(&cv->cp, &c);
     if (groups && !cli_quiet)
-        warn_few_groups(&c, a.da.group_col, groups, a.cp.n_groups, a.cp.folds);
-    if (cv_run(&r, &a.fa.spec, &c, vs, &a.cp, &e) < 0)
+        warn_few_groups(&c, cv->da.group_col, groups, cv->cp.n_groups, cv->cp.folds);
+    if (cv_run(&r, &cv->fa.spec, &c, vs, &cv->cp, &e) < 0)
         goto fail;
     if (r.unconverged)
         cli_warn("%d of %zu fits stopped at the iteration cap; raise --max-iter or lower --C", r.unconverged,
@@ -179,7 +141,7 @@ int cmd_evaluate(int argc, char **argv)
     if (r.tiny_label)
         cli_warn("a label had fewer than 3 training rows in some fold: SVM probabilities for it are unreliable");
 
-    struct evaluate_setup s = { data, &a.da, &a.fa, &a.cp, a.target };
+    struct evaluate_setup s = { data, &cv->da, &cv->fa, &cv->cp, a.target };
     evaluate_terminal(term, &r, &c, &s);
     fflush(term);
     if (a.json || a.report)
@@ -191,7 +153,7 @@ int cmd_evaluate(int argc, char **argv)
     if (a.report && evaluate_html(a.report, &r, &c, &s, &e) < 0)
         goto fail;
     if (!cli_quiet)
-        fprintf(stderr, "cross-validation took %.2f s on %d threads\n", r.seconds, a.cp.threads);
+        fprintf(stderr, "cross-validation took %.2f s on %d threads\n", r.seconds, cv->cp.threads);
     goto done;
 fail:
     rc = cli_fail(&e);

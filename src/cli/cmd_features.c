@@ -15,18 +15,27 @@
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 
-static const struct cli_opt opts[] = {
-    { "output", 'o', "<file>", "where to write the features (default: - for stdout)" },
-    { "model", 'm', "<file>", "apply this trained model's featurizer instead of fitting one" },
-    { "term-names", 0, NULL, "bow: name columns by their word or word pair instead of x1..xD" },
-    { "vectors", 'v', "<file>", "packed vector set (.vecs); needed unless --pool bow" },
-    { "pool", 'p', "<how>", "mean | tfidf | sif | bow (default: tfidf)" },
-    { "sublinear-tf", 0, NULL, "use 1 + ln(tf) instead of raw term counts" },
-    { "no-scale", 0, NULL, "do not standardise pooled features" },
-    DATA_OPTIONS,
-    RUN_OPTIONS,
-    { NULL, 0, NULL, NULL }
+struct features_args {
+    struct common_data da;
+    struct common_fit fa;
+    const char *out, *model;
+    int term_names;
 };
+
+#define A struct features_args
+static const struct cli_opt opts[] = {
+    CLI_OPT_STR("output", 'o', "<file>", "where to write the features (default: - for stdout)", A, out),
+    CLI_OPT_STR("model", 'm', "<file>", "apply this trained model's featurizer instead of fitting one", A, model),
+    CLI_OPT_FLAG("term-names", 0, "bow: name columns by their word or word pair instead of x1..xD", A, term_names),
+    COMMON_OPT_VECTORS("packed vector set (.vecs); needed unless --pool bow", A, fa),
+    COMMON_OPT_POOL("mean | tfidf | sif | bow (default: tfidf)", A, fa),
+    COMMON_OPT_SUBLINEAR_TF(A, fa),
+    CLI_OPT_UNSET("no-scale", 0, "do not standardise pooled features", A, fa.spec.feat.scale),
+    COMMON_DATA_OPTIONS(A, da),
+    COMMON_RUN_OPTIONS(A, da),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_features_info = {
     "features", "[options] DATA.csv [-o FEATURES.csv]",
@@ -39,57 +48,21 @@ const struct cli_cmd cmd_features_info = {
     "back exactly."
 };
 
-static int has_column(const char *path, const struct csv_options *co, const char *name, struct err *e)
-{
-    csv_reader *r = csv_open(path, co, e);
-    if (!r)
-        return -1;
-    int has = csv_col(r, name) >= 0;
-    csv_close(r);
-    return has;
-}
-
 int cmd_features(int argc, char **argv)
 {
-    const struct cli_cmd *cmd = &cmd_features_info;
-    struct data_args da;
-    struct fit_args fa;
-    data_args_init(&da);
-    fit_args_init(&fa);
-    const char *out = "-", *model_path = NULL;
-    int term_names = 0;
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    int i, rc = ERR_OK;
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        int t = data_args_option(&da, cmd, name, val);
-        if (t == 0)
-            t = fit_args_option(&fa, cmd, name, val);
-        if (t < 0)
-            break;
-        if (t > 0)
-            continue;
-        if (strcmp(name, "output") == 0)
-            out = val;
-        else if (strcmp(name, "model") == 0)
-            model_path = val;
-        else if (strcmp(name, "term-names") == 0)
-            term_names = 1;
-        else if (strcmp(name, "no-scale") == 0)
-            fa.spec.feat.scale = 0;
-    }
-    if (i != CLI_END) {
-        cli_parser_release(&p);
-        return i == CLI_HELP ? ERR_OK : ERR_INPUT;
-    }
-    if (p.npos != 1) {
-        rc = cli_usage(cmd, "features takes one data file");
-        cli_parser_release(&p);
+    struct features_args a;
+    memset(&a, 0, sizeof a);
+    common_data_init(&a.da);
+    common_fit_init(&a.fa);
+    a.out = "-";
+    const char *data = NULL;
+    int rc = cli_parse_exact(&cmd_features_info, argc, argv, &a, 1, &data, "features takes one data file");
+    if (rc != CLI_END)
         return rc;
-    }
-    const char *data = p.pos[0];
+    rc = ERR_OK;
+    struct common_data *da = &a.da;
+    struct common_fit *fa = &a.fa;
+    const char *out = a.out, *model_path = a.model;
 
     struct err e = ERR_INIT;
     struct model m = MODEL_INIT;
@@ -101,33 +74,24 @@ int cmd_features(int argc, char **argv)
     struct fmat X = FMAT_INIT;
     size_t *rows = NULL;
     ofile *o = NULL;
-    const char *ins[] = { data, model_path, fa.vectors };
+    const char *ins[] = { data, model_path, fa->vectors };
     if (ofile_check_distinct(out, ins, 3, &e) < 0)
         goto fail;
     /* only a label column the user named must exist: the model's own is
      * a default, and new data to featurize usually has no labels */
-    const char *asked_label = da.label_col;
+    const char *asked_label = da->label_col;
     if (model_path) {
-        if (model_load(&m, model_path, fa.vectors, &vs, &e) < 0)
+        if (model_load(&m, model_path, fa->vectors, &vs, &e) < 0)
             goto fail;
-        da.text = m.text;
-        if (!da.ntext)
-            for (size_t t = 0; t < m.ntext && t < MAX_TEXT_COLS; t++)
-                da.text_cols[da.ntext++] = m.text_cols[t];
-        if (!da.label_col)
-            da.label_col = m.label_col;
+        da->text = m.text;
+        if (!da->ntext)
+            for (size_t t = 0; t < m.ntext && t < COMMON_MAX_TEXT_COLS; t++)
+                da->text_cols[da->ntext++] = m.text_cols[t];
+        if (!da->label_col)
+            da->label_col = m.label_col;
     }
-    struct dataset_options dopt;
-    data_args_dataset(&da, 1, &dopt);
-    int labelled = has_column(data, &da.csv, dopt.label_col, &e);
-    if (labelled < 0)
-        goto fail;
-    if (!labelled && asked_label) {
-        err_set(&e, data, 1, "no column '%s'", asked_label);
-        goto fail;
-    }
-    data_args_dataset(&da, labelled, &dopt);
-    if (corpus_load(&c, data, &dopt, &da.text, &e) < 0)
+    int labelled = 0;
+    if (common_load_maybe_labelled(&c, data, da, asked_label, &labelled, &e) < 0)
         goto fail;
     rows = xcalloc(c.ds.n ? c.ds.n : 1, sizeof *rows);
     for (size_t r = 0; r < c.ds.n; r++)
@@ -135,10 +99,10 @@ int cmd_features(int argc, char **argv)
     if (model_path) {
         f = pipeline_featurizer(m.pipe);
     } else {
-        if (fit_args_open_vectors(&fa, &vs, &e) < 0)
+        if (common_open_vectors(fa, &vs, &e) < 0)
             goto fail;
-        if (!(own = features_fit(&fa.spec.feat, &c.docs, rows, c.ds.n, vs, &e))) {
-            err_name_file(&e, data);
+        if (!(own = features_fit(&fa->spec.feat, &c.docs, rows, c.ds.n, vs, &e))) {
+            common_name_file(&e, data);
             goto fail;
         }
         f = own;
@@ -153,7 +117,7 @@ int cmd_features(int argc, char **argv)
     fputs(labelled ? "row,label" : "row", fp);
     for (size_t d = 0; d < D; d++) {
         fputc(',', fp);
-        const char *term = term_names ? features_term(f, d) : NULL;
+        const char *term = a.term_names ? features_term(f, d) : NULL;
         if (term)
             csv_put(fp, term, strlen(term), 1);
         else
@@ -198,6 +162,5 @@ done:
     corpus_release(&c);
     model_release(&m);
     vecset_close(vs);
-    cli_parser_release(&p);
     return rc;
 }

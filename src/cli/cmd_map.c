@@ -26,17 +26,26 @@
  * would need gigabytes as a dense matrix. */
 #define MAX_CELLS ((size_t)64 * 1024 * 1024)
 
-static const struct cli_opt opts[] = {
-    { "output", 'o', "<file>", "where to write the SVG drawing (default: - for stdout)" },
-    MAP_OPTIONS,
-    { "vectors", 'v', "<file>", "packed vector set (.vecs); needed unless --pool bow" },
-    { "pool", 'p', "<how>", "mean | tfidf | sif | bow (default: tfidf)" },
-    { "sublinear-tf", 0, NULL, "use 1 + ln(tf) instead of raw term counts" },
-    DATA_OPTIONS,
-    { "seed", 's', "<n>", "seed of the map's random start (default: 1)" },
-    { "quiet", 'q', NULL, "no notes on stderr" },
-    { NULL, 0, NULL, NULL }
+struct map_cmd_args {
+    struct common_data da;
+    struct common_fit fa;
+    struct map_args ma;
+    const char *out;
 };
+
+#define A struct map_cmd_args
+static const struct cli_opt opts[] = {
+    CLI_OPT_STR("output", 'o', "<file>", "where to write the SVG drawing (default: - for stdout)", A, out),
+    MAP_OPTIONS(A, ma),
+    COMMON_OPT_VECTORS("packed vector set (.vecs); needed unless --pool bow", A, fa),
+    COMMON_OPT_POOL("mean | tfidf | sif | bow (default: tfidf)", A, fa),
+    COMMON_OPT_SUBLINEAR_TF(A, fa),
+    COMMON_DATA_OPTIONS(A, da),
+    COMMON_OPT_SEED("seed of the map's random start (default: 1)", A, da),
+    CLI_OPT_QUIET("no notes on stderr"),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_map_info = {
     "map", "[options] DATA.csv -o MAP.svg",
@@ -50,53 +59,23 @@ const struct cli_cmd cmd_map_info = {
     "text.  --coords writes the 2-D coordinates for other tools."
 };
 
-/* 1 when the CSV file has column 'name', 0 when not, -1 on error. */
-static int has_column(const char *path, const struct csv_options *co, const char *name, struct err *e)
-{
-    csv_reader *r = csv_open(path, co, e);
-    if (!r)
-        return -1;
-    int has = csv_col(r, name) >= 0;
-    csv_close(r);
-    return has;
-}
-
 int cmd_map(int argc, char **argv)
 {
-    const struct cli_cmd *cmd = &cmd_map_info;
-    struct data_args da;
-    struct fit_args fa;
-    struct map_args ma;
-    data_args_init(&da);
-    fit_args_init(&fa);
-    map_args_init(&ma);
-    const char *out = "-";
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    int i, rc = ERR_OK;
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        int t = data_args_option(&da, cmd, name, val);
-        if (t == 0)
-            t = fit_args_option(&fa, cmd, name, val);
-        if (t == 0)
-            t = map_args_option(&ma, cmd, name, val);
-        if (t < 0)
-            break;
-        if (t == 0 && strcmp(name, "output") == 0)
-            out = val;
-    }
-    if (i != CLI_END)
-        rc = i == CLI_HELP ? ERR_OK : ERR_INPUT;
-    else if (p.npos != 1)
-        rc = cli_usage(cmd, "map takes one data file");
-    if (i != CLI_END || rc != ERR_OK) {
-        cli_parser_release(&p);
+    struct map_cmd_args a;
+    memset(&a, 0, sizeof a);
+    common_data_init(&a.da);
+    common_fit_init(&a.fa);
+    map_args_init(&a.ma);
+    a.out = "-";
+    const char *data = NULL;
+    int rc = cli_parse_exact(&cmd_map_info, argc, argv, &a, 1, &data, "map takes one data file");
+    if (rc != CLI_END)
         return rc;
-    }
-    const char *data = p.pos[0];
-    ma.tp.seed = da.seed;
+    rc = ERR_OK;
+    struct common_fit *fa = &a.fa;
+    struct map_args *ma = &a.ma;
+    const char *out = a.out;
+    ma->tp.seed = a.da.seed;
 
     struct err e = ERR_INIT;
     struct vecset *vs = NULL;
@@ -108,33 +87,24 @@ int cmd_map(int argc, char **argv)
     double *dense = NULL, *Y = NULL;
     char **titles = NULL, *caption = NULL;
     ofile *o = NULL, *oc = NULL;
-    const char *ins[] = { data, fa.vectors };
-    if (ofile_check_distinct(out, ins, 2, &e) < 0 || (ma.coords && ofile_check_distinct(ma.coords, ins, 2, &e) < 0))
+    const char *ins[] = { data, fa->vectors };
+    if (ofile_check_distinct(out, ins, 2, &e) < 0 || (ma->coords && ofile_check_distinct(ma->coords, ins, 2, &e) < 0))
         goto fail;
-    if (ma.coords && strcmp(ma.coords, "-") != 0 && ofile_check_distinct(ma.coords, &out, 1, &e) < 0)
+    if (ma->coords && strcmp(ma->coords, "-") != 0 && ofile_check_distinct(ma->coords, &out, 1, &e) < 0)
         goto fail;
-    struct dataset_options dopt;
-    data_args_dataset(&da, 1, &dopt);
-    int labelled = has_column(data, &da.csv, dopt.label_col, &e);
-    if (labelled < 0)
-        goto fail;
-    if (!labelled && da.label_col) {
-        err_set(&e, data, 1, "no column '%s'", da.label_col);
-        goto fail;
-    }
-    data_args_dataset(&da, labelled, &dopt);
-    if (corpus_load(&c, data, &dopt, &da.text, &e) < 0)
+    int labelled = 0;
+    if (common_load_maybe_labelled(&c, data, &a.da, a.da.label_col, &labelled, &e) < 0)
         goto fail;
     if (c.ds.n < 4) {
         err_set(&e, data, 0, "a map needs at least 4 rows, the data has %zu", c.ds.n);
         goto fail;
     }
-    if (fit_args_open_vectors(&fa, &vs, &e) < 0)
+    if (common_open_vectors(fa, &vs, &e) < 0)
         goto fail;
     rows = xcalloc(c.ds.n, sizeof *rows);
     for (size_t r = 0; r < c.ds.n; r++)
         rows[r] = r;
-    if (!(f = features_fit(&fa.spec.feat, &c.docs, rows, c.ds.n, vs, &e)))
+    if (!(f = features_fit(&fa->spec.feat, &c.docs, rows, c.ds.n, vs, &e)))
         goto fail;
     struct features_stats st = { 0, 0, 0 };
     features_transform(f, &c.docs, rows, c.ds.n, &X, &st);
@@ -148,7 +118,7 @@ int cmd_map(int argc, char **argv)
     for (size_t r = 0; r < N; r++)
         fmat_axpy(&X, r, 1.0, dense + r * D);
     Y = xcalloc(xmul(N, 2), sizeof *Y);
-    if (tsne_run(dense, N, D, &ma.tp, Y, &e) < 0)
+    if (tsne_run(dense, N, D, &ma->tp, Y, &e) < 0)
         goto fail;
 
     titles = xcalloc(N, sizeof *titles);
@@ -156,13 +126,13 @@ int cmd_map(int argc, char **argv)
         titles[r] = excerpt_new(c.ds.text[r], 200);
     char what[512];
     if (vs)
-        snprintf(what, sizeof what, "features: %s pooling of %.400s", features_pool_name(fa.spec.feat.pool),
+        snprintf(what, sizeof what, "features: %s pooling of %.400s", features_pool_name(fa->spec.feat.pool),
                  vecset_path(vs));
     else
         snprintf(what, sizeof what, "features: TF-IDF bag of words");
-    caption = map_caption_new(SVGPLOT_MAP_CAPTION, &ma, N, what);
+    caption = map_caption_new(SVGPLOT_MAP_CAPTION, ma, N, what);
     /* Both files are written before either is committed. */
-    if (!(o = ofile_open(out, &e)) || (ma.coords && !(oc = ofile_open(ma.coords, &e))))
+    if (!(o = ofile_open(out, &e)) || (ma->coords && !(oc = ofile_open(ma->coords, &e))))
         goto fail;
     if (svgplot_scatter(ofile_fp(o), Y, N, c.ds.y, (const char *const *)c.ds.labels, c.ds.nlabels,
                         (const char *const *)titles, caption, &e) < 0)
@@ -179,7 +149,7 @@ int cmd_map(int argc, char **argv)
     if (st.empty_rows)
         cli_warn("%s: %zu rows had no word with a %s and sit together on the map", data, st.empty_rows,
                  vs ? "vector" : "column");
-    cli_note("mapped %zu rows (%zu features each); seed %llu", N, D, (unsigned long long)ma.tp.seed);
+    cli_note("mapped %zu rows (%zu features each); seed %llu", N, D, (unsigned long long)ma->tp.seed);
     goto done;
 fail:
     rc = cli_fail(&e);
@@ -197,6 +167,5 @@ done:
     features_free(f);
     corpus_release(&c);
     vecset_close(vs);
-    cli_parser_release(&p);
     return rc;
 }

@@ -23,20 +23,29 @@
 #include "vecsift/xalloc.h"
 #include "predict_run.h"
 
-static const struct cli_opt opts[] = {
-    { "output", 'o', "<file>", "where to write the routed rows (default: - for stdout)" },
-    { "review-below", 'r', "<p>", "send rows whose confidence is below p to 'review'\n"
-      "                              (default: the model's stored cut-off, else 0)" },
-    { "top", 'k', "<n>", "also write the n most likely labels and their probabilities" },
-    { "explain", 'x', "<n>", "add the n words that pushed each row most toward its label\n"
-      "                              (logreg models only)" },
-    { "vectors", 'v', "<file>", "the model's vector set, when it moved (fingerprint must match)" },
-    { "text-col", 0, "<name>", "text column(s) to read (default: the model's)" },
-    { "encoding", 0, "<name>", "utf-8 | windows-1252 | latin-1 (default: utf-8)" },
-    { "replace-invalid", 0, NULL, "replace invalid UTF-8 by U+FFFD instead of stopping" },
-    RUN_OPTIONS,
-    { NULL, 0, NULL, NULL }
+struct predict_args {
+    struct common_data da;
+    const char *out, *vectors;
+    double cut;
+    long top, explain;
 };
+
+#define A struct predict_args
+static const struct cli_opt opts[] = {
+    CLI_OPT_STR("output", 'o', "<file>", "where to write the routed rows (default: - for stdout)", A, out),
+    CLI_OPT_DOUBLE("review-below", 'r', "<p>", "send rows whose confidence is below p to 'review'\n"
+                   "                              (default: the model's stored cut-off, else 0)", A, cut, 0, 1),
+    CLI_OPT_LONG("top", 'k', "<n>", "also write the n most likely labels and their probabilities", A, top, 1, 1000),
+    CLI_OPT_LONG("explain", 'x', "<n>", "add the n words that pushed each row most toward its label\n"
+                 "                              (logreg models only)", A, explain, 1, 100),
+    CLI_OPT_STR("vectors", 'v', "<file>", "the model's vector set, when it moved (fingerprint must match)", A, vectors),
+    COMMON_OPT_TEXT_COL("text column(s) to read (default: the model's)", A, da),
+    COMMON_OPT_ENCODING("utf-8 | windows-1252 | latin-1 (default: utf-8)", A, da),
+    COMMON_OPT_REPLACE_INVALID("replace invalid UTF-8 by U+FFFD instead of stopping", A, da),
+    COMMON_RUN_OPTIONS(A, da),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_predict_info = {
     "predict", "[options] MODEL.json IN.csv [-o OUT.csv]",
@@ -177,55 +186,23 @@ static void write_header(FILE *fp, const csv_reader *r, long top, long explain)
     fputs("\r\n", fp);
 }
 
-static int parse(int argc, char **argv, struct data_args *da, const char **out, double *cut, long *top,
-                 long *explain, const char **vectors, char **pos)
-{
-    const struct cli_cmd *cmd = &cmd_predict_info;
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    int i;
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        int t = data_args_option(da, cmd, name, val);
-        if (t < 0)
-            break;
-        if (t > 0)
-            continue;
-        if (strcmp(name, "output") == 0)
-            *out = val;
-        else if (strcmp(name, "vectors") == 0)
-            *vectors = val;
-        else if (strcmp(name, "review-below") == 0 && cli_double(cmd, name, val, 0, 1, cut) < 0)
-            break;
-        else if (strcmp(name, "top") == 0 && cli_long(cmd, name, val, 1, 1000, top) < 0)
-            break;
-        else if (strcmp(name, "explain") == 0 && cli_long(cmd, name, val, 1, 100, explain) < 0)
-            break;
-    }
-    int rc = i == CLI_HELP ? -1 : i != CLI_END ? ERR_INPUT : 0;
-    if (rc == 0 && p.npos != 2)
-        rc = cli_usage(cmd, "predict takes a model file and an input file");
-    if (rc == 0) {
-        pos[0] = p.pos[0];
-        pos[1] = p.pos[1];
-    }
-    cli_parser_release(&p);
-    return rc;
-}
-
 int cmd_predict(int argc, char **argv)
 {
-    struct data_args da;
-    data_args_init(&da);
-    const char *out = "-", *vectors = NULL;
-    double cut = -1;
-    long top = 1, explain = 0;
-    char *pos[2];
-    int rc = parse(argc, argv, &da, &out, &cut, &top, &explain, &vectors, pos);
-    if (rc != 0)
-        return rc < 0 ? ERR_OK : rc;
-    const char *model_path = pos[0], *in = pos[1];
+    struct predict_args a;
+    memset(&a, 0, sizeof a);
+    common_data_init(&a.da);
+    a.out = "-";
+    a.cut = -1;
+    a.top = 1;
+    const char *pos[2];
+    int rc = cli_parse_exact(&cmd_predict_info, argc, argv, &a, 2, pos, "predict takes a model file and an input file");
+    if (rc != CLI_END)
+        return rc;
+    rc = ERR_OK;
+    const char *model_path = pos[0], *in = pos[1], *out = a.out, *vectors = a.vectors;
+    const struct common_data *da = &a.da;
+    double cut = a.cut;
+    long top = a.top, explain = a.explain;
 
     struct err e = ERR_INIT;
     struct model m = MODEL_INIT;
@@ -236,7 +213,7 @@ int cmd_predict(int argc, char **argv)
     struct run u;
     memset(&u, 0, sizeof u);
     err_clear(&u.e);
-    size_t T = da.threads > 1 ? (size_t)da.threads : 1, S = 2 * T + 2;
+    size_t T = da->threads > 1 ? (size_t)da->threads : 1, S = 2 * T + 2;
     struct batch *bt = xcalloc(S, sizeof *bt);
     void **slot = xcalloc(S, sizeof *slot);
 
@@ -252,13 +229,13 @@ int cmd_predict(int argc, char **argv)
     }
     if (cut < 0)
         cut = m.review_below >= 0 ? m.review_below : 0;
-    if (!(r = csv_open(in, &da.csv, &e)))
+    if (!(r = csv_open(in, &da->csv, &e)))
         goto fail;
     size_t ncols = csv_ncols(r);
-    size_t ntext = da.ntext ? da.ntext : m.ntext;
+    size_t ntext = da->ntext ? da->ntext : m.ntext;
     textcol = xcalloc(ntext, sizeof *textcol);
     for (size_t t = 0; t < ntext; t++)
-        if ((textcol[t] = csv_require_col(r, da.ntext ? da.text_cols[t] : m.text_cols[t], &e)) < 0)
+        if ((textcol[t] = csv_require_col(r, da->ntext ? da->text_cols[t] : m.text_cols[t], &e)) < 0)
             goto fail;
     static const char *const ours[] = { "predicted", "confidence", "route" };
     for (size_t c = 0; c < ncols; c++)

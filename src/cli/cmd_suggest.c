@@ -26,18 +26,34 @@
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 
-static const struct cli_opt opts[] = {
-    { "count", 'n', "<n>", "how many rows to pick, >= 1 (required)" },
-    { "output", 'o', "<file>", "where to write the picked rows (default: - for stdout)" },
-    { "by", 0, "<how>", "margin: 1 - (p1 - p2) | entropy: of the probabilities, over ln K (default: margin)" },
-    { "similar", 0, "<x>", "skip a row whose cosine with a picked row is above x, in [0, 1] (default: 0.95)" },
-    { "vectors", 'v', "<file>", "the model's vector set, when it moved (fingerprint must match)" },
-    { "text-col", 0, "<name>", "text column(s) to read (default: the model's)" },
-    { "encoding", 0, "<name>", "utf-8 | windows-1252 | latin-1 (default: utf-8)" },
-    { "replace-invalid", 0, NULL, "replace invalid UTF-8 by U+FFFD instead of stopping" },
-    { "quiet", 'q', NULL, "no notes on stderr" },
-    { NULL, 0, NULL, NULL }
+enum { BY_MARGIN, BY_ENTROPY };
+
+struct suggest_args {
+    struct common_data da;
+    const char *out, *vectors;
+    long count;
+    double similar;
+    int by;
 };
+
+static cli_take_fn take_by;
+
+#define A struct suggest_args
+static const struct cli_opt opts[] = {
+    CLI_OPT_LONG("count", 'n', "<n>", "how many rows to pick, >= 1 (required)", A, count, 1, 100000000),
+    CLI_OPT_STR("output", 'o', "<file>", "where to write the picked rows (default: - for stdout)", A, out),
+    CLI_OPT_FN("by", 0, "<how>", "margin: 1 - (p1 - p2) | entropy: of the probabilities, over ln K (default: margin)",
+               A, by, int, take_by),
+    CLI_OPT_DOUBLE("similar", 0, "<x>", "skip a row whose cosine with a picked row is above x, in [0, 1] (default: 0.95)",
+                   A, similar, 0, 1),
+    CLI_OPT_STR("vectors", 'v', "<file>", "the model's vector set, when it moved (fingerprint must match)", A, vectors),
+    COMMON_OPT_TEXT_COL("text column(s) to read (default: the model's)", A, da),
+    COMMON_OPT_ENCODING("utf-8 | windows-1252 | latin-1 (default: utf-8)", A, da),
+    COMMON_OPT_REPLACE_INVALID("replace invalid UTF-8 by U+FFFD instead of stopping", A, da),
+    CLI_OPT_QUIET("no notes on stderr"),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_suggest_info = {
     "suggest", "[options] MODEL.json POOL.csv -n N [-o TO_LABEL.csv]",
@@ -51,7 +67,16 @@ const struct cli_cmd cmd_suggest_info = {
     "'best_guess', most uncertain first."
 };
 
-enum { BY_MARGIN, BY_ENTROPY };
+static int take_by(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    (void)o;
+    if (strcmp(val, "margin") != 0 && strcmp(val, "entropy") != 0) {
+        cli_usage(cmd, "option '--by' takes margin or entropy, not '%s'", val);
+        return -1;
+    }
+    *(int *)dst = strcmp(val, "margin") == 0 ? BY_MARGIN : BY_ENTROPY;
+    return 0;
+}
 
 struct cand {
     size_t row;
@@ -105,50 +130,23 @@ static double uncertainty(const double *p, size_t K, int by, char *const *labels
 int cmd_suggest(int argc, char **argv)
 {
     const struct cli_cmd *cmd = &cmd_suggest_info;
-    struct data_args da;
-    data_args_init(&da);
-    const char *out = "-", *vectors = NULL;
-    long count = 0;
-    double similar = 0.95;
-    int by = BY_MARGIN, i, rc = ERR_OK;
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        int t = data_args_option(&da, cmd, name, val);
-        if (t < 0)
-            break;
-        if (t > 0)
-            continue;
-        if (strcmp(name, "output") == 0)
-            out = val;
-        else if (strcmp(name, "vectors") == 0)
-            vectors = val;
-        else if (strcmp(name, "count") == 0 && cli_long(cmd, name, val, 1, 100000000, &count) < 0)
-            break;
-        else if (strcmp(name, "similar") == 0 && cli_double(cmd, name, val, 0, 1, &similar) < 0)
-            break;
-        else if (strcmp(name, "by") == 0) {
-            if (strcmp(val, "margin") == 0 || strcmp(val, "entropy") == 0)
-                by = strcmp(val, "margin") == 0 ? BY_MARGIN : BY_ENTROPY;
-            else {
-                cli_usage(cmd, "option '--by' takes margin or entropy, not '%s'", val);
-                break;
-            }
-        }
-    }
-    if (i != CLI_END)
-        rc = i == CLI_HELP ? ERR_OK : ERR_INPUT;
-    else if (p.npos != 2)
-        rc = cli_usage(cmd, "suggest takes a model file and a pool file");
-    else if (count == 0)
-        rc = cli_usage(cmd, "say how many rows to pick with -n N");
-    if (i != CLI_END || rc != ERR_OK) {
-        cli_parser_release(&p);
+    struct suggest_args a;
+    memset(&a, 0, sizeof a);
+    common_data_init(&a.da);
+    a.out = "-";
+    a.similar = 0.95;
+    a.by = BY_MARGIN;
+    const char *pos[2];
+    int rc = cli_parse_exact(cmd, argc, argv, &a, 2, pos, "suggest takes a model file and a pool file");
+    if (rc != CLI_END)
         return rc;
-    }
-    const char *model_path = p.pos[0], *in = p.pos[1];
+    if (a.count == 0)
+        return cli_usage(cmd, "say how many rows to pick with -n N");
+    rc = ERR_OK;
+    const char *model_path = pos[0], *in = pos[1], *out = a.out, *vectors = a.vectors;
+    long count = a.count;
+    double similar = a.similar;
+    int by = a.by;
 
     struct err e = ERR_INIT;
     struct model m = MODEL_INIT;
@@ -169,7 +167,7 @@ int cmd_suggest(int argc, char **argv)
     if (model_load(&m, model_path, vectors, &vs, &e) < 0)
         goto fail;
     reserved[0] = m.label_col;
-    if (suggest_pool_load(&pl, in, &m, &da, reserved, 4, &e) < 0)
+    if (suggest_pool_load(&pl, in, &m, &a.da, reserved, 4, &e) < 0)
         goto fail;
     cands = xcalloc(pl.n, sizeof *cands);
     why = xcalloc(pl.n, sizeof *why);
@@ -252,6 +250,5 @@ done:
     suggest_pool_release(&pl);
     model_release(&m);
     vecset_close(vs);
-    cli_parser_release(&p);
     return rc;
 }

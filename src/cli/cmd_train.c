@@ -16,17 +16,30 @@
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 
-static const struct cli_opt opts[] = {
-    { "output", 'o', "<file>", "where to write the model (required; JSON)" },
-    PIPELINE_OPTIONS,
-    DATA_OPTIONS,
-    { "review-below", 0, "<p>", "store this confidence cut-off in the model for predict\n"
-      "                              (default: the --evaluation file's cut-off, else none)" },
-    { "evaluation", 'e', "<file>", "an 'evaluate --json' file of these settings: its summary is stored in the model" },
-    { "search", 0, NULL, "choose C (and gamma) by 3-fold cross-validation on all rows, as evaluate --search does" },
-    RUN_OPTIONS,
-    { NULL, 0, NULL, NULL }
+struct train_args {
+    struct common_data da;
+    struct common_fit fa;
+    const char *out, *evaluation;
+    double review;
+    int search;
 };
+
+#define A struct train_args
+static const struct cli_opt opts[] = {
+    CLI_OPT_STR("output", 'o', "<file>", "where to write the model (required; JSON)", A, out),
+    COMMON_FIT_OPTIONS(A, fa),
+    COMMON_DATA_OPTIONS(A, da),
+    CLI_OPT_DOUBLE("review-below", 0, "<p>", "store this confidence cut-off in the model for predict\n"
+                   "                              (default: the --evaluation file's cut-off, else none)", A, review,
+                   0, 1),
+    CLI_OPT_STR("evaluation", 'e', "<file>", "an 'evaluate --json' file of these settings: its summary is stored in the model",
+                A, evaluation),
+    CLI_OPT_FLAG("search", 0, "choose C (and gamma) by 3-fold cross-validation on all rows, as evaluate --search does",
+                 A, search),
+    COMMON_RUN_OPTIONS(A, da),
+    CLI_OPT_END
+};
+#undef A
 
 const struct cli_cmd cmd_train_info = {
     "train", "[options] DATA.csv -o MODEL.json",
@@ -42,7 +55,7 @@ const struct cli_cmd cmd_train_info = {
 
 /* The summary of an `evaluate --json` file, checked to describe the same
  * pooling and classifier; its cut-off becomes the default review cut-off. */
-static int read_evaluation(const char *path, const struct fit_args *fa, cJSON **summary, double *review,
+static int read_evaluation(const char *path, const struct common_fit *fa, cJSON **summary, double *review,
                            struct err *e)
 {
     cJSON *root = jsonv_load(path, "evaluation", (size_t)1 << 30, e);
@@ -108,51 +121,23 @@ static int check_labels(const struct corpus *c, size_t *rows_per, struct err *e)
 int cmd_train(int argc, char **argv)
 {
     const struct cli_cmd *cmd = &cmd_train_info;
-    struct data_args da;
-    struct fit_args fa;
-    data_args_init(&da);
-    fit_args_init(&fa);
-    const char *out = NULL;
-    double review = -1;
-    const char *evaluation = NULL;
-    int search = 0;
-    struct cli_parser p;
-    cli_parser_init(&p, cmd, argc, argv);
-    int rc = ERR_OK, i;
-    const char *val;
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, i);
-        int t = data_args_option(&da, cmd, name, val);
-        if (t == 0)
-            t = fit_args_option(&fa, cmd, name, val);
-        if (t < 0) {
-            cli_parser_release(&p);
-            return ERR_INPUT;
-        }
-        if (t > 0)
-            continue;
-        if (strcmp(name, "output") == 0)
-            out = val;
-        else if (strcmp(name, "evaluation") == 0)
-            evaluation = val;
-        else if (strcmp(name, "search") == 0)
-            search = 1;
-        else if (strcmp(name, "review-below") == 0 && cli_double(cmd, name, val, 0, 1, &review) < 0) {
-            cli_parser_release(&p);
-            return ERR_INPUT;
-        }
-    }
-    if (i == CLI_HELP || i == CLI_FAIL) {
-        cli_parser_release(&p);
-        return i == CLI_HELP ? ERR_OK : ERR_INPUT;
-    }
-    if (p.npos != 1 || !out) {
-        rc = cli_usage(cmd, p.npos != 1 ? "train takes one data file" : "train needs -o MODEL.json");
-        cli_parser_release(&p);
+    struct train_args a;
+    memset(&a, 0, sizeof a);
+    common_data_init(&a.da);
+    common_fit_init(&a.fa);
+    a.review = -1;
+    const char *data = NULL;
+    int rc = cli_parse_exact(cmd, argc, argv, &a, 1, &data, "train takes one data file");
+    if (rc != CLI_END)
         return rc;
-    }
-    const char *data = p.pos[0];
-    fa.spec.seed = da.seed;
+    if (!a.out)
+        return cli_usage(cmd, "train needs -o MODEL.json");
+    rc = ERR_OK;
+    struct common_data *da = &a.da;
+    struct common_fit *fa = &a.fa;
+    const char *out = a.out, *evaluation = a.evaluation;
+    double review = a.review;
+    fa->spec.seed = da->seed;
 
     struct err e = ERR_INIT;
     struct corpus c;
@@ -160,19 +145,19 @@ int cmd_train(int argc, char **argv)
     struct vecset *vs = NULL;
     struct model m = MODEL_INIT;
     size_t *rows_per = NULL, *rows = NULL;
-    const char *ins[] = { data, fa.vectors, evaluation };
+    const char *ins[] = { data, fa->vectors, evaluation };
     if (ofile_check_distinct(out, ins, 3, &e) < 0)
         goto fail;
-    if (evaluation && read_evaluation(evaluation, &fa, &m.evaluation, &review, &e) < 0)
+    if (evaluation && read_evaluation(evaluation, fa, &m.evaluation, &review, &e) < 0)
         goto fail;
     struct dataset_options dopt;
-    data_args_dataset(&da, 1, &dopt);
-    if (corpus_load(&c, data, &dopt, &da.text, &e) < 0)
+    common_data_options(da, 1, &dopt);
+    if (corpus_load(&c, data, &dopt, &da->text, &e) < 0)
         goto fail;
     rows_per = xcalloc(c.ds.nlabels ? c.ds.nlabels : 1, sizeof *rows_per);
     if (check_labels(&c, rows_per, &e) < 0)
         goto fail;
-    if (fit_args_open_vectors(&fa, &vs, &e) < 0)
+    if (common_open_vectors(fa, &vs, &e) < 0)
         goto fail;
     if (c.ds.replaced)
         cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", data, c.ds.replaced);
@@ -188,12 +173,12 @@ int cmd_train(int argc, char **argv)
     rows = xcalloc(c.ds.n, sizeof *rows);
     for (size_t r = 0; r < c.ds.n; r++)
         rows[r] = r;
-    if (search) {
+    if (a.search) {
         /* The grid and inner folds of evaluate --search, on every row. */
         struct pipeline_spec best;
-        if (cv_search(&fa.spec, &c, vs, rows, c.ds.n, 3, da.seed, &best, &e) < 0)
+        if (cv_search(&fa->spec, &c, vs, rows, c.ds.n, 3, da->seed, &best, &e) < 0)
             goto fail;
-        fa.spec = best;
+        fa->spec = best;
         if (!cli_quiet) {
             fprintf(stderr, "parameter search (3-fold, macro F1) chose C = %g", best.C);
             if (best.clf == CLF_SVM_RBF)
@@ -202,9 +187,9 @@ int cmd_train(int argc, char **argv)
         }
     }
     struct pipeline_fit_info info;
-    m.pipe = pipeline_fit(&fa.spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
+    m.pipe = pipeline_fit(&fa->spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
     if (!m.pipe) {
-        err_name_file(&e, data);
+        common_name_file(&e, data);
         goto fail;
     }
     if (!info.converged)
@@ -217,14 +202,14 @@ int cmd_train(int argc, char **argv)
     m.labels = xcalloc(m.k, sizeof *m.labels);
     for (size_t k = 0; k < m.k; k++)
         m.labels[k] = xstrdup(c.ds.labels[k]);
-    m.text = da.text;
+    m.text = da->text;
     m.ntext = dopt.ntext;
     m.text_cols = xcalloc(m.ntext, sizeof *m.text_cols);
     for (size_t t = 0; t < m.ntext; t++)
         m.text_cols[t] = xstrdup(dopt.text_cols[t]);
     m.label_col = xstrdup(dopt.label_col);
     if (vs) {
-        m.vectors_path = xstrdup(fa.vectors);
+        m.vectors_path = xstrdup(fa->vectors);
         m.vectors_fp = vecset_fingerprint(vs);
     }
     m.data_path = xstrdup(data);
@@ -237,8 +222,8 @@ int cmd_train(int argc, char **argv)
         goto fail;
 
     if (!cli_quiet) {
-        fprintf(stderr, "trained %s on %zu rows, %zu labels, pooling %s", pipeline_classifier_name(fa.spec.clf),
-                c.ds.n, m.k, features_pool_name(fa.spec.feat.pool));
+        fprintf(stderr, "trained %s on %zu rows, %zu labels, pooling %s", pipeline_classifier_name(fa->spec.clf),
+                c.ds.n, m.k, features_pool_name(fa->spec.feat.pool));
         if (info.stats.tokens)
             fprintf(stderr, "; %.1f%% of tokens %s", 100.0 * (double)info.stats.with_vector / (double)info.stats.tokens,
                     vs ? "had a vector" : "were in the vocabulary");
@@ -255,6 +240,5 @@ done:
     model_release(&m);
     vecset_close(vs);
     corpus_release(&c);
-    cli_parser_release(&p);
     return rc;
 }

@@ -17,12 +17,19 @@
 #include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
 
-static const struct cli_opt coverage_opts[] = {
-    DATA_OPTIONS,
-    { "top", 'k', "<n>", "how many missing tokens to list (default: 20)" },
-    { "quiet", 'q', NULL, "no notes on stderr" },
-    { NULL, 0, NULL, NULL },
+struct coverage_args {
+    struct common_data da;
+    long top;
 };
+
+#define A struct coverage_args
+static const struct cli_opt coverage_opts[] = {
+    COMMON_DATA_OPTIONS(A, da),
+    CLI_OPT_LONG("top", 'k', "<n>", "how many missing tokens to list (default: 20)", A, top, 0, 1000000),
+    CLI_OPT_QUIET("no notes on stderr"),
+    CLI_OPT_END,
+};
+#undef A
 
 const struct cli_cmd vectors_coverage_info = {
     "vectors coverage", "<vectors.vecs> <data.csv> [--text-col NAME]...",
@@ -54,50 +61,32 @@ static double pct(uint64_t a, uint64_t b)
 
 int vectors_coverage(int argc, char **argv)
 {
-    const struct cli_cmd *cmd = &vectors_coverage_info;
-    struct cli_parser p;
     struct err e = ERR_INIT;
-    struct data_args a;
+    struct coverage_args ca;
     struct dataset d = DATASET_INIT;
     struct dataset_options dopt;
     struct text_tokens t = TEXT_TOKENS_INIT;
-    const char *val;
-    long top = 20;
-    int rc = ERR_INPUT, o;
+    const char *pos[2];
     vecset *v = NULL;
     vocab *voc = NULL;
     struct miss *miss = NULL;
-    data_args_init(&a);
-    cli_parser_init(&p, cmd, argc, argv);
-    while ((o = cli_next(&p, &val)) >= 0) {
-        const char *name = opt_name(cmd, o);
-        int taken = data_args_option(&a, cmd, name, val);
-        if (taken < 0)
-            goto out;
-        if (taken)
-            continue;
-        if (strcmp(name, "top") == 0 && cli_long(cmd, "top", val, 0, 1000000, &top) < 0)
-            goto out;
-    }
-    if (o == CLI_HELP) {
-        rc = ERR_OK;
-        goto out;
-    }
-    if (o == CLI_FAIL)
-        goto out;
-    if (p.npos != 2) {
-        rc = cli_usage(cmd, "'vectors coverage' needs a packed store and a CSV file, got %d arguments", p.npos);
-        goto out;
-    }
-    if (!(v = vecset_open(p.pos[0], &e)))
+    common_data_init(&ca.da);
+    ca.top = 20;
+    int rc = cli_parse_exact(&vectors_coverage_info, argc, argv, &ca, 2, pos,
+                             "'vectors coverage' needs a packed store and a CSV file, got %d arguments");
+    if (rc != CLI_END)
+        return rc;
+    const struct common_data *a = &ca.da;
+    long top = ca.top;
+    if (!(v = vecset_open(pos[0], &e)))
         goto fail;
-    data_args_dataset(&a, 0, &dopt);
-    if (dataset_load(&d, p.pos[1], &dopt, &e) < 0)
+    common_data_options(a, 0, &dopt);
+    if (dataset_load(&d, pos[1], &dopt, &e) < 0)
         goto fail;
     voc = vocab_new();
     for (size_t i = 0; i < d.n; i++) {
         text_tokens_clear(&t);
-        if (text_tokenize(d.text[i], strlen(d.text[i]), &a.text, &t, &e) < 0) {
+        if (text_tokenize(d.text[i], strlen(d.text[i]), &a->text, &t, &e) < 0) {
             /* the reader has checked the UTF-8 already; say where anyway */
             struct err e2 = ERR_INIT;
             err_set(&e2, d.path, d.line[i], "%s", e.msg);
@@ -120,8 +109,8 @@ int vectors_coverage(int argc, char **argv)
         }
     }
     qsort(miss, nmiss, sizeof *miss, by_count);
-    printf("%-16s %s (%zu vectors, dimension %zu)\n", "vectors", p.pos[0], vecset_count(v), vecset_dim(v));
-    printf("%-16s %s (%zu rows)\n", "data", p.pos[1], d.n);
+    printf("%-16s %s (%zu vectors, dimension %zu)\n", "vectors", pos[0], vecset_count(v), vecset_dim(v));
+    printf("%-16s %s (%zu rows)\n", "data", pos[1], d.n);
     printf("%-16s %10llu  with a vector %10llu  (%.1f%%)\n", "tokens", (unsigned long long)total,
            (unsigned long long)found, pct(found, total));
     printf("%-16s %10zu  with a vector %10llu  (%.1f%%)\n", "distinct tokens", nd, (unsigned long long)dfound,
@@ -142,6 +131,5 @@ out:
     text_tokens_release(&t);
     dataset_release(&d);
     vecset_close(v);
-    cli_parser_release(&p);
     return rc;
 }

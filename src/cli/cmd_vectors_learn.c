@@ -22,34 +22,43 @@
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 
-enum {
-    O_OUTPUT, O_DIM, O_WINDOW, O_NEG, O_EPOCHS, O_MIN_FREQ, O_SUBSAMPLE, O_LR, O_START, O_TOKENS
+struct learn_args {
+    struct embed_params p;
+    struct common_data da;
+    const char *out, *start, *tokens;
+    long min_freq;
 };
 
-/* Text, CSV and run options are parsed by common.c's data_args, so the
- * tokeniser settings mean exactly what they mean for classification. */
+/* Text, CSV and run options are common.c's, so the tokeniser settings mean
+ * exactly what they mean for classification. */
+#define A struct learn_args
 static const struct cli_opt opts[] = {
-    [O_OUTPUT] = { "output", 'o', "<file>", "packed vector set to write (.vecs); required" },
-    [O_DIM] = { "dimensions", 0, "<n>", "numbers per word vector, 1..10000 (default: 100)" },
-    [O_WINDOW] = { "window", 0, "<n>", "widest distance to a context word (default: 5)" },
-    [O_NEG] = { "negatives", 0, "<n>", "noise words drawn per context word (default: 5)" },
-    [O_EPOCHS] = { "epochs", 0, "<n>", "passes over the corpus (default: 5)" },
-    [O_MIN_FREQ] = { "min-freq", 0, "<n>", "ignore words seen fewer times (default: 5)" },
-    [O_SUBSAMPLE] = { "subsample", 0, "<t>", "thin out words more frequent than t; 0 = off (default: 1e-4)" },
-    [O_LR] = { "learning-rate", 0, "<r>", "starting step size, decays linearly (default: 0.025)" },
-    [O_START] = { "start-from", 0, "<file>", "begin known words at their vectors in this .vecs" },
-    [O_TOKENS] = { "write-tokens", 0, "<file>", "also write the corpus as training sees it, one document a line" },
-    { "text-col", 0, "<name>", "CSV column holding text; repeat to join several (default: text)" },
-    { "encoding", 0, "<name>", "CSV input: utf-8 | windows-1252 | latin-1 (default: utf-8)" },
-    { "replace-invalid", 0, NULL, "CSV input: replace invalid UTF-8 by U+FFFD instead of stopping" },
-    { "keep-accents", 0, NULL, "keep accents on Latin letters (default: cafe = café)" },
-    { "mask-numbers", 0, NULL, "replace numbers by a placeholder token (default: keep them)" },
-    { "keep-emails", 0, NULL, "keep e-mail addresses and URLs (default: masked: personal data)" },
-    { "seed", 's', "<n>", "random seed (default: 1)" },
-    { "threads", 't', "<n>", "training threads (default: 1, which repeats exactly)" },
-    { "quiet", 'q', NULL, "no progress or summary on stderr" },
-    { NULL, 0, NULL, NULL },
+    CLI_OPT_STR("output", 'o', "<file>", "packed vector set to write (.vecs); required", A, out),
+    CLI_OPT_SIZE("dimensions", 0, "<n>", "numbers per word vector, 1..10000 (default: 100)", A, p.dim, 1,
+                 EMBED_MAX_DIM),
+    CLI_OPT_INT("window", 0, "<n>", "widest distance to a context word (default: 5)", A, p.window, 1, 1000),
+    CLI_OPT_INT("negatives", 0, "<n>", "noise words drawn per context word (default: 5)", A, p.negatives, 1, 1000),
+    CLI_OPT_INT("epochs", 0, "<n>", "passes over the corpus (default: 5)", A, p.epochs, 1, 100000),
+    CLI_OPT_LONG("min-freq", 0, "<n>", "ignore words seen fewer times (default: 5)", A, min_freq, 1, LONG_MAX),
+    CLI_OPT_DOUBLE("subsample", 0, "<t>", "thin out words more frequent than t; 0 = off (default: 1e-4)", A,
+                   p.subsample, 0, 0.999),
+    CLI_OPT_DOUBLE("learning-rate", 0, "<r>", "starting step size, decays linearly (default: 0.025)", A,
+                   p.learning_rate, 1e-9, 10),
+    CLI_OPT_STR("start-from", 0, "<file>", "begin known words at their vectors in this .vecs", A, start),
+    CLI_OPT_STR("write-tokens", 0, "<file>", "also write the corpus as training sees it, one document a line", A,
+                tokens),
+    COMMON_OPT_TEXT_COL("CSV column holding text; repeat to join several (default: text)", A, da),
+    COMMON_OPT_ENCODING("CSV input: utf-8 | windows-1252 | latin-1 (default: utf-8)", A, da),
+    COMMON_OPT_REPLACE_INVALID("CSV input: replace invalid UTF-8 by U+FFFD instead of stopping", A, da),
+    COMMON_OPT_KEEP_ACCENTS("keep accents on Latin letters (default: cafe = café)", A, da),
+    COMMON_OPT_MASK_NUMBERS("replace numbers by a placeholder token (default: keep them)", A, da),
+    COMMON_OPT_KEEP_EMAILS("keep e-mail addresses and URLs (default: masked: personal data)", A, da),
+    COMMON_OPT_SEED("random seed (default: 1)", A, da),
+    COMMON_OPT_THREADS("training threads (default: 1, which repeats exactly)", A, da),
+    CLI_OPT_QUIET("no progress or summary on stderr"),
+    CLI_OPT_END,
 };
+#undef A
 
 const struct cli_cmd cmd_vectors_learn_info = {
     "vectors learn",
@@ -117,74 +126,33 @@ static int write_tokens(const struct embed_corpus *c, const char *path, struct e
 int cmd_vectors_learn(int argc, char **argv)
 {
     const struct cli_cmd *cmd = &cmd_vectors_learn_info;
-    struct embed_params p = EMBED_PARAMS_INIT;
+    struct embed_params pinit = EMBED_PARAMS_INIT;
     struct embed_corpus c = EMBED_CORPUS_INIT;
-    struct data_args da;
+    struct learn_args a;
     struct err e = ERR_INIT;
     struct cli_parser ps;
-    const char *out = NULL, *start = NULL, *tokens = NULL;
-    long min_freq = 5;
     float *vec = NULL;
     unsigned char *known = NULL;
     vecset *from = NULL;
-    int status = ERR_INPUT, opt, took;
-    const char *val;
-    long n;
+    int status = ERR_INPUT;
 
     cli_quiet = 0;
-    data_args_init(&da);
-    da.threads = 1; /* repeatable unless asked otherwise */
-    cli_parser_init(&ps, cmd, argc, argv);
-    while ((opt = cli_next(&ps, &val)) >= 0) {
-        if ((took = data_args_option(&da, cmd, opt_name(cmd, opt), val)) < 0)
-            goto out;
-        if (took)
-            continue;
-        switch (opt) {
-        case O_OUTPUT: out = val; break;
-        case O_START: start = val; break;
-        case O_TOKENS: tokens = val; break;
-        case O_SUBSAMPLE:
-            if (cli_double(cmd, opts[opt].name, val, 0, 0.999, &p.subsample) < 0)
-                goto out;
-            break;
-        case O_LR:
-            if (cli_double(cmd, opts[opt].name, val, 1e-9, 10, &p.learning_rate) < 0)
-                goto out;
-            break;
-        case O_MIN_FREQ:
-            if (cli_long(cmd, opts[opt].name, val, 1, LONG_MAX, &min_freq) < 0)
-                goto out;
-            break;
-        default: {
-            /* the whole-number options, each with its range */
-            static const struct { int opt; long lo, hi; } range[] = {
-                { O_DIM, 1, EMBED_MAX_DIM }, { O_WINDOW, 1, 1000 }, { O_NEG, 1, 1000 },
-                { O_EPOCHS, 1, 100000 },
-            };
-            for (size_t i = 0; i < sizeof range / sizeof range[0]; i++)
-                if (range[i].opt == opt &&
-                    cli_long(cmd, opts[opt].name, val, range[i].lo, range[i].hi, &n) < 0)
-                    goto out;
-            if (opt == O_DIM)
-                p.dim = (size_t)n;
-            else if (opt == O_WINDOW)
-                p.window = (int)n;
-            else if (opt == O_NEG)
-                p.negatives = (int)n;
-            else if (opt == O_EPOCHS)
-                p.epochs = (int)n;
-        }
-        }
-    }
+    memset(&a, 0, sizeof a);
+    a.p = pinit;
+    a.min_freq = 5;
+    common_data_init(&a.da);
+    a.da.threads = 1; /* repeatable unless asked otherwise */
+    int r = cli_parse(&ps, cmd, argc, argv, &a);
+    struct embed_params p = a.p;
+    struct common_data da = a.da;
+    const char *out = a.out, *start = a.start, *tokens = a.tokens;
+    long min_freq = a.min_freq;
     p.seed = da.seed;
     p.threads = da.threads;
-    if (opt == CLI_HELP) {
-        status = ERR_OK;
+    if (r != CLI_END) {
+        status = cli_parse_status(r);
         goto out;
     }
-    if (opt == CLI_FAIL)
-        goto out;
     if (ps.npos != 1) {
         if (ps.npos == 0)
             cli_usage(cmd, "no corpus file given");

@@ -23,15 +23,26 @@
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 
-static const struct cli_opt opts[] = {
-    { "output", 'o', "<file>", "where to write the SVG drawing (default: - for stdout)" },
-    { "neighbours", 'k', "<n>", "also map the n nearest words of each word given (default: 0)" },
-    MAP_OPTIONS,
-    { "seed", 's', "<n>", "seed of the map's random start (default: 1)" },
-    { "keep-accents", 0, NULL, "the store was packed with --keep-accents" },
-    { "quiet", 'q', NULL, "no notes on stderr" },
-    { NULL, 0, NULL, NULL },
+struct vmap_args {
+    struct map_args ma;
+    const char *out;
+    long k;
+    uint64_t seed;
+    int keep_accents;
 };
+
+#define A struct vmap_args
+static const struct cli_opt opts[] = {
+    CLI_OPT_STR("output", 'o', "<file>", "where to write the SVG drawing (default: - for stdout)", A, out),
+    CLI_OPT_LONG("neighbours", 'k', "<n>", "also map the n nearest words of each word given (default: 0)", A, k, 0,
+                 1000),
+    MAP_OPTIONS(A, ma),
+    CLI_OPT_U64("seed", 's', "<n>", "seed of the map's random start (default: 1)", A, seed, 0, 0x7fffffffffffffffL),
+    CLI_OPT_FLAG("keep-accents", 0, "the store was packed with --keep-accents", A, keep_accents),
+    CLI_OPT_QUIET("no notes on stderr"),
+    CLI_OPT_END,
+};
+#undef A
 
 const struct cli_cmd vectors_map_info = {
     "vectors map", "<vectors.vecs> <word>... -o MAP.svg",
@@ -116,11 +127,15 @@ static void add_row(size_t *rows, size_t *n, size_t r)
 int vectors_map(int argc, char **argv)
 {
     const struct cli_cmd *cmd = &vectors_map_info;
-    struct map_args ma;
-    map_args_init(&ma);
-    const char *out = "-", *val;
-    long k = 0, seed = 1;
-    int keep_accents = 0, rc = ERR_INPUT, i;
+    struct vmap_args a;
+    memset(&a, 0, sizeof a);
+    map_args_init(&a.ma);
+    a.out = "-";
+    a.seed = 1;
+    struct map_args *ma = &a.ma;
+    const char *out = a.out;
+    long k = 0;
+    int rc = ERR_INPUT;
     struct cli_parser p;
     struct err e = ERR_INIT;
     vecset *v = NULL;
@@ -131,42 +146,26 @@ int vectors_map(int argc, char **argv)
     float *q = NULL;
     struct vecset_hit *hits = NULL;
     ofile *o = NULL, *oc = NULL;
-    cli_parser_init(&p, cmd, argc, argv);
-    while ((i = cli_next(&p, &val)) >= 0) {
-        const char *name = cmd->opts[i].name;
-        int t = map_args_option(&ma, cmd, name, val);
-        if (t < 0)
-            goto out;
-        if (t > 0)
-            continue;
-        if (strcmp(name, "output") == 0)
-            out = val;
-        else if (strcmp(name, "neighbours") == 0 && cli_long(cmd, name, val, 0, 1000, &k) < 0)
-            goto out;
-        else if (strcmp(name, "seed") == 0 && cli_long(cmd, name, val, 0, 0x7fffffffffffffffL, &seed) < 0)
-            goto out;
-        else if (strcmp(name, "keep-accents") == 0)
-            keep_accents = 1;
-        else if (strcmp(name, "quiet") == 0)
-            cli_quiet = 1;
-    }
-    if (i != CLI_END) {
-        rc = i == CLI_HELP ? ERR_OK : ERR_INPUT;
+    int r = cli_parse(&p, cmd, argc, argv, &a);
+    if (r != CLI_END) {
+        rc = cli_parse_status(r);
         goto out;
     }
+    out = a.out;
+    k = a.k;
     if (p.npos < 2) {
         rc = cli_usage(cmd, "'vectors map' needs a packed store and words to map");
         goto out;
     }
-    ma.tp.seed = (uint64_t)seed;
+    ma->tp.seed = a.seed;
     size_t nw = (size_t)p.npos - 1;
     const char *ins[] = { p.pos[0] };
-    if (ofile_check_distinct(out, ins, 1, &e) < 0 || (ma.coords && ofile_check_distinct(ma.coords, ins, 1, &e) < 0))
+    if (ofile_check_distinct(out, ins, 1, &e) < 0 || (ma->coords && ofile_check_distinct(ma->coords, ins, 1, &e) < 0))
         goto fail;
     if (!(v = vecset_open(p.pos[0], &e)))
         goto fail;
     given = xcalloc(nw, sizeof *given);
-    if (vectors_find_words(v, p.pos + 1, nw, keep_accents, given, &e) < 0)
+    if (vectors_find_words(v, p.pos + 1, nw, a.keep_accents, given, &e) < 0)
         goto fail;
     size_t D = vecset_dim(v);
     rows = xcalloc(xmul(nw, (size_t)k + 1), sizeof *rows);
@@ -201,12 +200,12 @@ int vectors_map(int argc, char **argv)
         words[r] = vecset_word(v, rows[r]);
     }
     Y = xcalloc(xmul(n, 2), sizeof *Y);
-    if (tsne_run(X, n, D, &ma.tp, Y, &e) < 0)
+    if (tsne_run(X, n, D, &ma->tp, Y, &e) < 0)
         goto fail;
     char what[512];
     snprintf(what, sizeof what, "unit word vectors of %.400s", vecset_path(v));
-    caption = map_caption_new(WORD_CAPTION, &ma, n, what);
-    if (!(o = ofile_open(out, &e)) || (ma.coords && !(oc = ofile_open(ma.coords, &e))))
+    caption = map_caption_new(WORD_CAPTION, ma, n, what);
+    if (!(o = ofile_open(out, &e)) || (ma->coords && !(oc = ofile_open(ma->coords, &e))))
         goto fail;
     draw(ofile_fp(o), Y, n, words, caption);
     if (oc)
@@ -219,7 +218,7 @@ int vectors_map(int argc, char **argv)
     }
     oc = NULL;
     cli_note("mapped %zu words (%zu asked for, the rest their neighbours); seed %llu", n, nw,
-             (unsigned long long)ma.tp.seed);
+             (unsigned long long)ma->tp.seed);
     rc = ERR_OK;
     goto out;
 fail:

@@ -9,12 +9,19 @@
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 
-static const struct cli_opt near_opts[] = {
-    { "count", 'k', "<n>", "how many neighbours (default: 10)" },
-    { "threads", 0, "<n>", "scanning threads (default: processors online)" },
-    { "keep-accents", 0, NULL, "the store was packed with --keep-accents" },
-    { NULL, 0, NULL, NULL },
+struct near_args {
+    long k, threads;
+    int keep_accents;
 };
+
+#define A struct near_args
+static const struct cli_opt near_opts[] = {
+    CLI_OPT_LONG("count", 'k', "<n>", "how many neighbours (default: 10)", A, k, 1, 100000),
+    CLI_OPT_LONG("threads", 0, "<n>", "scanning threads (default: processors online)", A, threads, 1, 64),
+    CLI_OPT_FLAG("keep-accents", 0, "the store was packed with --keep-accents", A, keep_accents),
+    CLI_OPT_END,
+};
+#undef A
 
 const struct cli_cmd vectors_near_info = {
     "vectors near", "<vectors.vecs> <word>... [-k N]",
@@ -46,27 +53,17 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
 {
     struct cli_parser p;
     struct err e = ERR_INIT;
-    const char *val;
-    long k = 10, threads = vectors_default_threads();
-    int keep_accents = 0, rc = ERR_INPUT, o;
+    struct near_args a = { 10, vectors_default_threads(), 0 };
+    int rc = ERR_INPUT;
     vecset *v = NULL;
     size_t *rows = NULL;
     float *q = NULL;
     struct vecset_hit *hits = NULL;
-    cli_parser_init(&p, cmd, argc, argv);
-    while ((o = cli_next(&p, &val)) >= 0) {
-        switch (o) {
-        case 0: if (cli_long(cmd, "count", val, 1, 100000, &k) < 0) goto out; break;
-        case 1: if (cli_long(cmd, "threads", val, 1, 64, &threads) < 0) goto out; break;
-        case 2: keep_accents = 1; break;
-        }
-    }
-    if (o == CLI_HELP) {
-        rc = ERR_OK;
+    int r = cli_parse(&p, cmd, argc, argv, &a);
+    if (r != CLI_END) {
+        rc = cli_parse_status(r);
         goto out;
     }
-    if (o == CLI_FAIL)
-        goto out;
     size_t nw = p.npos > 0 ? (size_t)p.npos - 1 : 0;
     if (nw < nwords_min || nw > nwords_max) {
         if (nwords_min == nwords_max)
@@ -79,7 +76,7 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
     if (!(v = vecset_open(p.pos[0], &e)))
         goto fail;
     rows = xcalloc(nw, sizeof *rows);
-    if (vectors_find_words(v, p.pos + 1, nw, keep_accents, rows, &e) < 0)
+    if (vectors_find_words(v, p.pos + 1, nw, a.keep_accents, rows, &e) < 0)
         goto fail;
     size_t dim = vecset_dim(v);
     q = xcalloc(dim, sizeof *q);
@@ -94,8 +91,8 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
         for (size_t j = 0; j < dim; j++)
             q[j] += (float)(s * r[j]);
     }
-    hits = xcalloc((size_t)k, sizeof *hits);
-    size_t n = vecset_nearest(v, q, (size_t)k, rows, nw, (int)threads, hits);
+    hits = xcalloc((size_t)a.k, sizeof *hits);
+    size_t n = vecset_nearest(v, q, (size_t)a.k, rows, nw, (int)a.threads, hits);
     vectors_print_hits(v, hits, n);
     rc = ERR_OK;
     goto out;

@@ -1,4 +1,5 @@
-/* common.c -- shared options of the data-reading commands (see common.h). */
+/* common.c -- the options and set-up steps the data-reading commands share
+ * (see common.h). */
 #include "common.h"
 
 #include <malloc.h>
@@ -11,66 +12,93 @@
 #include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
 
-int cores(void)
+int common_cores(void)
 {
     long n = sysconf(_SC_NPROCESSORS_ONLN);
     return n < 1 ? 1 : n > 256 ? 256 : (int)n;
 }
 
-void data_args_init(struct data_args *a)
+/* ---- the option parsers ---- */
+
+int common_take_text_col(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    (void)o;
+    struct common_data *a = dst;
+    if (a->ntext == COMMON_MAX_TEXT_COLS) {
+        cli_usage(cmd, "at most %d --text-col options", COMMON_MAX_TEXT_COLS);
+        return -1;
+    }
+    a->text_cols[a->ntext++] = val;
+    return 0;
+}
+
+int common_take_encoding(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    (void)o;
+    if (csv_encoding_parse(val, dst) < 0) {
+        cli_usage(cmd, "option '--encoding' takes utf-8, windows-1252 or latin-1, not '%s'", val);
+        return -1;
+    }
+    return 0;
+}
+
+int common_take_keep_emails(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    (void)cmd, (void)o, (void)val;
+    struct text_options *t = dst;
+    t->mask_email = t->mask_url = 0;
+    return 0;
+}
+
+int common_take_pool(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    (void)o;
+    if (features_pool_parse(val, dst) < 0) {
+        cli_usage(cmd, "option '--pool' takes mean, tfidf, sif or bow, not '%s'", val);
+        return -1;
+    }
+    return 0;
+}
+
+int common_take_classifier(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    (void)o;
+    if (pipeline_classifier_parse(val, dst) < 0) {
+        cli_usage(cmd, "option '--classifier' takes logreg, svm-linear or svm-rbf, not '%s'", val);
+        return -1;
+    }
+    return 0;
+}
+
+int common_take_class_weight(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    (void)o;
+    int *balanced = dst;
+    if (strcmp(val, "balanced") == 0)
+        *balanced = 1;
+    else if (strcmp(val, "none") == 0)
+        *balanced = 0;
+    else {
+        cli_usage(cmd, "option '--class-weight' takes none or balanced, not '%s'", val);
+        return -1;
+    }
+    return 0;
+}
+
+/* ---- set-up ---- */
+
+void common_data_init(struct common_data *a)
 {
     memset(a, 0, sizeof *a);
     struct csv_options c = CSV_OPTIONS_INIT;
     struct text_options t = TEXT_OPTIONS_INIT;
     a->csv = c;
     a->text = t;
-    a->threads = cores();
+    a->threads = common_cores();
     a->seed = 1;
 }
 
-int data_args_option(struct data_args *a, const struct cli_cmd *cmd, const char *name, const char *val)
-{
-    long v;
-    if (strcmp(name, "text-col") == 0) {
-        if (a->ntext == MAX_TEXT_COLS) {
-            cli_usage(cmd, "at most %d --text-col options", MAX_TEXT_COLS);
-            return -1;
-        }
-        a->text_cols[a->ntext++] = val;
-    } else if (strcmp(name, "label-col") == 0) {
-        a->label_col = val;
-    } else if (strcmp(name, "group-col") == 0) {
-        a->group_col = val;
-    } else if (strcmp(name, "encoding") == 0) {
-        if (csv_encoding_parse(val, &a->csv.encoding) < 0) {
-            cli_usage(cmd, "option '--encoding' takes utf-8, windows-1252 or latin-1, not '%s'", val);
-            return -1;
-        }
-    } else if (strcmp(name, "replace-invalid") == 0) {
-        a->csv.replace_invalid = 1;
-    } else if (strcmp(name, "keep-accents") == 0) {
-        a->text.keep_accents = 1;
-    } else if (strcmp(name, "mask-numbers") == 0) {
-        a->text.mask_number = 1;
-    } else if (strcmp(name, "keep-emails") == 0) {
-        a->text.mask_email = a->text.mask_url = 0;
-    } else if (strcmp(name, "seed") == 0) {
-        if (cli_long(cmd, name, val, 0, 0x7fffffffffffffffL, &v) < 0)
-            return -1;
-        a->seed = (uint64_t)v;
-    } else if (strcmp(name, "threads") == 0) {
-        if (cli_long(cmd, name, val, 1, 256, &v) < 0)
-            return -1;
-        a->threads = (int)v;
-    } else if (strcmp(name, "quiet") == 0) {
-        cli_quiet = 1;
-    } else {
-        return 0;
-    }
-    return 1;
-}
-
-void data_args_dataset(const struct data_args *a, int labelled, struct dataset_options *o)
+void common_data_options(const struct common_data *a, int labelled, struct dataset_options *o)
 {
     static const char *const default_text[] = { "text" };
     memset(o, 0, sizeof *o);
@@ -81,56 +109,63 @@ void data_args_dataset(const struct data_args *a, int labelled, struct dataset_o
     o->csv = a->csv;
 }
 
-void fit_args_init(struct fit_args *f)
+void common_fit_init(struct common_fit *f)
 {
     struct pipeline_spec s = PIPELINE_SPEC_INIT;
     f->vectors = NULL;
     f->spec = s;
 }
 
-int fit_args_option(struct fit_args *f, const struct cli_cmd *cmd, const char *name, const char *val)
+void common_cv_init(struct common_cv *a, size_t repeats)
 {
-    long v;
-    if (strcmp(name, "vectors") == 0) {
-        f->vectors = val;
-    } else if (strcmp(name, "pool") == 0) {
-        if (features_pool_parse(val, &f->spec.feat.pool) < 0) {
-            cli_usage(cmd, "option '--pool' takes mean, tfidf, sif or bow, not '%s'", val);
-            return -1;
-        }
-    } else if (strcmp(name, "classifier") == 0) {
-        if (pipeline_classifier_parse(val, &f->spec.clf) < 0) {
-            cli_usage(cmd, "option '--classifier' takes logreg, svm-linear or svm-rbf, not '%s'", val);
-            return -1;
-        }
-    } else if (strcmp(name, "C") == 0) {
-        if (cli_double(cmd, name, val, 1e-9, 1e9, &f->spec.C) < 0)
-            return -1;
-    } else if (strcmp(name, "gamma") == 0) {
-        if (cli_double(cmd, name, val, 1e-12, 1e9, &f->spec.gamma) < 0)
-            return -1;
-    } else if (strcmp(name, "class-weight") == 0) {
-        if (strcmp(val, "balanced") == 0)
-            f->spec.balanced = 1;
-        else if (strcmp(val, "none") == 0)
-            f->spec.balanced = 0;
-        else {
-            cli_usage(cmd, "option '--class-weight' takes none or balanced, not '%s'", val);
-            return -1;
-        }
-    } else if (strcmp(name, "sublinear-tf") == 0) {
-        f->spec.feat.sublinear_tf = 1;
-    } else if (strcmp(name, "max-iter") == 0) {
-        if (cli_long(cmd, name, val, 1, 1000000, &v) < 0)
-            return -1;
-        f->spec.max_iter = (int)v;
-    } else {
-        return 0;
-    }
-    return 1;
+    struct cv_params cp = CV_PARAMS_INIT;
+    common_data_init(&a->da);
+    common_fit_init(&a->fa);
+    a->cp = cp;
+    a->cp.repeats = repeats;
 }
 
-void err_name_file(struct err *e, const char *path)
+void common_cv_ready(struct common_cv *a)
+{
+    a->cp.seed = a->da.seed;
+    a->cp.threads = a->da.threads;
+    a->fa.spec.seed = a->da.seed;
+}
+
+int common_load_labelled(struct corpus *c, const char *path, const struct common_data *a, struct err *e)
+{
+    struct dataset_options dopt;
+    common_data_options(a, 1, &dopt);
+    return corpus_load(c, path, &dopt, &a->text, e);
+}
+
+/* 1 when the CSV file has column 'name', 0 when not, -1 on error. */
+static int has_column(const char *path, const struct csv_options *co, const char *name, struct err *e)
+{
+    csv_reader *r = csv_open(path, co, e);
+    if (!r)
+        return -1;
+    int has = csv_col(r, name) >= 0;
+    csv_close(r);
+    return has;
+}
+
+int common_load_maybe_labelled(struct corpus *c, const char *path, struct common_data *a, const char *asked,
+                               int *labelled, struct err *e)
+{
+    struct dataset_options dopt;
+    common_data_options(a, 1, &dopt);
+    int has = has_column(path, &a->csv, dopt.label_col, e);
+    if (has < 0)
+        return -1;
+    if (!has && asked)
+        return err_set(e, path, 1, "no column '%s'", asked);
+    *labelled = has;
+    common_data_options(a, has, &dopt);
+    return corpus_load(c, path, &dopt, &a->text, e);
+}
+
+void common_name_file(struct err *e, const char *path)
 {
     size_t n = strlen(path);
     if (strncmp(e->msg, path, n) == 0 && e->msg[n] == ':')
@@ -142,25 +177,6 @@ void err_name_file(struct err *e, const char *path)
     memcpy(e->hint, inner.hint, sizeof e->hint);
 }
 
-int cv_args_option(struct cv_params *cp, const struct cli_cmd *cmd, const char *name, const char *val)
-{
-    long v;
-    if (strcmp(name, "folds") == 0) {
-        if (cli_long(cmd, name, val, 2, 1000, &v) < 0)
-            return -1;
-        cp->folds = (int)v;
-    } else if (strcmp(name, "repeats") == 0) {
-        if (cli_long(cmd, name, val, 1, 1000, &v) < 0)
-            return -1;
-        cp->repeats = (size_t)v;
-    } else if (strcmp(name, "search") == 0) {
-        cp->search = 1;
-    } else {
-        return 0;
-    }
-    return 1;
-}
-
 /* Every fold allocates and frees the same large blocks (its feature
  * matrix, the classifier's scratch; about 2 MB for 400 rows of 300-d
  * vectors).  glibc gives blocks this size back to the system on free, by
@@ -169,7 +185,7 @@ int cv_args_option(struct cv_params *cp, const struct cli_cmd *cmd, const char *
  * CPU time.  Keeping freed memory in the process for reuse
  * removes that; the peak footprint is unchanged.  Only allocation
  * placement changes, never a result. */
-void cli_keep_freed_memory(void)
+void common_keep_freed_memory(void)
 {
 #ifdef __GLIBC__
     mallopt(M_MMAP_THRESHOLD, 64 << 20);
@@ -177,7 +193,7 @@ void cli_keep_freed_memory(void)
 #endif
 }
 
-int *cv_args_groups(struct cv_params *cp, const struct corpus *c)
+int *common_cv_groups(struct cv_params *cp, const struct corpus *c)
 {
     if (!c->ds.group)
         return NULL;
@@ -191,18 +207,7 @@ int *cv_args_groups(struct cv_params *cp, const struct corpus *c)
     return g;
 }
 
-int cv_command_option(struct data_args *da, struct fit_args *fa, struct cv_params *cp, const struct cli_cmd *cmd,
-                      const char *name, const char *val)
-{
-    int t = data_args_option(da, cmd, name, val);
-    if (t == 0)
-        t = fit_args_option(fa, cmd, name, val);
-    if (t == 0)
-        t = cv_args_option(cp, cmd, name, val);
-    return t;
-}
-
-int fit_args_open_vectors(const struct fit_args *f, struct vecset **vs, struct err *e)
+int common_open_vectors(const struct common_fit *f, struct vecset **vs, struct err *e)
 {
     *vs = NULL;
     if (f->spec.feat.pool == POOL_BOW)

@@ -1,9 +1,15 @@
 /* common.h -- options and steps shared by the commands that read data or
  * fit pipelines: --text-col, --label-col, --encoding ..., --vectors,
- * --pool, --classifier, --C ...
+ * --pool, --classifier, --C ..., --folds, --repeats, --search.
  *
- * Each command splices the option macros below into its own table and hands
- * every option to *_option() first; these return 1 when they took it.
+ * The options come as rows for a command's table (cli.h): a command keeps
+ * a struct common_data (and a struct common_fit, or a struct common_cv for
+ * cross-validation) in its own args struct and splices the groups below
+ * into its table with the struct's type and the member's name, e.g.
+ *     COMMON_DATA_OPTIONS(struct audit_args, cv.da)
+ * so every shared option is spelt, defaulted, parsed and checked here once.
+ * Single rows (COMMON_OPT_*) are for the commands that keep an option but
+ * word its help their own way.
  */
 #ifndef VECSIFT_CLI_COMMON_H
 #define VECSIFT_CLI_COMMON_H
@@ -14,15 +20,17 @@
 #include "cli.h"
 #include "vecsift/corpus.h"
 #include "vecsift/csv.h"
+#include "vecsift/cv.h"
 #include "vecsift/pipeline.h"
 #include "vecsift/text.h"
 
 struct vecset;
 
-#define MAX_TEXT_COLS 32
+#define COMMON_MAX_TEXT_COLS 32
 
-struct data_args {
-    const char *text_cols[MAX_TEXT_COLS];
+/* What the data options set (and --seed, --threads). */
+struct common_data {
+    const char *text_cols[COMMON_MAX_TEXT_COLS];
     size_t ntext;
     const char *label_col;
     const char *group_col;
@@ -32,79 +40,135 @@ struct data_args {
     uint64_t seed;
 };
 
-#define DATA_OPTIONS \
-    { "text-col", 0, "<name>", "column holding the text; repeat to join several (default: text)" }, \
-    { "label-col", 0, "<name>", "column holding the label (default: label)" }, \
-    { "encoding", 0, "<name>", "utf-8 | windows-1252 | latin-1 (default: utf-8)" }, \
-    { "replace-invalid", 0, NULL, "replace invalid UTF-8 by U+FFFD instead of stopping" }, \
-    { "keep-accents", 0, NULL, "keep accents on Latin letters (default: cafe = café)" }, \
-    { "mask-numbers", 0, NULL, "replace numbers by a placeholder token (default: keep them)" }, \
-    { "keep-emails", 0, NULL, "keep e-mail addresses and URLs (default: masked: personal data)" }
-
-#define RUN_OPTIONS \
-    { "seed", 's', "<n>", "seed for every random choice (default: 1)" }, \
-    { "threads", 't', "<n>", "worker threads (default: all cores)" }, \
-    { "quiet", 'q', NULL, "no progress or notes on stderr" }
-
-#define PIPELINE_OPTIONS \
-    { "vectors", 'v', "<file>", "packed vector set (.vecs); needed unless --pool bow" }, \
-    { "pool", 'p', "<how>", "mean | tfidf | sif | bow (default: tfidf; bow needs no vectors)" }, \
-    { "classifier", 'c', "<name>", "logreg | svm-linear | svm-rbf (default: logreg)" }, \
-    { "C", 'C', "<x>", "inverse regularisation strength, > 0 (default: 1)" }, \
-    { "gamma", 0, "<x>", "svm-rbf kernel width (default: 1 / (dimensions * variance))" }, \
-    { "class-weight", 0, "<how>", "none | balanced: weight labels by n / (k * n_label) (default: none)" }, \
-    { "sublinear-tf", 0, NULL, "use 1 + ln(tf) instead of raw term counts" }, \
-    { "max-iter", 0, "<n>", "logreg: L-BFGS iteration cap (default: 1000)" }
-
-void data_args_init(struct data_args *a);
-/* 1: taken; 0: not a data/run option; -1: usage error printed. */
-int data_args_option(struct data_args *a, const struct cli_cmd *cmd, const char *name, const char *val);
-/* Dataset options from the arguments; 'labelled' selects whether the label
- * column is read.  Default text column "text", label column "label". */
-void data_args_dataset(const struct data_args *a, int labelled, struct dataset_options *o);
-
-struct fit_args {
+/* What the pipeline options set. */
+struct common_fit {
     const char *vectors;
     struct pipeline_spec spec;
 };
-void fit_args_init(struct fit_args *f);
-int fit_args_option(struct fit_args *f, const struct cli_cmd *cmd, const char *name, const char *val);
+
+/* Everything a cross-validating command shares. */
+struct common_cv {
+    struct common_data da;
+    struct common_fit fa;
+    struct cv_params cp;
+};
+
+/* ---- the option parsers (cli_take_fn) ---- */
+
+cli_take_fn common_take_text_col;     /* struct common_data: append to text_cols (at most 32) */
+cli_take_fn common_take_encoding;     /* enum csv_encoding */
+cli_take_fn common_take_keep_emails;  /* struct text_options: e-mails and URLs kept */
+cli_take_fn common_take_pool;         /* enum features_pool */
+cli_take_fn common_take_classifier;   /* enum pipeline_classifier */
+cli_take_fn common_take_class_weight; /* int: 1 balanced, 0 none */
+
+/* ---- single rows: T the args struct, D its struct common_data member,
+ * F its struct common_fit member ---- */
+
+#define COMMON_OPT_TEXT_COL(HELP, T, D) \
+    CLI_OPT_FN("text-col", 0, "<name>", HELP, T, D, struct common_data, common_take_text_col)
+#define COMMON_OPT_LABEL_COL(T, D) \
+    CLI_OPT_STR("label-col", 0, "<name>", "column holding the label (default: label)", T, D.label_col)
+#define COMMON_OPT_GROUP_COL(T, D) \
+    CLI_OPT_STR("group-col", 'g', "<name>", \
+                "keep rows sharing this column's value (a customer, a thread) in one fold", T, D.group_col)
+#define COMMON_OPT_ENCODING(HELP, T, D) \
+    CLI_OPT_FN("encoding", 0, "<name>", HELP, T, D.csv.encoding, enum csv_encoding, common_take_encoding)
+#define COMMON_OPT_REPLACE_INVALID(HELP, T, D) CLI_OPT_FLAG("replace-invalid", 0, HELP, T, D.csv.replace_invalid)
+#define COMMON_OPT_KEEP_ACCENTS(HELP, T, D) CLI_OPT_FLAG("keep-accents", 0, HELP, T, D.text.keep_accents)
+#define COMMON_OPT_MASK_NUMBERS(HELP, T, D) CLI_OPT_FLAG("mask-numbers", 0, HELP, T, D.text.mask_number)
+#define COMMON_OPT_KEEP_EMAILS(HELP, T, D) \
+    CLI_OPT_FN("keep-emails", 0, NULL, HELP, T, D.text, struct text_options, common_take_keep_emails)
+#define COMMON_OPT_SEED(HELP, T, D) \
+    CLI_OPT_U64("seed", 's', "<n>", HELP, T, D.seed, 0, 0x7fffffffffffffffL)
+#define COMMON_OPT_THREADS(HELP, T, D) CLI_OPT_INT("threads", 't', "<n>", HELP, T, D.threads, 1, 256)
+#define COMMON_OPT_VECTORS(HELP, T, F) CLI_OPT_STR("vectors", 'v', "<file>", HELP, T, F.vectors)
+#define COMMON_OPT_POOL(HELP, T, F) \
+    CLI_OPT_FN("pool", 'p', "<how>", HELP, T, F.spec.feat.pool, enum features_pool, common_take_pool)
+#define COMMON_OPT_SUBLINEAR_TF(T, F) \
+    CLI_OPT_FLAG("sublinear-tf", 0, "use 1 + ln(tf) instead of raw term counts", T, F.spec.feat.sublinear_tf)
+#define COMMON_OPT_C(HELP, T, F) CLI_OPT_DOUBLE("C", 'C', "<x>", HELP, T, F.spec.C, 1e-9, 1e9)
+#define COMMON_OPT_GAMMA(T, F) \
+    CLI_OPT_DOUBLE("gamma", 0, "<x>", "svm-rbf kernel width (default: 1 / (dimensions * variance))", T, \
+                   F.spec.gamma, 1e-12, 1e9)
+#define COMMON_OPT_CLASS_WEIGHT(T, F) \
+    CLI_OPT_FN("class-weight", 0, "<how>", "none | balanced: weight labels by n / (k * n_label) (default: none)", \
+               T, F.spec.balanced, int, common_take_class_weight)
+#define COMMON_OPT_MAX_ITER(T, F) \
+    CLI_OPT_INT("max-iter", 0, "<n>", "logreg: L-BFGS iteration cap (default: 1000)", T, F.spec.max_iter, 1, 1000000)
+#define COMMON_OPT_FOLDS(T, CP) CLI_OPT_INT("folds", 'k', "<n>", "folds, >= 2 (default: 5)", T, CP.folds, 2, 1000)
+#define COMMON_OPT_REPEATS(HELP, T, CP) CLI_OPT_SIZE("repeats", 'R', "<n>", HELP, T, CP.repeats, 1, 1000)
+
+/* ---- groups ---- */
+
+#define COMMON_DATA_OPTIONS(T, D) \
+    COMMON_OPT_TEXT_COL("column holding the text; repeat to join several (default: text)", T, D), \
+    COMMON_OPT_LABEL_COL(T, D), \
+    COMMON_OPT_ENCODING("utf-8 | windows-1252 | latin-1 (default: utf-8)", T, D), \
+    COMMON_OPT_REPLACE_INVALID("replace invalid UTF-8 by U+FFFD instead of stopping", T, D), \
+    COMMON_OPT_KEEP_ACCENTS("keep accents on Latin letters (default: cafe = café)", T, D), \
+    COMMON_OPT_MASK_NUMBERS("replace numbers by a placeholder token (default: keep them)", T, D), \
+    COMMON_OPT_KEEP_EMAILS("keep e-mail addresses and URLs (default: masked: personal data)", T, D)
+
+#define COMMON_RUN_OPTIONS(T, D) \
+    COMMON_OPT_SEED("seed for every random choice (default: 1)", T, D), \
+    COMMON_OPT_THREADS("worker threads (default: all cores)", T, D), \
+    CLI_OPT_QUIET("no progress or notes on stderr")
+
+#define COMMON_FIT_OPTIONS(T, F) \
+    COMMON_OPT_VECTORS("packed vector set (.vecs); needed unless --pool bow", T, F), \
+    COMMON_OPT_POOL("mean | tfidf | sif | bow (default: tfidf; bow needs no vectors)", T, F), \
+    CLI_OPT_FN("classifier", 'c', "<name>", "logreg | svm-linear | svm-rbf (default: logreg)", T, \
+               F.spec.clf, enum pipeline_classifier, common_take_classifier), \
+    COMMON_OPT_C("inverse regularisation strength, > 0 (default: 1)", T, F), \
+    COMMON_OPT_GAMMA(T, F), \
+    COMMON_OPT_CLASS_WEIGHT(T, F), \
+    COMMON_OPT_SUBLINEAR_TF(T, F), \
+    COMMON_OPT_MAX_ITER(T, F)
+
+/* ---- set-up ---- */
+
+/* Defaults: text column "text", label column "label", UTF-8, the text
+ * defaults of text.h, every core, seed 1. */
+void common_data_init(struct common_data *a);
+/* Dataset options from the arguments; 'labelled' selects whether the label
+ * column is read. */
+void common_data_options(const struct common_data *a, int labelled, struct dataset_options *o);
+void common_fit_init(struct common_fit *f);
+/* common_data_init, common_fit_init and CV_PARAMS_INIT with 'repeats'. */
+void common_cv_init(struct common_cv *a, size_t repeats);
+/* After parsing: --seed and --threads reach the folds and the fit. */
+void common_cv_ready(struct common_cv *a);
+
+/* Load the labelled data file 'path' as a corpus (its label column must
+ * be there).  0, or -1 with e set. */
+int common_load_labelled(struct corpus *c, const char *path, const struct common_data *a, struct err *e);
+
+/* Load 'path' as a corpus whose label column is read when the file has it
+ * (the named one, else "label"); a label column the user named (asked)
+ * must exist.  *labelled says which.  0, or -1 with e set. */
+int common_load_maybe_labelled(struct corpus *c, const char *path, struct common_data *a, const char *asked,
+                               int *labelled, struct err *e);
 
 /* Errors from fitting (features_fit, pipeline_fit) cannot know which file
  * the rows came from: prefix 'path' unless the message already starts with
  * it, keeping the code and the hint, so every bad-input message names a file. */
-void err_name_file(struct err *e, const char *path);
-
-/* --folds, --repeats and --search, for the commands that cross-validate:
- * 1 taken, 0 not one of them, -1 after a usage error. */
-struct cv_params;
-int cv_args_option(struct cv_params *cp, const struct cli_cmd *cmd, const char *name, const char *val);
+void common_name_file(struct err *e, const char *path);
 
 /* For the commands that cross-validate: keep freed blocks in the process
  * for the next fold instead of returning them to the system (allocation
  * placement only, never a result). */
-void cli_keep_freed_memory(void);
+void common_keep_freed_memory(void);
 
 /* With a group column: every row's group id (rows with the same value share
  * one), set as cp->group and cp->n_groups; the caller frees the array.
  * Without one: NULL, and cp is left as it was. */
-int *cv_args_groups(struct cv_params *cp, const struct corpus *c);
-
-/* data_args_option, then fit_args_option, then cv_args_option: the options
- * every cross-validating command shares.  Same return values. */
-int cv_command_option(struct data_args *da, struct fit_args *fa, struct cv_params *cp, const struct cli_cmd *cmd,
-                      const char *name, const char *val);
+int *common_cv_groups(struct cv_params *cp, const struct corpus *c);
 
 /* Open the vector set when the pooling needs one (error when missing). */
-int fit_args_open_vectors(const struct fit_args *f, struct vecset **vs, struct err *e);
+int common_open_vectors(const struct common_fit *f, struct vecset **vs, struct err *e);
 
-/* The name of option index 'i' in cmd's table. */
-static inline const char *opt_name(const struct cli_cmd *cmd, int i)
-{
-    return cmd->opts[i].name;
-}
-
-/* Online cores, at least 1. */
-int cores(void);
+/* Online cores, 1 to 256. */
+int common_cores(void);
 
 #endif

@@ -206,7 +206,7 @@ cJSON *compare_json(const struct compare_row *rows, const size_t *order, size_t 
     cJSON *st = cJSON_AddObjectToObject(root, "settings");
     cJSON_AddStringToObject(st, "data", s->data);
     struct dataset_options dopt;
-    data_args_dataset(s->da, 1, &dopt);
+    common_data_options(s->da, 1, &dopt);
     cJSON *tc = cJSON_AddArrayToObject(st, "text_columns");
     for (size_t t = 0; t < dopt.ntext; t++)
         cJSON_AddItemToArray(tc, cJSON_CreateString(dopt.text_cols[t]));

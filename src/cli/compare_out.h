@@ -32,7 +32,7 @@ struct compare_row {
 
 struct compare_setup {
     const char *data;
-    const struct data_args *da;
+    const struct common_data *da;
     const struct pipeline_spec *base;   /* C, gamma, class weights... shared by all */
     const struct cv_params *cp;
     size_t n_rows, n_labels;

@@ -24,7 +24,7 @@ struct curve_point {
 
 struct curve_setup {
     const char *data;
-    const struct fit_args *fa;
+    const struct common_fit *fa;
     const struct cv_params *cp;
     size_t n_rows, n_labels;
 };

@@ -13,7 +13,7 @@
 #include "vecsift/ofile.h"
 #include "vecsift/xalloc.h"
 
-void evaluate_describe(const struct fit_args *fa, char *buf, size_t n)
+void evaluate_describe(const struct common_fit *fa, char *buf, size_t n)
 {
     const struct pipeline_spec *s = &fa->spec;
     if (s->feat.pool == POOL_BOW)
@@ -271,7 +271,7 @@ cJSON *evaluate_json(const struct cv_result *r, const struct corpus *c, const st
     cJSON_AddStringToObject(st, "data", s->data);
     cJSON *tc = cJSON_AddArrayToObject(st, "text_columns");
     struct dataset_options dopt;
-    data_args_dataset(s->da, 1, &dopt);
+    common_data_options(s->da, 1, &dopt);
     for (size_t t = 0; t < dopt.ntext; t++)
         cJSON_AddItemToArray(tc, cJSON_CreateString(dopt.text_cols[t]));
     cJSON_AddStringToObject(st, "label_column", dopt.label_col);

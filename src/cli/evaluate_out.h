@@ -17,8 +17,8 @@ struct err;
 /* What was run, for headers and the JSON's "settings". */
 struct evaluate_setup {
     const char *data;
-    const struct data_args *da;
-    const struct fit_args *fa;
+    const struct common_data *da;
+    const struct common_fit *fa;
     const struct cv_params *cp;
     double target;          /* precision target for the cut-off advice */
 };
@@ -52,7 +52,7 @@ int evaluate_predictions(const char *path, const struct cv_result *r, const stru
 int evaluate_write_json(const char *path, const struct cJSON *obj, struct err *e);
 
 /* "logreg on tfidf-pooled vectors (FILE)" and similar. */
-void evaluate_describe(const struct fit_args *fa, char *buf, size_t n);
+void evaluate_describe(const struct common_fit *fa, char *buf, size_t n);
 
 
 

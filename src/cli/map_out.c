@@ -18,25 +18,6 @@ void map_args_init(struct map_args *a)
     a->coords = NULL;
 }
 
-int map_args_option(struct map_args *a, const struct cli_cmd *cmd, const char *name, const char *val)
-{
-    long v;
-    if (strcmp(name, "perplexity") == 0) {
-        if (cli_double(cmd, name, val, 1, 1e6, &a->tp.perplexity) < 0)
-            return -1;
-    } else if (strcmp(name, "iterations") == 0) {
-        /* the first 250 steps exaggerate P (tsne.h): fewer would never relax */
-        if (cli_long(cmd, name, val, 250, 1000000, &v) < 0)
-            return -1;
-        a->tp.iters = (int)v;
-    } else if (strcmp(name, "coords") == 0) {
-        a->coords = val;
-    } else {
-        return 0;
-    }
-    return 1;
-}
-
 char *map_caption_new(const char *lead, const struct map_args *a, size_t n, const char *what)
 {
     double perp = a->tp.perplexity, most = ((double)n - 1) / 3;

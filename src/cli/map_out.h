@@ -11,19 +11,23 @@
 
 struct err;
 
-#define MAP_OPTIONS \
-    { "perplexity", 0, "<x>", "t-SNE: effective number of neighbours, >= 1 (default: 30, at most (n-1)/3)" }, \
-    { "iterations", 0, "<n>", "t-SNE: gradient steps, >= 250 (default: 1000)" }, \
-    { "coords", 0, "<file>", "also write the 2-D coordinates as CSV (row, name, x, y)" }
-
 struct map_args {
     struct tsne_params tp;
     const char *coords;
 };
 
+/* The t-SNE rows of a command's table; M names the struct map_args member
+ * of the args struct T.  The first 250 steps exaggerate P (tsne.h): fewer
+ * would never relax, hence --iterations >= 250. */
+#define MAP_OPTIONS(T, M) \
+    CLI_OPT_DOUBLE("perplexity", 0, "<x>", \
+                   "t-SNE: effective number of neighbours, >= 1 (default: 30, at most (n-1)/3)", T, \
+                   M.tp.perplexity, 1, 1e6), \
+    CLI_OPT_INT("iterations", 0, "<n>", "t-SNE: gradient steps, >= 250 (default: 1000)", T, M.tp.iters, 250, \
+                1000000), \
+    CLI_OPT_STR("coords", 0, "<file>", "also write the 2-D coordinates as CSV (row, name, x, y)", T, M.coords)
+
 void map_args_init(struct map_args *a);
-/* 1: taken; 0: not a map option; -1: usage error printed. */
-int map_args_option(struct map_args *a, const struct cli_cmd *cmd, const char *name, const char *val);
 
 /* The caption under a map: 'lead' (what a t-SNE map can and cannot show,
  * e.g. SVGPLOT_MAP_CAPTION), then how this one was made ('what': e.g.

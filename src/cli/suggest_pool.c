@@ -13,7 +13,7 @@
 #include "vecsift/route.h"
 #include "vecsift/xalloc.h"
 
-int suggest_pool_load(struct suggest_pool *pl, const char *path, const struct model *m, const struct data_args *da,
+int suggest_pool_load(struct suggest_pool *pl, const char *path, const struct model *m, const struct common_data *da,
                 const char *const *reserved, size_t nreserved, struct err *e)
 {
     csv_reader *r = csv_open(path, &da->csv, e);

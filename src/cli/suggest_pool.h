@@ -25,7 +25,7 @@ struct suggest_pool {
  * route each (route_batch, keeping the feature rows).  The header may
  * not hold a column named in 'reserved' (nreserved names): the output adds
  * them.  Returns 0, or -1 with 'e' set (file:line). */
-int suggest_pool_load(struct suggest_pool *pl, const char *path, const struct model *m, const struct data_args *da,
+int suggest_pool_load(struct suggest_pool *pl, const char *path, const struct model *m, const struct common_data *da,
                 const char *const *reserved, size_t nreserved, struct err *e);
 void suggest_pool_release(struct suggest_pool *pl);
 
