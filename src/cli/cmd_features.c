@@ -61,8 +61,7 @@ int cmd_features(int argc, char **argv)
         return rc;
     rc = ERR_OK;
     struct common_data *da = &a.da;
-    struct common_fit *fa = &a.fa;
-    const char *out = a.out, *model_path = a.model;
+    const char *model_path = a.model;
 
     struct err e = ERR_INIT;
     struct model m = MODEL_INIT;
@@ -74,14 +73,14 @@ int cmd_features(int argc, char **argv)
     struct fmat X = FMAT_INIT;
     size_t *rows = NULL;
     ofile *o = NULL;
-    const char *ins[] = { data, model_path, fa->vectors };
-    if (ofile_check_distinct(out, ins, 3, &e) < 0)
+    const char *ins[] = { data, model_path, a.fa.vectors };
+    if (ofile_check_distinct(a.out, ins, 3, &e) < 0)
         goto fail;
     /* only a label column the user named must exist: the model's own is
      * a default, and new data to featurize usually has no labels */
     const char *asked_label = da->label_col;
     if (model_path) {
-        if (model_load(&m, model_path, fa->vectors, &vs, &e) < 0)
+        if (model_load(&m, model_path, a.fa.vectors, &vs, &e) < 0)
             goto fail;
         da->text = m.text;
         if (!da->ntext)
@@ -93,15 +92,13 @@ int cmd_features(int argc, char **argv)
     int labelled = 0;
     if (common_load_maybe_labelled(&c, data, da, asked_label, &labelled, &e) < 0)
         goto fail;
-    rows = xcalloc(c.ds.n ? c.ds.n : 1, sizeof *rows);
-    for (size_t r = 0; r < c.ds.n; r++)
-        rows[r] = r;
+    rows = common_all_rows(&c);
     if (model_path) {
         f = pipeline_featurizer(m.pipe);
     } else {
-        if (common_open_vectors(fa, &vs, &e) < 0)
+        if (common_open_vectors(&a.fa, &vs, &e) < 0)
             goto fail;
-        if (!(own = features_fit(&fa->spec.feat, &c.docs, rows, c.ds.n, vs, &e))) {
+        if (!(own = features_fit(&a.fa.spec.feat, &c.docs, rows, c.ds.n, vs, &e))) {
             common_name_file(&e, data);
             goto fail;
         }
@@ -110,7 +107,7 @@ int cmd_features(int argc, char **argv)
     struct features_stats st = { 0, 0, 0 };
     features_transform(f, &c.docs, rows, c.ds.n, &X, &st);
 
-    if (!(o = ofile_open(out, &e)))
+    if (!(o = ofile_open(a.out, &e)))
         goto fail;
     FILE *fp = ofile_fp(o);
     size_t D = features_dim(f);

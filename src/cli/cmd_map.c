@@ -72,7 +72,6 @@ int cmd_map(int argc, char **argv)
     if (rc != CLI_END)
         return rc;
     rc = ERR_OK;
-    struct common_fit *fa = &a.fa;
     struct map_args *ma = &a.ma;
     const char *out = a.out;
     ma->tp.seed = a.da.seed;
@@ -87,7 +86,7 @@ int cmd_map(int argc, char **argv)
     double *dense = NULL, *Y = NULL;
     char **titles = NULL, *caption = NULL;
     ofile *o = NULL, *oc = NULL;
-    const char *ins[] = { data, fa->vectors };
+    const char *ins[] = { data, a.fa.vectors };
     if (ofile_check_distinct(out, ins, 2, &e) < 0 || (ma->coords && ofile_check_distinct(ma->coords, ins, 2, &e) < 0))
         goto fail;
     if (ma->coords && strcmp(ma->coords, "-") != 0 && ofile_check_distinct(ma->coords, &out, 1, &e) < 0)
@@ -99,12 +98,10 @@ int cmd_map(int argc, char **argv)
         err_set(&e, data, 0, "a map needs at least 4 rows, the data has %zu", c.ds.n);
         goto fail;
     }
-    if (common_open_vectors(fa, &vs, &e) < 0)
+    if (common_open_vectors(&a.fa, &vs, &e) < 0)
         goto fail;
-    rows = xcalloc(c.ds.n, sizeof *rows);
-    for (size_t r = 0; r < c.ds.n; r++)
-        rows[r] = r;
-    if (!(f = features_fit(&fa->spec.feat, &c.docs, rows, c.ds.n, vs, &e)))
+    rows = common_all_rows(&c);
+    if (!(f = features_fit(&a.fa.spec.feat, &c.docs, rows, c.ds.n, vs, &e)))
         goto fail;
     struct features_stats st = { 0, 0, 0 };
     features_transform(f, &c.docs, rows, c.ds.n, &X, &st);
@@ -126,7 +123,7 @@ int cmd_map(int argc, char **argv)
         titles[r] = excerpt_new(c.ds.text[r], 200);
     char what[512];
     if (vs)
-        snprintf(what, sizeof what, "features: %s pooling of %.400s", features_pool_name(fa->spec.feat.pool),
+        snprintf(what, sizeof what, "features: %s pooling of %.400s", features_pool_name(a.fa.spec.feat.pool),
                  vecset_path(vs));
     else
         snprintf(what, sizeof what, "features: TF-IDF bag of words");
@@ -139,13 +136,8 @@ int cmd_map(int argc, char **argv)
         goto fail;
     if (oc)
         map_write_coords(ofile_fp(oc), "label", (const char *const *)c.ds.label, Y, N);
-    int bad = ofile_commit(o, &e) < 0;
-    o = NULL;
-    if (bad || (oc && ofile_commit(oc, &e) < 0)) {
-        oc = NULL;
+    if (map_commit(&o, &oc, &e) < 0)
         goto fail;
-    }
-    oc = NULL;
     if (st.empty_rows)
         cli_warn("%s: %zu rows had no word with a %s and sit together on the map", data, st.empty_rows,
                  vs ? "vector" : "column");

@@ -210,13 +210,8 @@ int vectors_map(int argc, char **argv)
     draw(ofile_fp(o), Y, n, words, caption);
     if (oc)
         map_write_coords(ofile_fp(oc), "word", words, Y, n);
-    int bad = ofile_commit(o, &e) < 0;
-    o = NULL;
-    if (bad || (oc && ofile_commit(oc, &e) < 0)) {
-        oc = NULL;
+    if (map_commit(&o, &oc, &e) < 0)
         goto fail;
-    }
-    oc = NULL;
     cli_note("mapped %zu words (%zu asked for, the rest their neighbours); seed %llu", n, nw,
              (unsigned long long)ma->tp.seed);
     rc = ERR_OK;

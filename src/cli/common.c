@@ -165,6 +165,14 @@ int common_load_maybe_labelled(struct corpus *c, const char *path, struct common
     return corpus_load(c, path, &dopt, &a->text, e);
 }
 
+size_t *common_all_rows(const struct corpus *c)
+{
+    size_t *rows = xcalloc(c->ds.n ? c->ds.n : 1, sizeof *rows);
+    for (size_t r = 0; r < c->ds.n; r++)
+        rows[r] = r;
+    return rows;
+}
+
 void common_name_file(struct err *e, const char *path)
 {
     size_t n = strlen(path);

@@ -150,6 +150,10 @@ int common_load_labelled(struct corpus *c, const char *path, const struct common
 int common_load_maybe_labelled(struct corpus *c, const char *path, struct common_data *a, const char *asked,
                                int *labelled, struct err *e);
 
+/* The rows of c, 0 .. N-1, for fitting or transforming every one (a new
+ * array of at least one entry; the caller frees it). */
+size_t *common_all_rows(const struct corpus *c);
+
 /* Errors from fitting (features_fit, pipeline_fit) cannot know which file
  * the rows came from: prefix 'path' unless the message already starts with
  * it, keeping the code and the hint, so every bad-input message names a file. */

@@ -2,8 +2,8 @@
  *
  * Adding a command:
  *   1. write src/cli/cmd_NAME.c defining cmd_NAME_info and cmd_NAME()
- *      (copy the shape of an existing one: option table, parse loop, work,
- *      one cleanup label);
+ *      (an args struct, its option table of CLI_OPT_* / COMMON_* rows,
+ *      cli_parse_exact, the work, one cleanup label; DEVELOPERS.md);
  *   2. declare it with VECSIFT_COMMAND(NAME) in commands.h;
  *   3. add a row to cmds[] below (alphabetical) and the file to meson.build;
  *   4. add tests: tests/test_cli_NAME.c or cases in tests/cli/, and document

@@ -9,6 +9,7 @@
 #include "vecsift/csv.h"
 #include "vecsift/err.h"
 #include "vecsift/jsonv.h"
+#include "vecsift/ofile.h"
 #include "vecsift/xalloc.h"
 
 void map_args_init(struct map_args *a)
@@ -16,6 +17,18 @@ void map_args_init(struct map_args *a)
     struct tsne_params tp = TSNE_PARAMS_INIT;
     a->tp = tp;
     a->coords = NULL;
+}
+
+int map_commit(ofile **o, ofile **oc, struct err *e)
+{
+    int bad = ofile_commit(*o, e) < 0;
+    *o = NULL;
+    if (bad)
+        ofile_abort(*oc); /* no coordinates without their drawing */
+    else if (*oc && ofile_commit(*oc, e) < 0)
+        bad = 1;
+    *oc = NULL;
+    return bad ? -1 : 0;
 }
 
 char *map_caption_new(const char *lead, const struct map_args *a, size_t n, const char *what)

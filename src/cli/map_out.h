@@ -7,6 +7,7 @@
 #include <stdio.h>
 
 #include "cli.h"
+#include "vecsift/ofile.h"
 #include "vecsift/tsne.h"
 
 struct err;
@@ -33,6 +34,11 @@ void map_args_init(struct map_args *a);
  * e.g. SVGPLOT_MAP_CAPTION), then how this one was made ('what': e.g.
  * "features: tfidf pooling of V.vecs").  A new string; caller frees. */
 char *map_caption_new(const char *lead, const struct map_args *a, size_t n, const char *what);
+
+/* Commit the drawing *o, then the coordinates *oc when there are any;
+ * both pointers become NULL (ofile_abort on them is then a no-op).
+ * 0, or -1 with e set when either could not be committed. */
+int map_commit(ofile **o, ofile **oc, struct err *e);
 
 /* Write rows (row, name, x, y) of Y (n, 2) as CSV to 'fp'; 'head' names the
  * second column, names[i] its cells (NULL: empty). */
