@@ -1,0 +1,312 @@
+/* serve_api.c -- the endpoints of `vecsift serve` (serve_api.h).
+ *
+ *   POST /route    one ticket {"id": ..., FIELD: "text", ...}, or a batch
+ *                  {"tickets": [ticket, ...]}; FIELD are the model's text
+ *                  columns, joined as predict joins them.  The answer has
+ *                  predict's columns as fields, numbers as predict prints
+ *                  them.
+ *   GET  /health   the model's fingerprint, labels, text fields, reloads.
+ *
+ * Every request is checked whole before any ticket is routed; a bad one
+ * gets a 4xx with {"error": {"status", "message"}} and routes nothing.
+ * Messages name the ticket and field, never their text.
+ */
+#include "serve_api.h"
+
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+#include <time.h>
+
+#include <cjson/cJSON.h>
+
+#include "vecsift/dataset.h"
+#include "vecsift/err.h"
+#include "vecsift/xalloc.h"
+
+static void reply_json(struct http_reply *out, unsigned status, cJSON *root)
+{
+    char *s = cJSON_PrintUnformatted(root);
+    cJSON_Delete(root);
+    if (!s)
+        abort(); /* cJSON's allocation failed: out of memory, as xalloc does */
+    size_t n = strlen(s);
+    out->body = xmalloc(n + 2);
+    memcpy(out->body, s, n);
+    memcpy(out->body + n, "\n", 2);
+    cJSON_free(s);
+    out->status = status;
+}
+
+/* "application/json", any case, optionally followed by parameters. */
+static int is_json_type(const char *ct)
+{
+    if (!ct)
+        return 0;
+    while (*ct == ' ')
+        ct++;
+    size_t n = strlen("application/json");
+    if (strncasecmp(ct, "application/json", n) != 0)
+        return 0;
+    ct += n;
+    while (*ct == ' ')
+        ct++;
+    return *ct == '\0' || *ct == ';';
+}
+
+static cJSON *number4(double x)
+{
+    char num[32];
+    snprintf(num, sizeof num, "%.4f", x);
+    return cJSON_CreateRaw(num);
+}
+
+/* Check one ticket: an object whose members are "id" (string or number)
+ * and the model's text fields (strings, all present).  Returns 0 or -1
+ * with the message in 'out'. */
+static int check_ticket(const struct served *m, const cJSON *t, size_t i, int batch, struct http_reply *out)
+{
+    char where[48] = "the ticket";
+    if (batch)
+        snprintf(where, sizeof where, "ticket %zu", i + 1);
+    if (!cJSON_IsObject(t)) {
+        http_error(out, 422, "%s is not a JSON object", where);
+        return -1;
+    }
+    for (const cJSON *f = t->child; f; f = f->next) {
+        if (strcmp(f->string, "id") == 0) {
+            if (!cJSON_IsString(f) && !cJSON_IsNumber(f)) {
+                http_error(out, 422, "%s has a field 'id' that is neither a string nor a number", where);
+                return -1;
+            }
+            continue;
+        }
+        size_t c = 0;
+        while (c < m->m.ntext && strcmp(f->string, m->m.text_cols[c]) != 0)
+            c++;
+        if (c == m->m.ntext) {
+            char known[256] = "";
+            for (size_t q = 0, at = 0; q < m->m.ntext && at < sizeof known; q++)
+                at += (size_t)snprintf(known + at, sizeof known - at, "%s'%s'", q ? ", " : "", m->m.text_cols[q]);
+            http_error(out, 422, "%s has an unknown field '%.64s' (a ticket has 'id' and the model's text fields %s)",
+                       where, f->string, known);
+            return -1;
+        }
+        if (!cJSON_IsString(f)) {
+            http_error(out, 422, "%s has a field '%s' that is not a string", where, f->string);
+            return -1;
+        }
+    }
+    for (size_t c = 0; c < m->m.ntext; c++)
+        if (!cJSON_GetObjectItemCaseSensitive(t, m->m.text_cols[c])) {
+            http_error(out, 422, "%s lacks the field '%s'", where, m->m.text_cols[c]);
+            return -1;
+        }
+    return 0;
+}
+
+/* The answer for one checked ticket, or NULL with the message in 'out'. */
+static cJSON *route_ticket(const struct serve_ctx *sc, const struct served *m, route_scratch *w, const cJSON *t,
+                           size_t i, int batch, char **text, size_t *tcap, struct routed *r,
+                           struct http_reply *out)
+{
+    size_t nt = m->m.ntext;
+    const char **parts = xcalloc(nt, sizeof *parts);
+    for (size_t c = 0; c < nt; c++)
+        parts[c] = cJSON_GetObjectItemCaseSensitive(t, m->m.text_cols[c])->valuestring;
+    size_t len = dataset_join_text(text, tcap, parts, nt);
+    free(parts);
+    struct err e = ERR_INIT;
+    if (route_text(w, *text, len, r, &e) < 0) {
+        if (batch)
+            http_error(out, 422, "ticket %zu: the text is not valid UTF-8 (%s)", i + 1, e.msg);
+        else
+            http_error(out, 422, "the ticket's text is not valid UTF-8 (%s)", e.msg);
+        return NULL;
+    }
+    size_t K = m->m.k;
+    const double *pr = r->prob;
+    cJSON *o = cJSON_CreateObject();
+    const cJSON *id = cJSON_GetObjectItemCaseSensitive(t, "id");
+    if (id)
+        cJSON_AddItemToObject(o, "id", cJSON_Duplicate(id, 0));
+    cJSON_AddStringToObject(o, "predicted", m->m.labels[r->best]);
+    cJSON_AddItemToObject(o, "confidence", number4(pr[r->best]));
+    int review = r->empty || pr[r->best] < m->cut;
+    cJSON_AddStringToObject(o, "route", review ? "review" : m->m.labels[r->best]);
+    if (sc->st.top > 1) {
+        /* labels by probability, ties by label order, as predict */
+        int *order = xcalloc(K, sizeof *order);
+        for (size_t k = 0; k < K; k++)
+            order[k] = (int)k;
+        for (size_t a = 1; a < K; a++)
+            for (size_t b = a; b > 0 && pr[order[b]] > pr[order[b - 1]]; b--) {
+                int tmp = order[b];
+                order[b] = order[b - 1];
+                order[b - 1] = tmp;
+            }
+        for (size_t q = 1; q < sc->st.top; q++) {
+            char key[48];
+            snprintf(key, sizeof key, "label_%zu", q + 1);
+            cJSON_AddItemToObject(o, key, q < K ? cJSON_CreateString(m->m.labels[order[q]]) : cJSON_CreateNull());
+            snprintf(key, sizeof key, "confidence_%zu", q + 1);
+            cJSON_AddItemToObject(o, key, q < K ? number4(pr[order[q]]) : cJSON_CreateNull());
+        }
+        free(order);
+    }
+    if (r->why) {
+        cJSON_AddStringToObject(o, "evidence", r->why);
+        free(r->why);
+        r->why = NULL;
+    }
+    return o;
+}
+
+static void route(struct serve_ctx *sc, const struct http_request *rq, struct http_reply *out, size_t *nt)
+{
+    if (!is_json_type(rq->ctype)) {
+        http_error(out, 415, "the body must be sent as 'Content-Type: application/json'");
+        return;
+    }
+    const char *end = NULL;
+    cJSON *root = cJSON_ParseWithLengthOpts(rq->body, rq->len, &end, 0);
+    if (root && end) {
+        while (end < rq->body + rq->len && strchr(" \t\r\n", *end))
+            end++;
+        if (end != rq->body + rq->len) {
+            cJSON_Delete(root);
+            root = NULL;
+        }
+    }
+    if (!root || memchr(rq->body, '\0', rq->len)) {
+        long line = 1;
+        const char *stop = end && end >= rq->body && end <= rq->body + rq->len ? end : rq->body;
+        for (const char *p = rq->body; p < stop; p++)
+            line += *p == '\n';
+        http_error(out, 400, "the body is not valid JSON (line %ld)", line);
+        cJSON_Delete(root);
+        return;
+    }
+    struct served *m = served_get(&sc->slot);
+    const cJSON *list = cJSON_GetObjectItemCaseSensitive(root, "tickets");
+    int batch = cJSON_IsObject(root) && cJSON_IsArray(list);
+    size_t n = batch ? (size_t)cJSON_GetArraySize(list) : 1;
+    route_scratch *w = NULL;
+    char *text = NULL;
+    size_t tcap = 0;
+    struct routed r = { 0, xcalloc(m->m.k, sizeof(double)), 0, NULL };
+    cJSON *res = NULL;
+    if (batch && root->child->next) {
+        http_error(out, 422, "a batch holds only the field 'tickets'");
+        goto done;
+    }
+    if (batch && n == 0) {
+        http_error(out, 422, "'tickets' is empty");
+        goto done;
+    }
+    if (n > sc->max_batch) {
+        http_error(out, 413, "the batch has %zu tickets, more than the limit of %zu (--max-batch)", n,
+                   sc->max_batch);
+        goto done;
+    }
+    size_t i = 0;
+    for (const cJSON *t = batch ? list->child : root; t; t = batch ? t->next : NULL, i++)
+        if (check_ticket(m, t, i, batch, out) < 0)
+            goto done;
+    w = route_scratch_new(m, &sc->st);
+    res = batch ? cJSON_CreateArray() : NULL;
+    i = 0;
+    for (const cJSON *t = batch ? list->child : root; t; t = batch ? t->next : NULL, i++) {
+        cJSON *o = route_ticket(sc, m, w, t, i, batch, &text, &tcap, &r, out);
+        if (!o)
+            goto done;
+        if (!batch) {
+            res = o;
+            break;
+        }
+        cJSON_AddItemToArray(res, o);
+    }
+    if (batch) {
+        cJSON *top = cJSON_CreateObject();
+        cJSON_AddItemToObject(top, "results", res);
+        res = top;
+    }
+    *nt = n;
+    reply_json(out, 200, res);
+    res = NULL;
+done:
+    cJSON_Delete(res);
+    free(r.prob);
+    free(r.why);
+    free(text);
+    route_scratch_free(w);
+    served_put(m);
+    cJSON_Delete(root);
+}
+
+static void health(struct serve_ctx *sc, struct http_reply *out)
+{
+    struct served *m = served_get(&sc->slot);
+    cJSON *root = cJSON_CreateObject();
+    cJSON_AddStringToObject(root, "status", "ok");
+    cJSON *mo = cJSON_AddObjectToObject(root, "model");
+    cJSON_AddStringToObject(mo, "path", sc->st.model_path);
+    cJSON_AddStringToObject(mo, "fingerprint", m->fingerprint);
+    cJSON_AddStringToObject(mo, "loaded", m->loaded);
+    cJSON_AddItemToObject(mo, "labels", cJSON_CreateStringArray((const char *const *)m->m.labels, (int)m->m.k));
+    cJSON_AddItemToObject(mo, "text_fields",
+                          cJSON_CreateStringArray((const char *const *)m->m.text_cols, (int)m->m.ntext));
+    cJSON_AddItemToObject(mo, "review_below", number4(m->cut));
+    cJSON *lim = cJSON_AddObjectToObject(root, "limits");
+    cJSON_AddNumberToObject(lim, "max_body", (double)sc->max_body);
+    cJSON_AddNumberToObject(lim, "max_batch", (double)sc->max_batch);
+    cJSON *rl = cJSON_AddObjectToObject(root, "reloads");
+    cJSON_AddNumberToObject(rl, "done", (double)atomic_load(&sc->reloads));
+    cJSON_AddNumberToObject(rl, "refused", (double)atomic_load(&sc->refused));
+    if (sc->http) {
+        unsigned long c[3];
+        http_counts(sc->http, c);
+        cJSON *an = cJSON_AddObjectToObject(root, "answered");
+        cJSON_AddNumberToObject(an, "ok", (double)c[0]);
+        cJSON_AddNumberToObject(an, "refused", (double)c[1]);
+        cJSON_AddNumberToObject(an, "failed", (double)c[2]);
+    }
+    served_put(m);
+    reply_json(out, 200, root);
+}
+
+void serve_handle(void *ctx, const struct http_request *rq, struct http_reply *out)
+{
+    struct serve_ctx *sc = ctx;
+    struct timespec t0, t1;
+    clock_gettime(CLOCK_MONOTONIC, &t0);
+    size_t nt = 0;
+    const char *known = NULL;
+    if (strcmp(rq->path, SERVE_PATH_ROUTE) == 0) {
+        known = SERVE_PATH_ROUTE;
+        if (strcmp(rq->method, "POST") != 0) {
+            http_error(out, 405, "%s takes POST", SERVE_PATH_ROUTE);
+            out->allow = "POST";
+        } else {
+            route(sc, rq, out, &nt);
+        }
+    } else if (strcmp(rq->path, SERVE_PATH_HEALTH) == 0) {
+        known = SERVE_PATH_HEALTH;
+        if (strcmp(rq->method, "GET") != 0 && strcmp(rq->method, "HEAD") != 0) {
+            http_error(out, 405, "%s takes GET", SERVE_PATH_HEALTH);
+            out->allow = "GET, HEAD";
+        } else {
+            health(sc, out);
+        }
+    } else {
+        http_error(out, 404, "no such endpoint: try POST %s or GET %s", SERVE_PATH_ROUTE, SERVE_PATH_HEALTH);
+    }
+    if (sc->log_requests) {
+        clock_gettime(CLOCK_MONOTONIC, &t1);
+        double ms = (double)(t1.tv_sec - t0.tv_sec) * 1e3 + (double)(t1.tv_nsec - t0.tv_nsec) / 1e6;
+        /* the method and a known path only: a path or body may hold personal data */
+        fprintf(stderr, "vecsift: serve: %.8s %s %u, %zu tickets, %.2f ms\n", rq->method,
+                known ? known : "(other path)", out->status, nt, ms);
+    }
+}
