@@ -159,7 +159,7 @@ int cmd_evaluate(int argc, char **argv)
     if (!cli_quiet) {
         evalout_label_table(term, &c, a.cp.folds);
         fflush(term);
-        size_t conflicting, dup = evalout_duplicates(&c, &conflicting);
+        size_t conflicting, dup = corpus_duplicates(&c, &conflicting);
         if (dup)
             cli_note("%zu %s another row word for word after normalisation (%zu of them with another "
                      "label); duplicates split across folds flatter the scores: remove them or use --group-col",

@@ -11,7 +11,6 @@
 #include "vecsift/jsonv.h"
 #include "vecsift/metrics.h"
 #include "vecsift/ofile.h"
-#include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
 
 void evalout_describe(const struct fit_args *fa, char *buf, size_t n)
@@ -76,46 +75,6 @@ void evalout_label_table(FILE *fp, const struct corpus *c, int folds)
                 "otherwise lower --folds or merge the label into a related one.\n",
             folds);
     free(cnt);
-}
-
-size_t evalout_duplicates(const struct corpus *c, size_t *conflicting)
-{
-    /* Hash each row's token-id sequence; equal hashes are compared exactly. */
-    size_t n = c->ds.n, dup = 0;
-    *conflicting = 0;
-    uint64_t *h = xcalloc(n ? n : 1, sizeof *h);
-    for (size_t i = 0; i < n; i++) {
-        size_t a = c->docs.off[i], z = c->docs.off[i + 1];
-        h[i] = vocab_hash((const char *)(c->docs.tok + a), (z - a) * sizeof *c->docs.tok) ^ (uint64_t)(z - a);
-    }
-    size_t *idx = xcalloc(n ? n : 1, sizeof *idx);
-    for (size_t i = 0; i < n; i++)
-        idx[i] = i;
-    /* sort row indices by hash (insertion into buckets would do; n is small) */
-    for (size_t i = 1; i < n; i++) {
-        size_t v = idx[i], j = i;
-        for (; j > 0 && (h[idx[j - 1]] > h[v] || (h[idx[j - 1]] == h[v] && idx[j - 1] > v)); j--)
-            idx[j] = idx[j - 1];
-        idx[j] = v;
-    }
-    for (size_t q = 1; q < n; q++) {
-        size_t i = idx[q];
-        if (c->docs.off[i + 1] == c->docs.off[i])
-            continue; /* empty texts are reported elsewhere */
-        for (size_t p = q; p-- > 0 && h[idx[p]] == h[i];) {
-            size_t j = idx[p];
-            size_t la = c->docs.off[i + 1] - c->docs.off[i], lb = c->docs.off[j + 1] - c->docs.off[j];
-            if (la == lb && memcmp(c->docs.tok + c->docs.off[i], c->docs.tok + c->docs.off[j],
-                                   la * sizeof *c->docs.tok) == 0) {
-                dup++;
-                *conflicting += c->ds.y[i] != c->ds.y[j];
-                break;
-            }
-        }
-    }
-    free(idx);
-    free(h);
-    return dup;
 }
 
 /* ---- terminal ---- */

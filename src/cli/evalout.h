@@ -44,10 +44,6 @@ void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *
 /* Label counts before any fitting, with the rare-label policy. */
 void evalout_label_table(FILE *fp, const struct corpus *c, int folds);
 
-/* Rows whose token sequences are identical: returns how many rows repeat an
- * earlier one; '*conflicting' how many of those carry another label. */
-size_t evalout_duplicates(const struct corpus *c, size_t *conflicting);
-
 /* Out-of-fold predictions CSV: row, repeat, fold, label, predicted,
  * confidence, prob:LABEL for every label. */
 int evalout_predictions(const char *path, const struct cv_result *r, const struct corpus *c, struct err *e);

@@ -21,8 +21,8 @@ struct scored {
     double *norm;       /* (n) Euclidean norms of the rows of X */
 };
 
-/* Read every row of 'path' (text columns from 'da', else the model's),
- * featurize each with the model's featurizer and score it.  The header may
+/* Read every row of 'path' (text columns from 'da', else the model's) and
+ * route each (route_batch, keeping the feature rows).  The header may
  * not hold a column named in 'reserved' (nreserved names): the output adds
  * them.  Returns 0, or -1 with 'e' set (file:line). */
 int scored_load(struct scored *pl, const char *path, const struct model *m, const struct data_args *da,

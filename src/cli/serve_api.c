@@ -21,9 +21,10 @@
 
 #include <cjson/cJSON.h>
 
-#include "vecsift/dataset.h"
 #include "vecsift/err.h"
+#include "vecsift/route.h"
 #include "vecsift/xalloc.h"
+#include "route_fields.h"
 
 static void reply_json(struct http_reply *out, unsigned status, cJSON *root)
 {
@@ -106,59 +107,55 @@ static int check_ticket(const struct served *m, const cJSON *t, size_t i, int ba
     return 0;
 }
 
-/* The answer for one checked ticket, or NULL with the message in 'out'. */
-static cJSON *route_ticket(const struct serve_ctx *sc, const struct served *m, route_scratch *w, const cJSON *t,
-                           size_t i, int batch, char **text, size_t *tcap, struct routed *r,
-                           struct http_reply *out)
+/* Scratch one request reuses from ticket to ticket. */
+struct scratch {
+    route_worker *w;
+    const char **parts;     /* (ntext) */
+    double *prob;           /* (K) */
+    int *order;             /* (K) */
+    struct route_result res;
+    char *why;
+    size_t whycap;
+};
+
+/* The answer for one checked ticket, or NULL with the message in 'out'.
+ * Routed by the library's route_text, the call predict makes, and
+ * formatted with predict's helpers (route_fields.h). */
+static cJSON *route_ticket(const struct serve_ctx *sc, const struct served *m, struct scratch *z, const cJSON *t,
+                           size_t i, int batch, struct http_reply *out)
 {
-    size_t nt = m->m.ntext;
-    const char **parts = xcalloc(nt, sizeof *parts);
+    size_t nt = m->m.ntext, K = m->m.k;
     for (size_t c = 0; c < nt; c++)
-        parts[c] = cJSON_GetObjectItemCaseSensitive(t, m->m.text_cols[c])->valuestring;
-    size_t len = dataset_join_text(text, tcap, parts, nt);
-    free(parts);
+        z->parts[c] = cJSON_GetObjectItemCaseSensitive(t, m->m.text_cols[c])->valuestring;
     struct err e = ERR_INIT;
-    if (route_text(w, *text, len, r, &e) < 0) {
+    if (route_text(z->w, z->parts, nt, z->prob, &z->res, NULL, 0, &e) < 0) {
         if (batch)
             http_error(out, 422, "ticket %zu: the text is not valid UTF-8 (%s)", i + 1, e.msg);
         else
             http_error(out, 422, "the ticket's text is not valid UTF-8 (%s)", e.msg);
         return NULL;
     }
-    size_t K = m->m.k;
-    const double *pr = r->prob;
+    const struct route_result *r = &z->res;
     cJSON *o = cJSON_CreateObject();
     const cJSON *id = cJSON_GetObjectItemCaseSensitive(t, "id");
     if (id)
         cJSON_AddItemToObject(o, "id", cJSON_Duplicate(id, 0));
-    cJSON_AddStringToObject(o, "predicted", m->m.labels[r->best]);
-    cJSON_AddItemToObject(o, "confidence", number4(pr[r->best]));
-    int review = r->empty || pr[r->best] < m->cut;
-    cJSON_AddStringToObject(o, "route", review ? "review" : m->m.labels[r->best]);
+    cJSON_AddStringToObject(o, "predicted", m->m.labels[r->label]);
+    cJSON_AddItemToObject(o, "confidence", number4(r->confidence));
+    cJSON_AddStringToObject(o, "route", r->review ? "review" : m->m.labels[r->label]);
     if (sc->st.top > 1) {
-        /* labels by probability, ties by label order, as predict */
-        int *order = xcalloc(K, sizeof *order);
-        for (size_t k = 0; k < K; k++)
-            order[k] = (int)k;
-        for (size_t a = 1; a < K; a++)
-            for (size_t b = a; b > 0 && pr[order[b]] > pr[order[b - 1]]; b--) {
-                int tmp = order[b];
-                order[b] = order[b - 1];
-                order[b - 1] = tmp;
-            }
+        route_order(z->prob, K, z->order);
         for (size_t q = 1; q < sc->st.top; q++) {
             char key[48];
             snprintf(key, sizeof key, "label_%zu", q + 1);
-            cJSON_AddItemToObject(o, key, q < K ? cJSON_CreateString(m->m.labels[order[q]]) : cJSON_CreateNull());
+            cJSON_AddItemToObject(o, key, q < K ? cJSON_CreateString(m->m.labels[z->order[q]]) : cJSON_CreateNull());
             snprintf(key, sizeof key, "confidence_%zu", q + 1);
-            cJSON_AddItemToObject(o, key, q < K ? number4(pr[order[q]]) : cJSON_CreateNull());
+            cJSON_AddItemToObject(o, key, q < K ? number4(z->prob[z->order[q]]) : cJSON_CreateNull());
         }
-        free(order);
     }
-    if (r->why) {
-        cJSON_AddStringToObject(o, "evidence", r->why);
-        free(r->why);
-        r->why = NULL;
+    if (sc->st.explain) {
+        route_evidence(r, &z->why, &z->whycap);
+        cJSON_AddStringToObject(o, "evidence", z->why);
     }
     return o;
 }
@@ -192,10 +189,8 @@ static void route(struct serve_ctx *sc, const struct http_request *rq, struct ht
     const cJSON *list = cJSON_GetObjectItemCaseSensitive(root, "tickets");
     int batch = cJSON_IsObject(root) && cJSON_IsArray(list);
     size_t n = batch ? (size_t)cJSON_GetArraySize(list) : 1;
-    route_scratch *w = NULL;
-    char *text = NULL;
-    size_t tcap = 0;
-    struct routed r = { 0, xcalloc(m->m.k, sizeof(double)), 0, NULL };
+    struct scratch z;
+    memset(&z, 0, sizeof z);
     cJSON *res = NULL;
     if (batch && root->child->next) {
         http_error(out, 422, "a batch holds only the field 'tickets'");
@@ -214,11 +209,15 @@ static void route(struct serve_ctx *sc, const struct http_request *rq, struct ht
     for (const cJSON *t = batch ? list->child : root; t; t = batch ? t->next : NULL, i++)
         if (check_ticket(m, t, i, batch, out) < 0)
             goto done;
-    w = route_scratch_new(m, &sc->st);
+    struct route_params rp = { m->cut, sc->st.explain };
+    z.w = route_worker_new(&m->m, &rp);
+    z.parts = xcalloc(m->m.ntext, sizeof *z.parts);
+    z.prob = xcalloc(m->m.k, sizeof *z.prob);
+    z.order = xcalloc(m->m.k, sizeof *z.order);
     res = batch ? cJSON_CreateArray() : NULL;
     i = 0;
     for (const cJSON *t = batch ? list->child : root; t; t = batch ? t->next : NULL, i++) {
-        cJSON *o = route_ticket(sc, m, w, t, i, batch, &text, &tcap, &r, out);
+        cJSON *o = route_ticket(sc, m, &z, t, i, batch, out);
         if (!o)
             goto done;
         if (!batch) {
@@ -237,10 +236,12 @@ static void route(struct serve_ctx *sc, const struct http_request *rq, struct ht
     res = NULL;
 done:
     cJSON_Delete(res);
-    free(r.prob);
-    free(r.why);
-    free(text);
-    route_scratch_free(w);
+    route_result_release(&z.res);
+    route_worker_free(z.w);
+    free(z.parts);
+    free(z.prob);
+    free(z.order);
+    free(z.why);
     served_put(m);
     cJSON_Delete(root);
 }

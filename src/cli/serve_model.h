@@ -1,7 +1,7 @@
 /* serve_model.h -- the model `vecsift serve` answers with: loaded and
  * validated once, shared by every request through a reference count, so
  * a reload (SIGHUP) can swap in a new one while requests that started on
- * the old one finish on it.  Also routing one ticket's text with it.
+ * the old one finish on it.  Routing itself is the library's (route.h).
  * Private to src/cli.
  */
 #ifndef VECSIFT_CLI_SERVE_MODEL_H
@@ -53,24 +53,5 @@ void served_put(struct served *m);
 /* Publish 'm' (its reference moves to the slot) and drop the slot's
  * reference to the one it replaces. */
 void served_swap(struct serve_slot *s, struct served *m);
-
-/* One routed ticket, as predict writes a row: best label, probabilities
- * (K), whether the text had nothing to go on, evidence text or NULL. */
-struct routed {
-    int best;
-    double *prob;
-    int empty;
-    char *why;
-};
-
-/* Per-request scratch for routing with one model. */
-typedef struct route_scratch route_scratch;
-route_scratch *route_scratch_new(const struct served *m, const struct serve_settings *st);
-void route_scratch_free(route_scratch *w);
-
-/* Route 'text' (UTF-8, len bytes): fills 'out' (out->prob has K slots;
- * out->why is new, caller frees).  Returns 0, or -1 with 'e' set when the
- * text is not valid UTF-8. */
-int route_text(route_scratch *w, const char *text, size_t len, struct routed *out, struct err *e);
 
 #endif
