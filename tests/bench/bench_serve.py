@@ -45,6 +45,10 @@ def reference(port):
 
     class Handler(BaseHTTPRequestHandler):
         protocol_version = "HTTP/1.1"
+        # Headers and body go out in two writes; with Nagle's algorithm on,
+        # the second waits for the client's delayed ACK (about 40 ms on
+        # Linux), which would measure TCP rather than the service.
+        disable_nagle_algorithm = True
 
         def do_POST(self):
             n = int(self.headers.get("Content-Length", 0))
