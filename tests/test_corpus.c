@@ -7,30 +7,19 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <unistd.h>
 
+#include "fixtures.h"
 #include "vecsift/corpus.h"
 #include "vecsift/err.h"
 
-static char path[64];
+static char path[128];
 
+/* 'content' as a file in a fresh directory (fixtures.h removes both) */
 static void put_file(const char *content)
 {
-    strcpy(path, "/tmp/vecsift-corpus-XXXXXX");
-    int fd = mkstemp(path);
-    cr_assert_geq(fd, 0);
-    size_t n = strlen(content);
-    cr_assert_eq(write(fd, content, n), (ssize_t)n);
-    close(fd);
+    snprintf(path, sizeof path, "%s/rows.csv", fx_tmpdir());
+    fx_write(path, content, strlen(content));
 }
-
-static void cleanup(void)
-{
-    if (path[0])
-        unlink(path);
-}
-
-TestSuite(corpus, .fini = cleanup);
 
 static const char *text_col[] = { "text" };
 

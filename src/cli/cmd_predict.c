@@ -6,7 +6,6 @@
  * depends on that row and the model alone, so the output is identical for
  * any --threads and for any split of the input into parts.
  */
-#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -14,9 +13,7 @@
 #include "commands.h"
 #include "common.h"
 #include "vecsift/csv.h"
-#include "vecsift/dataset.h"
 #include "vecsift/err.h"
-#include "vecsift/fmat.h"
 #include "vecsift/model.h"
 #include "vecsift/ofile.h"
 #include "vecsift/par.h"
@@ -25,7 +22,7 @@
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 #include "predict_run.h"
-#include "route_fields.h"
+#include "predict_fields.h"
 
 static const struct cli_opt opts[] = {
     { "output", 'o', "<file>", "where to write the routed rows (default: - for stdout)" },
@@ -97,7 +94,7 @@ static void write_batch(struct run *u, const struct batch *bt)
         u->routed += (size_t)!res->review;
         if (u->top > 1) {
             int *order = xcalloc(K, sizeof *order);
-            route_order(pr, K, order);
+            predict_label_order(pr, K, order);
             for (size_t t = 1; t < u->top; t++) {
                 cell(fp, t < K ? u->m->labels[order[t]] : "", 0);
                 snprintf(num, sizeof num, "%.4f", t < K ? pr[order[t]] : 0.0);
@@ -106,7 +103,7 @@ static void write_batch(struct run *u, const struct batch *bt)
             free(order);
         }
         if (u->explain) {
-            size_t len = route_evidence(res, &u->why, &u->whycap);
+            size_t len = predict_evidence(res, &u->why, &u->whycap);
             fputc(',', fp);
             csv_put(fp, u->why, len, 1);
         }
@@ -127,7 +124,9 @@ static void stream_work(void *ctx, void *chunk, size_t worker)
     predict_batch_route(chunk, u->w[worker], u->ntext, u->m->k);
 }
 
-/* The header goes out with the first chunk: par_stream writes a chunk
+/* The header goes out with the first chunk (the column names are fixed
+ * once the reader is open, so reading them here while another thread
+ * reads rows is safe): par_stream writes a chunk
  * only once the next one has been read, so a bad row among the first
  * 2 x PREDICT_CHUNK rows leaves nothing on stdout, where no temporary file
  * can be thrown away (a file output is discarded anyway). */

@@ -153,7 +153,7 @@ int cmd_serve(int argc, char **argv)
     struct err e = ERR_INIT;
     char *host = NULL;
     unsigned port = 0;
-    http_server *http = NULL;
+    serve_http_server *http = NULL;
     struct serve_ctx sc;
     memset(&sc, 0, sizeof sc);
     pthread_mutex_init(&sc.slot.mu, NULL);
@@ -161,7 +161,7 @@ int cmd_serve(int argc, char **argv)
     sc.max_body = (size_t)a.max_body;
     sc.max_batch = (size_t)a.max_batch;
     sc.log_requests = a.log_requests;
-    if (http_listen_parse(a.listen, &host, &port, &e) < 0) {
+    if (serve_http_listen(a.listen, &host, &port, &e) < 0) {
         rc = cli_usage(&cmd_serve_info, "%s", e.msg);
         goto done;
     }
@@ -175,13 +175,13 @@ int cmd_serve(int argc, char **argv)
     sigaddset(&set, SIGINT);
     sigaddset(&set, SIGTERM);
     pthread_sigmask(SIG_BLOCK, &set, NULL);
-    struct http_options ho = { host, port, sc.max_body, (unsigned)a.threads, serve_handle, &sc };
-    if (!(http = http_start(&ho, &e)))
+    struct serve_http_options ho = { host, port, sc.max_body, (unsigned)a.threads, serve_handle, &sc };
+    if (!(http = serve_http_start(&ho, &e)))
         goto fail;
     sc.http = http;
     log_model("loaded", a.model, sc.slot.cur);
     fprintf(stderr, "vecsift: serve: listening on http://%s%s%s:%u/ (POST %s, GET %s), %ld threads\n",
-            strchr(host, ':') ? "[" : "", host, strchr(host, ':') ? "]" : "", http_port(http),
+            strchr(host, ':') ? "[" : "", host, strchr(host, ':') ? "]" : "", serve_http_port(http),
             SERVE_PATH_ROUTE, SERVE_PATH_HEALTH, a.threads);
     cli_note("note: no ticket text is logged; tickets hold personal data, so follow local law and "
              "policy for what callers keep (docs/serve.md)");
@@ -197,8 +197,8 @@ int cmd_serve(int argc, char **argv)
         break;
     }
     unsigned long c[3];
-    http_counts(http, c);
-    http_stop(http);
+    serve_http_counts(http, c);
+    serve_http_stop(http);
     http = NULL;
     fprintf(stderr, "vecsift: serve: stopped: %lu answered, %lu refused, %lu failed; %lu reloads, %lu refused\n",
             c[0], c[1], c[2], (unsigned long)atomic_load(&sc.reloads), (unsigned long)atomic_load(&sc.refused));
@@ -207,7 +207,7 @@ int cmd_serve(int argc, char **argv)
 fail:
     rc = cli_fail(&e);
 done:
-    http_stop(http);
+    serve_http_stop(http);
     served_put(sc.slot.cur);
     pthread_mutex_destroy(&sc.slot.mu);
     free(host);

@@ -24,9 +24,9 @@
 #include "vecsift/err.h"
 #include "vecsift/route.h"
 #include "vecsift/xalloc.h"
-#include "route_fields.h"
+#include "predict_fields.h"
 
-static void reply_json(struct http_reply *out, unsigned status, cJSON *root)
+static void reply_json(struct serve_http_reply *out, unsigned status, cJSON *root)
 {
     char *s = cJSON_PrintUnformatted(root);
     cJSON_Delete(root);
@@ -66,19 +66,19 @@ static cJSON *number4(double x)
 /* Check one ticket: an object whose members are "id" (string or number)
  * and the model's text fields (strings, all present).  Returns 0 or -1
  * with the message in 'out'. */
-static int check_ticket(const struct served *m, const cJSON *t, size_t i, int batch, struct http_reply *out)
+static int check_ticket(const struct served *m, const cJSON *t, size_t i, int batch, struct serve_http_reply *out)
 {
     char where[48] = "the ticket";
     if (batch)
         snprintf(where, sizeof where, "ticket %zu", i + 1);
     if (!cJSON_IsObject(t)) {
-        http_error(out, 422, "%s is not a JSON object", where);
+        serve_http_error(out, 422, "%s is not a JSON object", where);
         return -1;
     }
     for (const cJSON *f = t->child; f; f = f->next) {
         if (strcmp(f->string, "id") == 0) {
             if (!cJSON_IsString(f) && !cJSON_IsNumber(f)) {
-                http_error(out, 422, "%s has a field 'id' that is neither a string nor a number", where);
+                serve_http_error(out, 422, "%s has a field 'id' that is neither a string nor a number", where);
                 return -1;
             }
             continue;
@@ -90,18 +90,19 @@ static int check_ticket(const struct served *m, const cJSON *t, size_t i, int ba
             char known[256] = "";
             for (size_t q = 0, at = 0; q < m->m.ntext && at < sizeof known; q++)
                 at += (size_t)snprintf(known + at, sizeof known - at, "%s'%s'", q ? ", " : "", m->m.text_cols[q]);
-            http_error(out, 422, "%s has an unknown field '%.64s' (a ticket has 'id' and the model's text fields %s)",
-                       where, f->string, known);
+            serve_http_error(out, 422,
+                             "%s has an unknown field '%.64s' (a ticket has 'id' and the model's text fields %s)",
+                             where, f->string, known);
             return -1;
         }
         if (!cJSON_IsString(f)) {
-            http_error(out, 422, "%s has a field '%s' that is not a string", where, f->string);
+            serve_http_error(out, 422, "%s has a field '%s' that is not a string", where, f->string);
             return -1;
         }
     }
     for (size_t c = 0; c < m->m.ntext; c++)
         if (!cJSON_GetObjectItemCaseSensitive(t, m->m.text_cols[c])) {
-            http_error(out, 422, "%s lacks the field '%s'", where, m->m.text_cols[c]);
+            serve_http_error(out, 422, "%s lacks the field '%s'", where, m->m.text_cols[c]);
             return -1;
         }
     return 0;
@@ -120,9 +121,9 @@ struct scratch {
 
 /* The answer for one checked ticket, or NULL with the message in 'out'.
  * Routed by the library's route_text, the call predict makes, and
- * formatted with predict's helpers (route_fields.h). */
+ * formatted with predict's helpers (predict_fields.h). */
 static cJSON *route_ticket(const struct serve_ctx *sc, const struct served *m, struct scratch *z, const cJSON *t,
-                           size_t i, int batch, struct http_reply *out)
+                           size_t i, int batch, struct serve_http_reply *out)
 {
     size_t nt = m->m.ntext, K = m->m.k;
     for (size_t c = 0; c < nt; c++)
@@ -130,9 +131,9 @@ static cJSON *route_ticket(const struct serve_ctx *sc, const struct served *m, s
     struct err e = ERR_INIT;
     if (route_text(z->w, z->parts, nt, z->prob, &z->res, NULL, 0, &e) < 0) {
         if (batch)
-            http_error(out, 422, "ticket %zu: the text is not valid UTF-8 (%s)", i + 1, e.msg);
+            serve_http_error(out, 422, "ticket %zu: the text is not valid UTF-8 (%s)", i + 1, e.msg);
         else
-            http_error(out, 422, "the ticket's text is not valid UTF-8 (%s)", e.msg);
+            serve_http_error(out, 422, "the ticket's text is not valid UTF-8 (%s)", e.msg);
         return NULL;
     }
     const struct route_result *r = &z->res;
@@ -144,7 +145,7 @@ static cJSON *route_ticket(const struct serve_ctx *sc, const struct served *m, s
     cJSON_AddItemToObject(o, "confidence", number4(r->confidence));
     cJSON_AddStringToObject(o, "route", r->review ? "review" : m->m.labels[r->label]);
     if (sc->st.top > 1) {
-        route_order(z->prob, K, z->order);
+        predict_label_order(z->prob, K, z->order);
         for (size_t q = 1; q < sc->st.top; q++) {
             char key[48];
             snprintf(key, sizeof key, "label_%zu", q + 1);
@@ -154,16 +155,16 @@ static cJSON *route_ticket(const struct serve_ctx *sc, const struct served *m, s
         }
     }
     if (sc->st.explain) {
-        route_evidence(r, &z->why, &z->whycap);
+        predict_evidence(r, &z->why, &z->whycap);
         cJSON_AddStringToObject(o, "evidence", z->why);
     }
     return o;
 }
 
-static void route(struct serve_ctx *sc, const struct http_request *rq, struct http_reply *out, size_t *nt)
+static void route(struct serve_ctx *sc, const struct serve_http_request *rq, struct serve_http_reply *out, size_t *nt)
 {
     if (!is_json_type(rq->ctype)) {
-        http_error(out, 415, "the body must be sent as 'Content-Type: application/json'");
+        serve_http_error(out, 415, "the body must be sent as 'Content-Type: application/json'");
         return;
     }
     const char *end = NULL;
@@ -181,7 +182,7 @@ static void route(struct serve_ctx *sc, const struct http_request *rq, struct ht
         const char *stop = end && end >= rq->body && end <= rq->body + rq->len ? end : rq->body;
         for (const char *p = rq->body; p < stop; p++)
             line += *p == '\n';
-        http_error(out, 400, "the body is not valid JSON (line %ld)", line);
+        serve_http_error(out, 400, "the body is not valid JSON (line %ld)", line);
         cJSON_Delete(root);
         return;
     }
@@ -193,16 +194,16 @@ static void route(struct serve_ctx *sc, const struct http_request *rq, struct ht
     memset(&z, 0, sizeof z);
     cJSON *res = NULL;
     if (batch && root->child->next) {
-        http_error(out, 422, "a batch holds only the field 'tickets'");
+        serve_http_error(out, 422, "a batch holds only the field 'tickets'");
         goto done;
     }
     if (batch && n == 0) {
-        http_error(out, 422, "'tickets' is empty");
+        serve_http_error(out, 422, "'tickets' is empty");
         goto done;
     }
     if (n > sc->max_batch) {
-        http_error(out, 413, "the batch has %zu tickets, more than the limit of %zu (--max-batch)", n,
-                   sc->max_batch);
+        serve_http_error(out, 413, "the batch has %zu tickets, more than the limit of %zu (--max-batch)", n,
+                         sc->max_batch);
         goto done;
     }
     size_t i = 0;
@@ -246,7 +247,7 @@ done:
     cJSON_Delete(root);
 }
 
-static void health(struct serve_ctx *sc, struct http_reply *out)
+static void health(struct serve_ctx *sc, struct serve_http_reply *out)
 {
     struct served *m = served_get(&sc->slot);
     cJSON *root = cJSON_CreateObject();
@@ -267,7 +268,7 @@ static void health(struct serve_ctx *sc, struct http_reply *out)
     cJSON_AddNumberToObject(rl, "refused", (double)atomic_load(&sc->refused));
     if (sc->http) {
         unsigned long c[3];
-        http_counts(sc->http, c);
+        serve_http_counts(sc->http, c);
         cJSON *an = cJSON_AddObjectToObject(root, "answered");
         cJSON_AddNumberToObject(an, "ok", (double)c[0]);
         cJSON_AddNumberToObject(an, "refused", (double)c[1]);
@@ -277,7 +278,7 @@ static void health(struct serve_ctx *sc, struct http_reply *out)
     reply_json(out, 200, root);
 }
 
-void serve_handle(void *ctx, const struct http_request *rq, struct http_reply *out)
+void serve_handle(void *ctx, const struct serve_http_request *rq, struct serve_http_reply *out)
 {
     struct serve_ctx *sc = ctx;
     struct timespec t0, t1;
@@ -287,7 +288,7 @@ void serve_handle(void *ctx, const struct http_request *rq, struct http_reply *o
     if (strcmp(rq->path, SERVE_PATH_ROUTE) == 0) {
         known = SERVE_PATH_ROUTE;
         if (strcmp(rq->method, "POST") != 0) {
-            http_error(out, 405, "%s takes POST", SERVE_PATH_ROUTE);
+            serve_http_error(out, 405, "%s takes POST", SERVE_PATH_ROUTE);
             out->allow = "POST";
         } else {
             route(sc, rq, out, &nt);
@@ -295,13 +296,13 @@ void serve_handle(void *ctx, const struct http_request *rq, struct http_reply *o
     } else if (strcmp(rq->path, SERVE_PATH_HEALTH) == 0) {
         known = SERVE_PATH_HEALTH;
         if (strcmp(rq->method, "GET") != 0 && strcmp(rq->method, "HEAD") != 0) {
-            http_error(out, 405, "%s takes GET", SERVE_PATH_HEALTH);
+            serve_http_error(out, 405, "%s takes GET", SERVE_PATH_HEALTH);
             out->allow = "GET, HEAD";
         } else {
             health(sc, out);
         }
     } else {
-        http_error(out, 404, "no such endpoint: try POST %s or GET %s", SERVE_PATH_ROUTE, SERVE_PATH_HEALTH);
+        serve_http_error(out, 404, "no such endpoint: try POST %s or GET %s", SERVE_PATH_ROUTE, SERVE_PATH_HEALTH);
     }
     if (sc->log_requests) {
         clock_gettime(CLOCK_MONOTONIC, &t1);

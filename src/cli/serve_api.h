@@ -20,10 +20,10 @@ struct serve_ctx {
     size_t max_batch, max_body;
     int log_requests;       /* one line per request: method, path, status, tickets, time; never text */
     atomic_ulong reloads, refused;
-    http_server *http;      /* for the health endpoint's counts; may be NULL */
+    serve_http_server *http;      /* for the health endpoint's counts; may be NULL */
 };
 
-/* The http_handler for every request; 'ctx' is a struct serve_ctx. */
-void serve_handle(void *ctx, const struct http_request *rq, struct http_reply *out);
+/* The serve_http_handler for every request; 'ctx' is a struct serve_ctx. */
+void serve_handle(void *ctx, const struct serve_http_request *rq, struct serve_http_reply *out);
 
 #endif

@@ -22,9 +22,9 @@
 #include "vecsift/err.h"
 #include "vecsift/xalloc.h"
 
-struct http_server {
+struct serve_http_server {
     struct MHD_Daemon *d;
-    struct http_options o;
+    struct serve_http_options o;
     unsigned port;
     atomic_ulong count[3];
 };
@@ -36,7 +36,7 @@ struct conn {
     int too_big;
 };
 
-int http_listen_parse(const char *spec, char **host, unsigned *port, struct err *e)
+int serve_http_listen(const char *spec, char **host, unsigned *port, struct err *e)
 {
     const char *colon = strrchr(spec, ':');
     if (!colon)
@@ -57,7 +57,7 @@ int http_listen_parse(const char *spec, char **host, unsigned *port, struct err 
     return 0;
 }
 
-void http_error(struct http_reply *out, unsigned status, const char *fmt, ...)
+void serve_http_error(struct serve_http_reply *out, unsigned status, const char *fmt, ...)
 {
     char msg[512];
     va_list ap;
@@ -80,7 +80,7 @@ void http_error(struct http_reply *out, unsigned status, const char *fmt, ...)
     out->status = status;
 }
 
-static enum MHD_Result send_reply(http_server *s, struct MHD_Connection *c, struct http_reply *r)
+static enum MHD_Result send_reply(serve_http_server *s, struct MHD_Connection *c, struct serve_http_reply *r)
 {
     unsigned cls = r->status / 100;
     atomic_fetch_add(&s->count[cls == 2 ? 0 : cls == 4 ? 1 : 2], 1);
@@ -102,7 +102,7 @@ static enum MHD_Result on_request(void *cls, struct MHD_Connection *c, const cha
                                   const char *version, const char *data, size_t *size, void **state)
 {
     (void)version;
-    http_server *s = cls;
+    serve_http_server *s = cls;
     struct conn *k = *state;
     if (!k) {
         k = xcalloc(1, sizeof *k);
@@ -115,9 +115,9 @@ static enum MHD_Result on_request(void *cls, struct MHD_Connection *c, const cha
             errno = 0;
             unsigned long long n = strtoull(cl, &end, 10);
             if (*end == '\0' && !errno && n > s->o.max_body) {
-                struct http_reply r = { 0, NULL, NULL };
-                http_error(&r, 413, "the body has %llu bytes, more than the limit of %zu (--max-body)", n,
-                           s->o.max_body);
+                struct serve_http_reply r = { 0, NULL, NULL };
+                serve_http_error(&r, 413, "the body has %llu bytes, more than the limit of %zu (--max-body)", n,
+                                 s->o.max_body);
                 k->too_big = 1;
                 return send_reply(s, c, &r);
             }
@@ -138,20 +138,20 @@ static enum MHD_Result on_request(void *cls, struct MHD_Connection *c, const cha
         *size = 0;
         return MHD_YES;
     }
-    struct http_reply r = { 0, NULL, NULL };
+    struct serve_http_reply r = { 0, NULL, NULL };
     if (k->too_big) {
-        http_error(&r, 413, "the body is larger than the limit of %zu bytes (--max-body)", s->o.max_body);
+        serve_http_error(&r, 413, "the body is larger than the limit of %zu bytes (--max-body)", s->o.max_body);
     } else {
         if (!k->buf)
             k->buf = xcalloc(1, 1);
         k->buf[k->len] = '\0';
-        struct http_request rq = {
+        struct serve_http_request rq = {
             method, url, MHD_lookup_connection_value(c, MHD_HEADER_KIND, MHD_HTTP_HEADER_CONTENT_TYPE),
             k->buf, k->len
         };
         s->o.fn(s->o.ctx, &rq, &r);
         if (!r.body)
-            http_error(&r, 500, "the handler gave no answer");
+            serve_http_error(&r, 500, "the handler gave no answer");
     }
     return send_reply(s, c, &r);
 }
@@ -180,7 +180,7 @@ static void on_log(void *cls, const char *fmt, va_list ap)
     fprintf(stderr, "vecsift: serve: http: %s\n", msg);
 }
 
-http_server *http_start(const struct http_options *o, struct err *e)
+serve_http_server *serve_http_start(const struct serve_http_options *o, struct err *e)
 {
     struct sockaddr_in a4;
     struct sockaddr_in6 a6;
@@ -201,7 +201,7 @@ http_server *http_start(const struct http_options *o, struct err *e)
         err_set(e, NULL, 0, "--listen: '%s' is not a numeric IPv4 or IPv6 address", o->host);
         return NULL;
     }
-    http_server *s = xcalloc(1, sizeof *s);
+    serve_http_server *s = xcalloc(1, sizeof *s);
     s->o = *o;
     s->d = MHD_start_daemon(flags, (uint16_t)o->port, NULL, NULL, on_request, s,
                             MHD_OPTION_EXTERNAL_LOGGER, on_log, s,
@@ -222,18 +222,18 @@ http_server *http_start(const struct http_options *o, struct err *e)
     return s;
 }
 
-unsigned http_port(const http_server *s)
+unsigned serve_http_port(const serve_http_server *s)
 {
     return s->port;
 }
 
-void http_counts(const http_server *s, unsigned long out[3])
+void serve_http_counts(const serve_http_server *s, unsigned long out[3])
 {
     for (int i = 0; i < 3; i++)
         out[i] = atomic_load(&s->count[i]);
 }
 
-void http_stop(http_server *s)
+void serve_http_stop(serve_http_server *s)
 {
     if (!s)
         return;

@@ -12,7 +12,7 @@
 struct err;
 
 /* One request, complete.  Everything is borrowed for the callback's call. */
-struct http_request {
+struct serve_http_request {
     const char *method;     /* "GET", "POST", ... */
     const char *path;       /* without the query string */
     const char *ctype;      /* Content-Type header or NULL */
@@ -22,45 +22,45 @@ struct http_request {
 
 /* The callback's answer: a status and a JSON body the HTTP layer frees
  * (allocated with xmalloc or cJSON_Print*), and for 405 the Allow value. */
-struct http_reply {
+struct serve_http_reply {
     unsigned status;
     char *body;
     const char *allow;
 };
 
-typedef void (*http_handler)(void *ctx, const struct http_request *rq, struct http_reply *out);
+typedef void (*serve_http_handler)(void *ctx, const struct serve_http_request *rq, struct serve_http_reply *out);
 
-struct http_options {
+struct serve_http_options {
     const char *host;       /* numeric IPv4 or IPv6 address */
-    unsigned port;          /* 0: any free port (see http_port) */
+    unsigned port;          /* 0: any free port (see serve_http_port) */
     size_t max_body;        /* larger bodies get 413 without reaching 'fn' */
     unsigned threads;       /* threads answering requests */
-    http_handler fn;
+    serve_http_handler fn;
     void *ctx;
 };
 
-typedef struct http_server http_server;
+typedef struct serve_http_server serve_http_server;
 
 /* Parse "HOST:PORT", "[V6]:PORT" or ":PORT" (host 127.0.0.1) into host
  * (a new string) and port.  Returns 0, or -1 with 'e' naming 'spec'. */
-int http_listen_parse(const char *spec, char **host, unsigned *port, struct err *e);
+int serve_http_listen(const char *spec, char **host, unsigned *port, struct err *e);
 
 /* Bind and start answering on threads of its own.  Returns the server, or
  * NULL with 'e' set (address in use, not a numeric address ...). */
-http_server *http_start(const struct http_options *o, struct err *e);
+serve_http_server *serve_http_start(const struct serve_http_options *o, struct err *e);
 
 /* The port actually bound (useful after port 0). */
-unsigned http_port(const http_server *s);
+unsigned serve_http_port(const serve_http_server *s);
 
 /* Requests answered so far by status class: [0] 2xx, [1] 4xx, [2] 5xx. */
-void http_counts(const http_server *s, unsigned long out[3]);
+void serve_http_counts(const serve_http_server *s, unsigned long out[3]);
 
 /* Stop accepting, let requests being answered finish, free everything.
  * NULL-safe. */
-void http_stop(http_server *s);
+void serve_http_stop(serve_http_server *s);
 
 /* A JSON error body {"error": {"status": S, "message": M}} into 'out'. */
-void http_error(struct http_reply *out, unsigned status, const char *fmt, ...)
+void serve_http_error(struct serve_http_reply *out, unsigned status, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 
 #endif

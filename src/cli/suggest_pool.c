@@ -1,6 +1,7 @@
-/* scored.c -- rows of a CSV file scored by a saved model (see scored.h),
+/* suggest_pool.c -- the pool rows suggest ranks, scored by a saved model
+ * (see suggest_pool.h),
  * through the library's one prediction path (route.h). */
-#include "scored.h"
+#include "suggest_pool.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -12,7 +13,7 @@
 #include "vecsift/route.h"
 #include "vecsift/xalloc.h"
 
-int scored_load(struct scored *pl, const char *path, const struct model *m, const struct data_args *da,
+int suggest_pool_load(struct suggest_pool *pl, const char *path, const struct model *m, const struct data_args *da,
                 const char *const *reserved, size_t nreserved, struct err *e)
 {
     csv_reader *r = csv_open(path, &da->csv, e);
@@ -65,7 +66,7 @@ int scored_load(struct scored *pl, const char *path, const struct model *m, cons
     (void)route_batch(m, &rp, da->threads, parts, ntext, pl->n, pl->P, res, &pl->X, e);
     for (size_t i = 0; i < pl->n; i++) {
         pl->empty[i] = res[i].empty;
-        pl->norm[i] = sqrt(scored_dot(&pl->X, i, i));
+        pl->norm[i] = sqrt(suggest_pool_dot(&pl->X, i, i));
     }
     rc = 0;
 out:
@@ -76,7 +77,7 @@ out:
     return rc;
 }
 
-void scored_release(struct scored *pl)
+void suggest_pool_release(struct suggest_pool *pl)
 {
     for (size_t q = 0; pl->cells && q < pl->n * pl->ncols; q++)
         free(pl->cells[q]);
@@ -90,7 +91,7 @@ void scored_release(struct scored *pl)
     fmat_release(&pl->X);
 }
 
-double scored_dot(const struct fmat *X, size_t i, size_t j)
+double suggest_pool_dot(const struct fmat *X, size_t i, size_t j)
 {
     double s = 0;
     if (!X->sparse) {

@@ -1,5 +1,5 @@
-/* evalout.c -- evaluate's outputs (see evalout.h). */
-#include "evalout.h"
+/* evaluate_out.c -- evaluate's outputs (see evaluate_out.h). */
+#include "evaluate_out.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -13,7 +13,7 @@
 #include "vecsift/ofile.h"
 #include "vecsift/xalloc.h"
 
-void evalout_describe(const struct fit_args *fa, char *buf, size_t n)
+void evaluate_describe(const struct fit_args *fa, char *buf, size_t n)
 {
     const struct pipeline_spec *s = &fa->spec;
     if (s->feat.pool == POOL_BOW)
@@ -23,7 +23,7 @@ void evalout_describe(const struct fit_args *fa, char *buf, size_t n)
                  features_pool_name(s->feat.pool), fa->vectors ? fa->vectors : "?");
 }
 
-void evalout_cut(const struct cv_result *r, double target, struct eval_cut *out)
+void evaluate_cut(const struct cv_result *r, double target, struct evaluate_advice *out)
 {
     size_t n = 0;
     struct metrics_cutoff *c = metrics_cutoffs(r->all, &n);
@@ -56,7 +56,7 @@ void evalout_cut(const struct cv_result *r, double target, struct eval_cut *out)
 
 /* ---- before fitting ---- */
 
-void evalout_label_table(FILE *fp, const struct corpus *c, int folds)
+void evaluate_label_table(FILE *fp, const struct corpus *c, int folds)
 {
     size_t K = c->ds.nlabels;
     size_t *cnt = xcalloc(K ? K : 1, sizeof *cnt);
@@ -100,11 +100,11 @@ static int worst_first(const void *a, const void *b)
     return x->k < y->k ? -1 : 1;
 }
 
-void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *c, const struct eval_setup *s)
+void evaluate_terminal(FILE *fp, const struct cv_result *r, const struct corpus *c, const struct evaluate_setup *s)
 {
     size_t K = r->k, T = r->repeats * (size_t)r->folds;
     char what[512];
-    evalout_describe(s->fa, what, sizeof what);
+    evaluate_describe(s->fa, what, sizeof what);
     fprintf(fp, "\nCross-validated %s\n%zu rows, %zu labels, %d folds x %zu repeats (seed %llu), "
                 "about %zu training rows per fit\n\n",
             what, r->n, K, r->folds, r->repeats, (unsigned long long)s->cp->seed, r->train_rows);
@@ -161,8 +161,8 @@ void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *
             fprintf(fp, " x the default (one per fold)\n");
         }
     }
-    struct eval_cut cut;
-    evalout_cut(r, s->target, &cut);
+    struct evaluate_advice cut;
+    evaluate_cut(r, s->target, &cut);
     if (cut.reachable)
         fprintf(fp, "\nCut-off: route automatically when confidence >= %s. Out of fold this kept %.1f%% of rows "
                     "at precision %.3f (target %.2f); the other %.1f%% go to a person.\n"
@@ -191,7 +191,7 @@ static cJSON *num(double x)
     return isfinite(x) ? jsonv_number_new(x) : cJSON_CreateNull();
 }
 
-cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const struct eval_setup *s)
+cJSON *evaluate_json(const struct cv_result *r, const struct corpus *c, const struct evaluate_setup *s)
 {
     size_t K = r->k;
     cJSON *root = cJSON_CreateObject();
@@ -244,8 +244,8 @@ cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const str
     }
 
     cJSON *th = cJSON_AddObjectToObject(root, "threshold");
-    struct eval_cut cut;
-    evalout_cut(r, s->target, &cut);
+    struct evaluate_advice cut;
+    evaluate_cut(r, s->target, &cut);
     cJSON_AddItemToObject(th, "target_precision", jsonv_number_new(s->target));
     if (cut.reachable) {
         cJSON_AddItemToObject(th, "cutoff", jsonv_number_new(cut.threshold));
@@ -316,7 +316,7 @@ cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const str
     return root;
 }
 
-int evalout_write_json(const char *path, const cJSON *obj, struct err *e)
+int evaluate_write_json(const char *path, const cJSON *obj, struct err *e)
 {
     ofile *o = ofile_open(path, e);
     if (!o)
@@ -328,7 +328,7 @@ int evalout_write_json(const char *path, const cJSON *obj, struct err *e)
     return ofile_commit(o, e);
 }
 
-int evalout_predictions(const char *path, const struct cv_result *r, const struct corpus *c, struct err *e)
+int evaluate_predictions(const char *path, const struct cv_result *r, const struct corpus *c, struct err *e)
 {
     ofile *o = ofile_open(path, e);
     if (!o)

@@ -1,7 +1,7 @@
-/* route_fields.c -- predict's and serve's shared field formatting
- * (route_fields.h).
+/* predict_fields.c -- predict's (and serve's) label order and evidence
+ * text (predict_fields.h).
  */
-#include "route_fields.h"
+#include "predict_fields.h"
 
 #include <stdio.h>
 #include <string.h>
@@ -9,7 +9,7 @@
 #include "vecsift/route.h"
 #include "vecsift/xalloc.h"
 
-void route_order(const double *prob, size_t K, int *order)
+void predict_label_order(const double *prob, size_t K, int *order)
 {
     for (size_t k = 0; k < K; k++)
         order[k] = (int)k;
@@ -22,7 +22,7 @@ void route_order(const double *prob, size_t K, int *order)
         }
 }
 
-size_t route_evidence(const struct route_result *r, char **buf, size_t *cap)
+size_t predict_evidence(const struct route_result *r, char **buf, size_t *cap)
 {
     size_t len = 0;
     *buf = xgrow(*buf, cap, 1, 1);

@@ -1,10 +1,10 @@
-/* evalout.h -- what evaluate writes: the terminal summary, the JSON of
+/* evaluate_out.h -- what evaluate writes: the terminal summary, the JSON of
  * DESIGN.md ("Evaluate JSON"), the out-of-fold predictions CSV, and the
  * cut-off advice.  Shared by evaluate, train (summary stored in the model)
- * and demo.
+ * and demo.  The HTML page is evaluate_report.h's.
  */
-#ifndef VECSIFT_CLI_EVALOUT_H
-#define VECSIFT_CLI_EVALOUT_H
+#ifndef VECSIFT_CLI_EVALUATE_OUT_H
+#define VECSIFT_CLI_EVALUATE_OUT_H
 
 #include <stdio.h>
 
@@ -15,7 +15,7 @@ struct cJSON;
 struct err;
 
 /* What was run, for headers and the JSON's "settings". */
-struct eval_setup {
+struct evaluate_setup {
     const char *data;
     const struct data_args *da;
     const struct fit_args *fa;
@@ -23,7 +23,7 @@ struct eval_setup {
     double target;          /* precision target for the cut-off advice */
 };
 
-struct eval_cut {
+struct evaluate_advice {
     int reachable;
     double threshold, precision, coverage;
     char advice[40];        /* the shortest decimal that keeps exactly the same
@@ -33,32 +33,27 @@ struct eval_cut {
 
 /* The smallest confidence cut-off whose pooled out-of-fold precision
  * reaches 'target', and the share of rows it routes automatically. */
-void evalout_cut(const struct cv_result *r, double target, struct eval_cut *out);
+void evaluate_cut(const struct cv_result *r, double target, struct evaluate_advice *out);
 
 /* The evaluation as a JSON object (caller deletes). */
-struct cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const struct eval_setup *s);
+struct cJSON *evaluate_json(const struct cv_result *r, const struct corpus *c, const struct evaluate_setup *s);
 
 /* The terminal summary. */
-void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *c, const struct eval_setup *s);
+void evaluate_terminal(FILE *fp, const struct cv_result *r, const struct corpus *c, const struct evaluate_setup *s);
 
 /* Label counts before any fitting, with the rare-label policy. */
-void evalout_label_table(FILE *fp, const struct corpus *c, int folds);
+void evaluate_label_table(FILE *fp, const struct corpus *c, int folds);
 
 /* Out-of-fold predictions CSV: row, repeat, fold, label, predicted,
  * confidence, prob:LABEL for every label. */
-int evalout_predictions(const char *path, const struct cv_result *r, const struct corpus *c, struct err *e);
+int evaluate_predictions(const char *path, const struct cv_result *r, const struct corpus *c, struct err *e);
 
 /* Write a JSON object to 'path' through ofile. */
-int evalout_write_json(const char *path, const struct cJSON *obj, struct err *e);
+int evaluate_write_json(const char *path, const struct cJSON *obj, struct err *e);
 
 /* "logreg on tfidf-pooled vectors (FILE)" and similar. */
-void evalout_describe(const struct fit_args *fa, char *buf, size_t n);
+void evaluate_describe(const struct fit_args *fa, char *buf, size_t n);
 
 
 
-/* The self-contained HTML report: confusion heat map, per-label bars with
- * spread, precision-coverage curve with the chosen cut-off, cautions.
- * (evalreport.c) */
-int evalout_html(const char *path, const struct cv_result *r, const struct corpus *c, const struct eval_setup *s,
-                 struct err *e);
 #endif
