@@ -121,19 +121,19 @@ static void log_model(const char *what, const char *path, const struct served *m
 static void reload(struct serve_ctx *sc)
 {
     struct err e = ERR_INIT;
-    struct served *m = served_load(&sc->st, &e);
+    struct served *m = serve_model_load(&sc->st, &e);
     if (!m) {
         atomic_fetch_add(&sc->refused, 1);
-        struct served *old = served_get(&sc->slot);
+        struct served *old = serve_model_get(&sc->slot);
         fprintf(stderr, "vecsift: serve: reload refused: %s\n", e.msg);
         if (e.hint[0])
             fprintf(stderr, "hint: %s\n", e.hint);
         fprintf(stderr, "vecsift: serve: still serving fingerprint %s\n", old->fingerprint);
-        served_put(old);
+        serve_model_put(old);
         return;
     }
     log_model("reloaded", sc->st.model_path, m);
-    served_swap(&sc->slot, m);
+    serve_model_swap(&sc->slot, m);
     atomic_fetch_add(&sc->reloads, 1);
 }
 
@@ -165,7 +165,7 @@ int cmd_serve(int argc, char **argv)
         rc = cli_usage(&cmd_serve_info, "%s", e.msg);
         goto done;
     }
-    if (!(sc.slot.cur = served_load(&sc.st, &e)))
+    if (!(sc.slot.cur = serve_model_load(&sc.st, &e)))
         goto fail;
     /* Blocked before any thread starts, so every thread inherits the mask
      * and only sigwait below sees these signals. */
@@ -208,7 +208,7 @@ fail:
     rc = cli_fail(&e);
 done:
     serve_http_stop(http);
-    served_put(sc.slot.cur);
+    serve_model_put(sc.slot.cur);
     pthread_mutex_destroy(&sc.slot.mu);
     free(host);
     return rc;

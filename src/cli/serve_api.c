@@ -186,7 +186,7 @@ static void route(struct serve_ctx *sc, const struct serve_http_request *rq, str
         cJSON_Delete(root);
         return;
     }
-    struct served *m = served_get(&sc->slot);
+    struct served *m = serve_model_get(&sc->slot);
     const cJSON *list = cJSON_GetObjectItemCaseSensitive(root, "tickets");
     int batch = cJSON_IsObject(root) && cJSON_IsArray(list);
     size_t n = batch ? (size_t)cJSON_GetArraySize(list) : 1;
@@ -243,13 +243,13 @@ done:
     free(z.prob);
     free(z.order);
     free(z.why);
-    served_put(m);
+    serve_model_put(m);
     cJSON_Delete(root);
 }
 
 static void health(struct serve_ctx *sc, struct serve_http_reply *out)
 {
-    struct served *m = served_get(&sc->slot);
+    struct served *m = serve_model_get(&sc->slot);
     cJSON *root = cJSON_CreateObject();
     cJSON_AddStringToObject(root, "status", "ok");
     cJSON *mo = cJSON_AddObjectToObject(root, "model");
@@ -274,7 +274,7 @@ static void health(struct serve_ctx *sc, struct serve_http_reply *out)
         cJSON_AddNumberToObject(an, "refused", (double)c[1]);
         cJSON_AddNumberToObject(an, "failed", (double)c[2]);
     }
-    served_put(m);
+    serve_model_put(m);
     reply_json(out, 200, root);
 }
 

@@ -34,7 +34,7 @@ static int file_hash(const char *path, uint64_t *out, struct err *e)
     return 0;
 }
 
-struct served *served_load(const struct serve_settings *st, struct err *e)
+struct served *serve_model_load(const struct serve_settings *st, struct err *e)
 {
     uint64_t before, after;
     if (file_hash(st->model_path, &before, e) < 0)
@@ -69,7 +69,7 @@ fail:
     return NULL;
 }
 
-void served_put(struct served *m)
+void serve_model_put(struct served *m)
 {
     if (!m || atomic_fetch_sub(&m->refs, 1) != 1)
         return;
@@ -78,7 +78,7 @@ void served_put(struct served *m)
     free(m);
 }
 
-struct served *served_get(struct serve_slot *s)
+struct served *serve_model_get(struct serve_slot *s)
 {
     pthread_mutex_lock(&s->mu);
     struct served *m = s->cur;
@@ -87,11 +87,11 @@ struct served *served_get(struct serve_slot *s)
     return m;
 }
 
-void served_swap(struct serve_slot *s, struct served *m)
+void serve_model_swap(struct serve_slot *s, struct served *m)
 {
     pthread_mutex_lock(&s->mu);
     struct served *old = s->cur;
     s->cur = m;
     pthread_mutex_unlock(&s->mu);
-    served_put(old);
+    serve_model_put(old);
 }

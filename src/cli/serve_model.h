@@ -43,15 +43,15 @@ struct serve_settings {
 /* Load and validate the model file (and its vector set): refuses a file
  * that changed while it was read, and an SVM model when explanations are
  * asked for.  Returns a model holding one reference, or NULL with 'e' set. */
-struct served *served_load(const struct serve_settings *st, struct err *e);
+struct served *serve_model_load(const struct serve_settings *st, struct err *e);
 
 /* Take a reference to the slot's current model; drop one (the last frees
- * it).  served_put(NULL) does nothing. */
-struct served *served_get(struct serve_slot *s);
-void served_put(struct served *m);
+ * it).  serve_model_put(NULL) does nothing. */
+struct served *serve_model_get(struct serve_slot *s);
+void serve_model_put(struct served *m);
 
 /* Publish 'm' (its reference moves to the slot) and drop the slot's
  * reference to the one it replaces. */
-void served_swap(struct serve_slot *s, struct served *m);
+void serve_model_swap(struct serve_slot *s, struct served *m);
 
 #endif
