@@ -250,6 +250,7 @@ def reload_under_load(d, model_a, model_b, rows_a, rows_b):
     fp_a, fp_b = fnv1a64(model_a), fnv1a64(model_b)
     stop = threading.Event()
     results = []   # (index, answer or None)
+    batches = []   # (indices, answers or None)
     lock = threading.Lock()
 
     def load(k):
@@ -258,9 +259,17 @@ def reload_under_load(d, model_a, model_b, rows_a, rows_b):
             i = (k * 7919 + n) % len(rows_a)
             n += 1
             try:
+                if n % 10 == 0:
+                    # a batch of 40: one model answers all of it
+                    idx = [(i + q) % len(rows_a) for q in range(40)]
+                    st, _, b = s.post({"tickets": [ticket(rows_a[q]) for q in idx]})
+                    res = json.loads(b, parse_float=str)["results"] if st == 200 else None
+                    with lock:
+                        batches.append((idx, res))
+                    continue
                 st, _, b = s.post(ticket(rows_a[i]))
                 ans = json.loads(b, parse_float=str) if st == 200 else None
-            except (OSError, http.client.HTTPException):
+            except (OSError, ValueError, KeyError, http.client.HTTPException):
                 ans = None
             with lock:
                 results.append((i, ans))
@@ -315,6 +324,11 @@ def reload_under_load(d, model_a, model_b, rows_a, rows_b):
     check(late == 0, "%d answers after the swap was seen, all model B's (%d differ)" % (len(results) - mark, late))
     early = sum(1 for i, a in results[:before] if a is not None and not answer_matches(a, rows_a[i])[0])
     check(early == 0, "%d answers before SIGHUP, all model A's (%d differ)" % (before, early))
+    whole = sum(1 for idx, res in batches if res is not None and len(res) == len(idx)
+                and (all(answer_matches(a, rows_a[q])[0] for a, q in zip(res, idx))
+                     or all(answer_matches(a, rows_b[q])[0] for a, q in zip(res, idx))))
+    check(len(batches) > 5 and whole == len(batches),
+          "%d batches of 40 during the reloads: %d answered whole by one model" % (len(batches), whole))
     log = s.log()
     check(re.search(r"reload refused: .*live\.json", log) is not None and "still serving fingerprint " + fp_b in log,
           "the refusal is logged with the file and the fingerprint still served")
