@@ -748,12 +748,14 @@ long vecset_piece_find(const vecset *v, uint32_t bucket)
 struct compose_sum {
     const vecset *v;
     double *acc;    /* (D) */
-    size_t n;
+    size_t n;       /* pieces held */
+    size_t all;     /* pieces */
 };
 
 static void add_piece(void *ud, const char *piece, size_t len)
 {
     struct compose_sum *s = ud;
+    s->all++;
     long r = vecset_piece_find(s->v, pieces_fnv1a32(piece, len) % s->v->pp.buckets);
     if (r < 0)
         return;
@@ -771,11 +773,11 @@ size_t vecset_compose(const vecset *v, const char *tok, size_t len, float *out)
     double sacc[512];
     double *acc = D <= 512 ? sacc : xmalloc(xmul(D, sizeof *acc));
     memset(acc, 0, D * sizeof *acc);
-    struct compose_sum s = { v, acc, 0 };
+    struct compose_sum s = { v, acc, 0, 0 };
     pieces_each(tok, len, v->pp.min_len, v->pp.max_len, add_piece, &s);
     if (s.n)
         for (size_t d = 0; d < D; d++)
-            out[d] = (float)(acc[d] / (double)s.n);
+            out[d] = (float)(acc[d] / (double)s.all);
     if (acc != sacc)
         free(acc);
     return s.n;

@@ -589,9 +589,10 @@ Test(vecset, old_1_0_file_opens)
     vecset_close(v);
 }
 
-/* Composition: the mean of the rows of the word's pieces that the store
- * holds.  "wherever" has pieces <wh whe her ere (held) and rev eve ver er>
- * (in buckets the store may or may not hold: counted by hand here). */
+/* Composition: the rows of the word's pieces that the store holds, summed
+ * and divided by the number of its pieces (a piece not held counts as a
+ * zero row).  "wherever" has the 8 pieces <wh whe her ere (held) and rev
+ * eve ver er> (in buckets the store may or may not hold: counted here). */
 Test(vecset, compose_is_mean_of_held_pieces)
 {
     struct err e = ERR_INIT;
@@ -611,7 +612,7 @@ Test(vecset, compose_is_mean_of_held_pieces)
     float out[3];
     cr_assert_eq(vecset_compose(v, "wherever", 8, out), n);
     for (int d = 0; d < 3; d++)
-        cr_assert_eq(out[d], (float)(want[d] / (double)n));
+        cr_assert_eq(out[d], (float)(want[d] / 8.0));
     /* a word none of whose pieces is held leaves 'out' alone */
     float keep[3] = { 7, 7, 7 };
     size_t got = vecset_compose(v, "zq", 2, keep);

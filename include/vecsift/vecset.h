@@ -64,14 +64,17 @@ const float *vecset_piece_row(const vecset *v, size_t i);
 long vecset_piece_find(const vecset *v, uint32_t bucket);
 
 /* A vector for tok[0..len) (normalised, like any token) composed from its
- * pieces: the mean, summed in double and rounded to float, of the rows of
- * the buckets of its distinct pieces that the store holds (a piece whose
- * bucket training never saw is skipped; a piece counts once even when two
- * share a bucket's row).  Writes D floats into the caller's 'out' and
- * returns how many rows were averaged; returns 0 and leaves 'out' alone
- * when the store has no pieces or none of tok's.  It does not look at the
- * whole-word rows: callers try vecset_find first.  Reads only the mapping,
- * so any number of threads may call it at once. */
+ * pieces: the rows of the buckets of its distinct pieces that the store
+ * holds, summed in double, divided by the number of its pieces (held or
+ * not) and rounded to float.  A piece whose bucket training never saw
+ * counts as a zero row, as an untrained bucket would be near zero in a
+ * store that kept every bucket; so a word few of whose pieces are known
+ * gets a short vector and weighs little once pooled (docs/vecs-format.md
+ * gives the measurement behind this).  Writes D floats into the caller's
+ * 'out' and returns how many rows were summed; returns 0 and leaves 'out'
+ * alone when the store has no pieces or none of tok's.  It does not look
+ * at the whole-word rows: callers try vecset_find first.  Reads only the
+ * mapping, so any number of threads may call it at once. */
 size_t vecset_compose(const vecset *v, const char *tok, size_t len, float *out);
 
 /* The piece rows as text: a first line "P D MIN MAX K", then per row its
