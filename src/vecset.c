@@ -438,6 +438,27 @@ static int overlap(uint64_t a, uint64_t as, uint64_t b, uint64_t bs)
     return as && bs && a < b + bs && b < a + as;
 }
 
+/* One section of the header: its size is what the counts imply, it lies
+ * inside the file after the header, and it is aligned.  'hint' names what
+ * to do about a cut file. */
+static int check_section(const char *name, uint64_t off, uint64_t size, uint64_t want, uint64_t align,
+                         uint64_t hsize, uint64_t len, const char *path, const char *hint, struct err *e)
+{
+    if (size != want)
+        return err_set(e, path, 0, "damaged packed store: %s section has %llu bytes, expected %llu", name,
+                       (unsigned long long)size, (unsigned long long)want);
+    if (!within(off, size, hsize, len)) {
+        err_set(e, path, 0, "truncated or damaged packed store: %s section (%llu bytes at %llu) "
+                "runs past the end of the file (%llu bytes)", name, (unsigned long long)size,
+                (unsigned long long)off, (unsigned long long)len);
+        return err_hint(e, "%s", hint);
+    }
+    if (off % align)
+        return err_set(e, path, 0, "damaged packed store: %s section is not %llu-byte aligned", name,
+                       (unsigned long long)align);
+    return 0;
+}
+
 static int check_header(const struct header *h, uint64_t len, const char *path, struct err *e)
 {
     if (h->major > VERSION_MAJOR) {
@@ -462,18 +483,9 @@ static int check_header(const struct header *h, uint64_t len, const char *path, 
         { "index", h->index_off, h->index_size, h->index_size, 4 },
     };
     for (int i = 0; i < 5; i++) {
-        if (sec[i].size != sec[i].want)
-            return err_set(e, path, 0, "damaged packed store: %s section has %llu bytes, expected %llu",
-                           sec[i].name, (unsigned long long)sec[i].size, (unsigned long long)sec[i].want);
-        if (!within(sec[i].off, sec[i].size, h->header_size, len)) {
-            err_set(e, path, 0, "truncated or damaged packed store: %s section (%llu bytes at %llu) "
-                    "runs past the end of the file (%llu bytes)", sec[i].name,
-                    (unsigned long long)sec[i].size, (unsigned long long)sec[i].off, (unsigned long long)len);
-            return err_hint(e, "the file may have been cut short while copying; pack it again");
-        }
-        if (sec[i].off % sec[i].align)
-            return err_set(e, path, 0, "damaged packed store: %s section is not %llu-byte aligned",
-                           sec[i].name, (unsigned long long)sec[i].align);
+        if (check_section(sec[i].name, sec[i].off, sec[i].size, sec[i].want, sec[i].align, h->header_size, len,
+                          path, "the file may have been cut short while copying; pack it again", e) < 0)
+            return -1;
         for (int j = 0; j < i; j++)
             if (overlap(sec[i].off, sec[i].size, sec[j].off, sec[j].size))
                 return err_set(e, path, 0, "damaged packed store: %s and %s sections overlap", sec[j].name,
@@ -514,18 +526,9 @@ static int check_pieces(const struct header *h, const struct pieces_header *p, u
         { h->strings_off, h->strings_size }, { h->index_off, h->index_size },
     };
     for (int i = 0; i < 2; i++) {
-        if (sec[i].size != sec[i].want)
-            return err_set(e, path, 0, "damaged packed store: %s section has %llu bytes, expected %llu",
-                           sec[i].name, (unsigned long long)sec[i].size, (unsigned long long)sec[i].want);
-        if (!within(sec[i].off, sec[i].size, h->header_size, len)) {
-            err_set(e, path, 0, "truncated or damaged packed store: %s section (%llu bytes at %llu) "
-                    "runs past the end of the file (%llu bytes)", sec[i].name,
-                    (unsigned long long)sec[i].size, (unsigned long long)sec[i].off, (unsigned long long)len);
-            return err_hint(e, "the file may have been cut short while copying; write it again");
-        }
-        if (sec[i].off % sec[i].align)
-            return err_set(e, path, 0, "damaged packed store: %s section is not %llu-byte aligned",
-                           sec[i].name, (unsigned long long)sec[i].align);
+        if (check_section(sec[i].name, sec[i].off, sec[i].size, sec[i].want, sec[i].align, h->header_size, len,
+                          path, "the file may have been cut short while copying; learn it again", e) < 0)
+            return -1;
         for (int j = 0; j < 5; j++)
             if (overlap(sec[i].off, sec[i].size, other[j][0], other[j][1]))
                 return err_set(e, path, 0, "damaged packed store: %s section overlaps another", sec[i].name);
@@ -775,6 +778,11 @@ size_t vecset_compose(const vecset *v, const char *tok, size_t len, float *out)
     memset(acc, 0, D * sizeof *acc);
     struct compose_sum s = { v, acc, 0, 0 };
     pieces_each(tok, len, v->pp.min_len, v->pp.max_len, add_piece, &s);
+    /* a damaged row (inf or NaN: never written) gives no vector, not a
+     * NaN that pooling would spread over the whole row */
+    for (size_t d = 0; s.n && d < D; d++)
+        if (!isfinite(acc[d]))
+            s.n = 0;
     if (s.n)
         for (size_t d = 0; d < D; d++)
             out[d] = (float)(acc[d] / (double)s.all);

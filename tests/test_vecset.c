@@ -762,3 +762,24 @@ Test(vecset, export_pieces_text)
     cr_assert(access(tmp(3, "none.txt"), F_OK) != 0);
     vecset_close(v);
 }
+
+/* A piece row holding NaN (never written by vecsift: a damaged file) gives
+ * no composed vector rather than a NaN one. */
+Test(vecset, compose_refuses_non_finite_rows)
+{
+    struct err e = ERR_INIT;
+    struct vecset_pieces pc = make_pieces();
+    float bad[12];
+    memcpy(bad, PR, sizeof bad);
+    bad[0] = NAN;
+    pc.rows = bad;
+    const char *p = tmp(2, "nan.vecs");
+    cr_assert_eq(vecset_write_pieces(p, WP, RP, 2, 3, &pc, &e), 0, "%s", e.msg);
+    vecset *v = vecset_open(p, &e);
+    cr_assert_not_null(v, "%s", e.msg);
+    float out[3] = { 7, 7, 7 };
+    /* "wherever" has all four held pieces, so the NaN row among them */
+    cr_assert_eq(vecset_compose(v, "wherever", 8, out), 0);
+    cr_assert_eq(out[0], 7);
+    vecset_close(v);
+}

@@ -176,7 +176,7 @@ int cmd_vectors_learn(int argc, char **argv)
         }
         case O_PIECE_BUCKETS:
             piece_opt = "--piece-buckets";
-            if (cli_long(cmd, opts[opt].name, val, 1, 100000000, &n) < 0)
+            if (cli_long(cmd, opts[opt].name, val, 1, 4294967295L, &n) < 0)
                 goto out;
             pp.buckets = (uint32_t)n;
             break;

@@ -55,19 +55,20 @@ SEEDS = (1, 2, 3)
 WORD = re.compile(r"[A-Za-z]{4,}")
 
 
+def misspell_word(w, rng):
+    """One edit inside w (not its first letter): two neighbouring letters
+    swapped, one dropped, or one doubled."""
+    i = rng.randrange(1, len(w) - 1)
+    kind = rng.randrange(3)
+    if kind == 0:
+        return w[:i] + w[i + 1] + w[i] + w[i + 2:]
+    if kind == 1:
+        return w[:i] + w[i + 1:]
+    return w[:i] + w[i] + w[i:]
+
+
 def misspell(text, rng):
-    def edit(m):
-        w = m.group(0)
-        if rng.random() >= RATE:
-            return w
-        i = rng.randrange(1, len(w) - 1)
-        kind = rng.randrange(3)
-        if kind == 0:
-            return w[:i] + w[i + 1] + w[i] + w[i + 2:]
-        if kind == 1:
-            return w[:i] + w[i + 1:]
-        return w[:i] + w[i] + w[i:]
-    return WORD.sub(edit, text)
+    return WORD.sub(lambda m: misspell_word(m.group(0), rng) if rng.random() < RATE else m.group(0), text)
 
 
 def write_csv(path, rows):

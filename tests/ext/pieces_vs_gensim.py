@@ -48,6 +48,9 @@ import numpy as np
 from gensim.models import FastText
 from gensim.models.fasttext_inner import compute_ngrams, ft_hash_bytes
 
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from pieces_downstream import misspell_word  # noqa: E402
+
 VECSIFT = os.environ.get("VECSIFT", "build/vecsift")
 BUILD = os.environ.get("BUILDDIR", "build")
 SRC = os.environ.get("SRCDIR", ".")
@@ -100,16 +103,6 @@ def pieces_by_gensim(word):
             seen.add(g)
             out.append(g)
     return out
-
-
-def misspell(word, rng):
-    i = rng.randrange(1, len(word) - 2)
-    kind = rng.randrange(3)
-    if kind == 0:
-        return word[:i] + word[i + 1] + word[i] + word[i + 2:]
-    if kind == 1:
-        return word[:i] + word[i + 1:]
-    return word[:i] + word[i] + word[i:]
 
 
 def unit(m):
@@ -181,7 +174,7 @@ def main():
         long_words = [w for w in vocab[:3000] if re.fullmatch(r"[a-z]{6,}", w)]
         pairs = []
         for w in long_words:
-            m = misspell(w, rng)
+            m = misspell_word(w, rng)
             if m not in vs:
                 pairs.append((w, m))
         ours = vecsift_vectors(store, [m for _, m in pairs])
