@@ -41,8 +41,12 @@ if grep -q 'from pieces' "$D/out"; then bad "coverage of a store without pieces 
 # train and predict: a misspelt row gets a confident label from its pieces
 run "$V" train "$INBOX/labelled.csv" "${TEXT[@]}" --label-col queue --vectors "$D/p.vecs" --pool mean -o "$D/m.json" -q
 expect_status 0
-run "$V" predict "$D/m.json" "$D/typo.csv" -o "$D/out.csv" -q
+# --explain walks the pooled words, composed ones included (it once read
+# a missing whole-word row)
+run "$V" predict "$D/m.json" "$D/typo.csv" -o "$D/out.csv" -q --explain 3
 expect_status 0; expect_file "$D/out.csv"
+evidence=$(tail -1 "$D/out.csv" | sed 's/.*,//')  # the last column; it holds no comma
+if echo "$evidence" | grep -Eq 'refnud|acount|lokced|invoce|wrnog'; then ok; else bad "no composed word in the evidence: $evidence"; fi
 
 # misuse
 run "$V" vectors learn "$INBOX/unlabelled.csv" "${TEXT[@]}" -o "$D/x.vecs" --piece-buckets 1000
