@@ -713,7 +713,7 @@ int vecset_verify(const vecset *v, struct err *e)
 
 /* ---- pieces ---- */
 
-static int shortest(char *buf, size_t n, float f);
+static void write_numbers(FILE *fp, const float *r, size_t dim);
 
 const struct pieces_params *vecset_pieces(const vecset *v)
 {
@@ -802,15 +802,9 @@ int vecset_export_pieces(const vecset *v, const char *out, struct err *e)
     size_t dim = (size_t)v->h.dim;
     fprintf(fp, "%llu %zu %u %u %llu\n", (unsigned long long)v->ph.count, dim, v->ph.min_len, v->ph.max_len,
             (unsigned long long)v->ph.buckets);
-    char buf[64];
     for (size_t i = 0; i < v->ph.count; i++) {
         fprintf(fp, "%u", (unsigned)v->pids[i]);
-        const float *r = v->prows + i * dim;
-        for (size_t j = 0; j < dim; j++) {
-            buf[0] = ' ';
-            int len = shortest(buf + 1, sizeof buf - 1, r[j]);
-            fwrite(buf, 1, (size_t)len + 1, fp);
-        }
+        write_numbers(fp, v->prows + i * dim, dim);
         fputc('\n', fp);
         if (ferror(fp))
             break;
@@ -936,6 +930,17 @@ static int shortest(char *buf, size_t n, float f)
     return len;
 }
 
+/* " x1 x2 ... xD", each in shortest form. */
+static void write_numbers(FILE *fp, const float *r, size_t dim)
+{
+    char buf[64];
+    for (size_t j = 0; j < dim; j++) {
+        buf[0] = ' ';
+        int len = shortest(buf + 1, sizeof buf - 1, r[j]);
+        fwrite(buf, 1, (size_t)len + 1, fp);
+    }
+}
+
 int vecset_export_text(const vecset *v, const char *out, struct err *e)
 {
     ofile *of = ofile_open(out, e);
@@ -944,15 +949,9 @@ int vecset_export_text(const vecset *v, const char *out, struct err *e)
     FILE *fp = ofile_fp(of);
     size_t dim = (size_t)v->h.dim;
     fprintf(fp, "%llu %zu\n", (unsigned long long)v->h.count, dim);
-    char buf[64];
     for (size_t i = 0; i < v->h.count; i++) {
         fputs(vecset_word(v, i), fp);
-        const float *r = vecset_row(v, i);
-        for (size_t j = 0; j < dim; j++) {
-            buf[0] = ' ';
-            int len = shortest(buf + 1, sizeof buf - 1, r[j]);
-            fwrite(buf, 1, (size_t)len + 1, fp);
-        }
+        write_numbers(fp, vecset_row(v, i), dim);
         fputc('\n', fp);
         if (ferror(fp))
             break;
