@@ -33,7 +33,8 @@
 
 static const struct cli_opt opts[] = {
     { "vectors", 'v', "<file>", "packed vector set (.vecs); repeat to compare several" },
-    { "pool", 'p', "<list>", "comma-separated: mean, tfidf, sif, bow (default: tfidf; bow is always added)" },
+    { "pool", 'p', "<list>", "comma-separated: mean, tfidf, sif, bow, bow+mean, bow+tfidf,\n"
+      "                              bow+sif (default: tfidf and bow+tfidf; bow is always added)" },
     { "classifier", 'c', "<list>", "comma-separated: logreg, svm-linear, svm-rbf (default: logreg)" },
     { "C", 'C', "<x>", "inverse regularisation strength, > 0, for every set-up (default: 1)" },
     { "gamma", 0, "<x>", "svm-rbf kernel width (default: 1 / (dimensions * variance))" },
@@ -66,7 +67,7 @@ struct cmp_args {
     struct cv_params cp;
     const char *vectors[MAX_VECTORS];
     size_t nvec;
-    int pools[4];                    /* by enum features_pool: asked for */
+    int pools[FEATURES_POOLS];       /* by enum features_pool: asked for */
     int clfs[3];                     /* by enum pipeline_classifier */
     const char *json, *report;
 };
@@ -134,7 +135,7 @@ static int parse(int argc, char **argv, struct cmp_args *a, const char **data)
             continue;
         }
         if (strcmp(name, "pool") == 0) {
-            if (parse_list(cmd, name, val, a->pools, 4, one_pool, "mean, tfidf, sif, bow") < 0)
+            if (parse_list(cmd, name, val, a->pools, FEATURES_POOLS, one_pool, FEATURES_POOL_NAMES) < 0)
                 break;
             continue;
         }
@@ -168,9 +169,10 @@ static int parse(int argc, char **argv, struct cmp_args *a, const char **data)
 /* Open every vector set before any work; a missing file is bad input. */
 static int open_all(struct cmp_args *a, vecset **vs, struct err *e)
 {
-    int dense = a->pools[POOL_MEAN] || a->pools[POOL_TFIDF] || a->pools[POOL_SIF];
-    if (dense && a->nvec == 0) {
-        int p = a->pools[POOL_MEAN] ? POOL_MEAN : a->pools[POOL_TFIDF] ? POOL_TFIDF : POOL_SIF;
+    int p = 0;
+    while (p < FEATURES_POOLS && !(a->pools[p] && features_pool_needs_vectors((enum features_pool)p)))
+        p++;
+    if (p < FEATURES_POOLS && a->nvec == 0) {
         err_set(e, NULL, 0, "pooling '%s' needs word vectors", features_pool_name((enum features_pool)p));
         return err_hint(e, "pass one or more --vectors FILE.vecs, or compare --pool bow alone");
     }
@@ -218,7 +220,7 @@ static void run_group(void *arg, size_t g)
         s[q].feat.pool = rows[q].pool;
         s[q].clf = rows[q].clf;
     }
-    const vecset *vs = rows[0].pool == POOL_BOW ? NULL : j->vs[j->vidx[gr->first]];
+    const vecset *vs = features_pool_needs_vectors(rows[0].pool) ? j->vs[j->vidx[gr->first]] : NULL;
     if (cv_run_shared(r, s, gr->n, j->c, vs, &j->cp, &j->errs[g]) < 0) {
         j->failed[g] = 1;
         return;
@@ -256,10 +258,13 @@ int cmd_compare(int argc, char **argv)
     if (rc != 0)
         return rc < 0 ? ERR_OK : rc;
     int any = 0;
-    for (int p = 0; p < 4; p++)
+    for (int p = 0; p < FEATURES_POOLS; p++)
         any |= a.pools[p];
-    if (!any)
+    if (!any) {
+        /* with vectors: the default pooling and the combined route on it */
         a.pools[a.nvec ? POOL_TFIDF : POOL_BOW] = 1;
+        a.pools[POOL_BOW_TFIDF] = a.nvec > 0;
+    }
     a.pools[POOL_BOW] = 1; /* the baseline is always there */
     if (!(a.clfs[0] | a.clfs[1] | a.clfs[2]))
         a.clfs[CLF_LOGREG] = 1;
@@ -291,15 +296,15 @@ int cmd_compare(int argc, char **argv)
         goto fail;
 
     /* The set-ups: bow with each classifier, then vectors x pool x classifier. */
-    size_t cap = 3 + a.nvec * 3 * 3;
+    size_t cap = 3 + a.nvec * FEATURES_POOLS * 3;
     rows = xcalloc(cap, sizeof *rows);
     vidx = xcalloc(cap, sizeof *vidx);
     for (int k = 0; k < 3; k++)
         if (a.clfs[k])
             rows[n++] = (struct compare_row){ .pool = POOL_BOW, .clf = (enum pipeline_classifier)k };
     for (size_t v = 0; v < a.nvec; v++)
-        for (int p = 0; p < 3; p++)
-            for (int k = 0; k < 3 && a.pools[p]; k++)
+        for (int p = 0; p < FEATURES_POOLS; p++)
+            for (int k = 0; k < 3 && a.pools[p] && p != POOL_BOW; k++)
                 if (a.clfs[k]) {
                     vidx[n] = v;
                     rows[n++] = (struct compare_row){ .vectors = a.vectors[v], .pool = (enum features_pool)p,
