@@ -1,14 +1,7 @@
 /* cmd_compare.c -- `vecsift compare`: every combination of vector sets,
  * poolings and classifiers (plus the bow baseline) cross-validated on
- * exactly the same folds, ranked by macro-F1, each tested against the best.
- *
- * Every set-up is cross-validated with the same cv_params (folds, repeats,
- * seed), which makes the same fold assignment, so per-fold scores pair up.
- * Set-ups that differ only in the classifier form a group and go through
- * one cv_run_shared, which featurizes each fold once for all of them.  The
- * groups run side by side, one per thread; cv's results do not depend on
- * the thread count (svmfit's rand() is per thread), so neither does the
- * comparison.
+ * exactly the same folds (compare_grid.c), ranked by macro-F1, each tested
+ * against the best (compare_out.c).
  */
 #include <cjson/cJSON.h>
 #include <errno.h>
@@ -21,6 +14,7 @@
 
 #include "commands.h"
 #include "common.h"
+#include "compare_grid.h"
 #include "compare_out.h"
 #include "evalout.h"
 #include "vecsift/err.h"
@@ -188,62 +182,6 @@ static int open_all(struct cmp_args *a, vecset **vs, struct err *e)
     return 0;
 }
 
-/* A group: the consecutive set-ups rows[first..first+n) that share one
- * vector set and pooling and differ in the classifier only. */
-struct group {
-    size_t first, n;
-};
-
-struct job {
-    struct compare_row *rows;
-    const struct group *groups;
-    const struct corpus *c;
-    const struct pipeline_spec *base;
-    vecset **vs;
-    const size_t *vidx;             /* vector set of each row (unused for bow) */
-    struct cv_params cp;
-    struct err *errs;               /* (groups) */
-    int *failed;                    /* (groups) */
-};
-
-/* One group's cross-validation: cv_run_shared fits each fold's featurizer
- * once for all its classifiers (the same numbers as one cv_run per set-up). */
-static void run_group(void *arg, size_t g)
-{
-    struct job *j = arg;
-    const struct group *gr = &j->groups[g];
-    struct compare_row *rows = j->rows + gr->first;
-    struct pipeline_spec s[3];
-    struct cv_result r[3];
-    for (size_t q = 0; q < gr->n; q++) {
-        s[q] = *j->base;
-        s[q].feat.pool = rows[q].pool;
-        s[q].clf = rows[q].clf;
-    }
-    const vecset *vs = features_pool_needs_vectors(rows[0].pool) ? j->vs[j->vidx[gr->first]] : NULL;
-    if (cv_run_shared(r, s, gr->n, j->c, vs, &j->cp, &j->errs[g]) < 0) {
-        j->failed[g] = 1;
-        return;
-    }
-    for (size_t q = 0; q < gr->n; q++) {
-        struct compare_row *row = &rows[q];
-        row->r = r[q];
-        size_t J = row->r.repeats * (size_t)row->r.folds;
-        row->f1 = xcalloc(J, sizeof *row->f1);
-        cv_fold_scores(&row->r, "macro_f1", row->f1);
-        row->coverage = row->r.held_out.tokens
-                            ? (double)row->r.held_out.with_vector / (double)row->r.held_out.tokens
-                            : NAN;
-    }
-}
-
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
 int cmd_compare(int argc, char **argv)
 {
     struct cmp_args a;
@@ -277,9 +215,6 @@ int cmd_compare(int argc, char **argv)
     vecset *vs[MAX_VECTORS] = { 0 };
     struct compare_row *rows = NULL;
     size_t n = 0, *vidx = NULL, *order = NULL;
-    struct group *groups = NULL;
-    struct err *errs = NULL;
-    int *failed = NULL;
     cJSON *js = NULL;
     const char *ins[MAX_VECTORS + 1] = { data };
     for (size_t v = 0; v < a.nvec; v++)
@@ -296,53 +231,14 @@ int cmd_compare(int argc, char **argv)
         goto fail;
 
     /* The set-ups: bow with each classifier, then vectors x pool x classifier. */
-    size_t cap = 3 + a.nvec * FEATURES_POOLS * 3;
-    rows = xcalloc(cap, sizeof *rows);
-    vidx = xcalloc(cap, sizeof *vidx);
-    for (int k = 0; k < 3; k++)
-        if (a.clfs[k])
-            rows[n++] = (struct compare_row){ .pool = POOL_BOW, .clf = (enum pipeline_classifier)k };
-    for (size_t v = 0; v < a.nvec; v++)
-        for (int p = 0; p < FEATURES_POOLS; p++)
-            for (int k = 0; k < 3 && a.pools[p] && p != POOL_BOW; k++)
-                if (a.clfs[k]) {
-                    vidx[n] = v;
-                    rows[n++] = (struct compare_row){ .vectors = a.vectors[v], .pool = (enum features_pool)p,
-                                                      .clf = (enum pipeline_classifier)k };
-                }
-
-    /* Groups of set-ups that differ in the classifier only (rows are in
-     * that order above), side by side, one thread each; with fewer groups
-     * than threads, each cross-validation uses the threads instead. */
-    groups = xcalloc(n, sizeof *groups);
-    size_t ng = 0;
-    for (size_t i = 0; i < n; i++)
-        if (i > 0 && rows[i].pool == rows[i - 1].pool && rows[i].vectors == rows[i - 1].vectors)
-            groups[ng - 1].n++;
-        else
-            groups[ng++] = (struct group){ i, 1 };
-    struct job job = { rows, groups, &c, &a.fa.spec, vs, vidx, a.cp, NULL, NULL };
-    errs = xcalloc(ng, sizeof *errs);
-    failed = xcalloc(ng, sizeof *failed);
-    job.errs = errs;
-    job.failed = failed;
-    int outer = (size_t)a.da.threads <= ng ? a.da.threads : 1;
-    job.cp.threads = outer > 1 ? 1 : a.da.threads;
+    rows = compare_grid_rows(a.vectors, a.nvec, a.pools, a.clfs, &vidx, &n);
     if (!cli_quiet)
         fprintf(stderr, "compare: %zu set-ups x %zu folds on %d threads\n", n,
                 (size_t)a.cp.folds * a.cp.repeats, a.da.threads);
-    double t0 = now();
-    par_for(outer, ng, run_group, &job);
-    double wall = now() - t0;
-    for (size_t g = 0; g < ng; g++)
-        if (failed[g]) {
-            e = errs[g];
-            goto fail;
-        }
-    for (size_t i = 0; i < n; i++)
-        if (rows[i].r.unconverged)
-            cli_warn("%zu: %d of %zu fits stopped at the iteration cap; raise --max-iter or lower --C", i + 1,
-                     rows[i].r.unconverged, rows[i].r.repeats * (size_t)rows[i].r.folds);
+    a.cp.threads = a.da.threads;
+    double wall;
+    if (compare_grid_run(rows, n, vidx, &c, &a.fa.spec, vs, &a.cp, &wall, &e) < 0)
+        goto fail;
 
     double nte = (double)c.ds.n / (double)a.cp.folds;
     struct compare_setup s = { data, &a.da, &a.fa.spec, &a.cp, c.ds.n, c.ds.nlabels, nte, (double)c.ds.n - nte,
@@ -363,16 +259,9 @@ fail:
     rc = cli_fail(&e);
 done:
     cJSON_Delete(js);
-    for (size_t i = 0; rows && i < n; i++) {
-        cv_release(&rows[i].r);
-        free(rows[i].f1);
-    }
-    free(rows);
+    compare_grid_free(rows, n);
     free(vidx);
-    free(groups);
     free(order);
-    free(errs);
-    free(failed);
     for (size_t v = 0; v < a.nvec; v++)
         vecset_close(vs[v]);
     corpus_release(&c);
