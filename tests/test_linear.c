@@ -142,6 +142,14 @@ Test(linear, gradient_matches_central_differences_dense_and_sparse)
     }
     fmat_release(&D);
     fmat_release(&S);
+    /* K = 2, whose penalty is ||W||^2 (linear.h) */
+    random_problem(40, 6, 2, 6, &D, &S, y);
+    for (int bal = 0; bal < 2; bal++) {
+        gradient_case(&D, y, 2, bal);
+        gradient_case(&S, y, 2, bal);
+    }
+    fmat_release(&D);
+    fmat_release(&S);
 }
 
 Test(linear, sparse_and_dense_give_the_same_model)
@@ -321,8 +329,9 @@ static void reference_gradient(const struct linear_model *m, const struct fmat *
         }
     }
     fmat_gemm_tn(X, R, k, g);
+    double pen2 = k == 2 ? 2.0 : 1.0; /* J's penalty is ||W||^2 for K = 2 (linear.h) */
     for (size_t j = 0; j < k * d; j++)
-        g[j] = m->W[j] + C * g[j];
+        g[j] = pen2 * m->W[j] + C * g[j];
     for (size_t c = 0; c < k; c++)
         g[k * d + c] *= C;
     free(R);
