@@ -5,12 +5,10 @@
  */
 #include <cjson/cJSON.h>
 #include <errno.h>
-#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
-#include <time.h>
 
 #include "commands.h"
 #include "common.h"
@@ -19,7 +17,6 @@
 #include "evalout.h"
 #include "vecsift/err.h"
 #include "vecsift/ofile.h"
-#include "vecsift/par.h"
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 

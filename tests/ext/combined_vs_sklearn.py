@@ -36,6 +36,7 @@ from sklearn.feature_extraction.text import TfidfVectorizer
 from sklearn.preprocessing import StandardScaler
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+import pooled_ref  # noqa: E402
 import sotu_passages  # noqa: E402
 from vs_common import SRC, VECSIFT, Tally, identity, read_features, run, tool  # noqa: E402
 
@@ -49,59 +50,14 @@ def tokens_of(data, cols):
     return [line.split("\t") if line else [] for line in out.split("\n")[:-1]]
 
 
-def pack_random_vectors(toks, tmp):
-    words = sorted({t for doc in toks for t in doc})
-    rng = np.random.default_rng(23)
-    has = rng.random(len(words)) < 0.85
-    V = rng.integers(-2048, 2048, size=(len(words), E)) / 1024.0
-    vec = {w: v for w, h, v in zip(words, has, V) if h}
-    txt = os.path.join(tmp, "v.txt")
-    with open(txt, "w", encoding="utf-8") as fp:
-        for w, v in vec.items():
-            fp.write(w + " " + " ".join(repr(float(x)) for x in v) + "\n")
-    vecs = os.path.join(tmp, "v.vecs")
-    run(VECSIFT, "vectors", "pack", txt, "-o", vecs, "-q")
-    return vec, vecs
-
-
-def pooled_reference(toks, vec):
-    """mean, tfidf and sif pooled rows (N x E), unscaled."""
-    tv = TfidfVectorizer(tokenizer=identity, preprocessor=identity, token_pattern=None, lowercase=False,
-                         smooth_idf=True, norm=None)
-    tv.fit(toks)
-    idf = dict(zip(tv.get_feature_names_out(), tv.idf_))
-    total = sum(len(d) for d in toks)
-    count = {}
-    for d in toks:
-        for t in d:
-            count[t] = count.get(t, 0) + 1
-    n = len(toks)
-    want = {p: np.zeros((n, E)) for p in ("mean", "tfidf", "sif")}
-    for i, d in enumerate(toks):
-        tf = {}
-        for t in d:
-            tf[t] = tf.get(t, 0) + 1
-        kept = [t for t in tf if t in vec]
-        if not kept:
-            continue
-        occ = sum(tf[t] for t in kept)
-        want["mean"][i] = sum(tf[t] * vec[t] for t in kept) / occ
-        wt = {t: tf[t] * idf[t] for t in kept}
-        want["tfidf"][i] = sum(wt[t] * vec[t] for t in kept) / sum(wt.values())
-        want["sif"][i] = sum(tf[t] * SIF_A / (SIF_A + count[t] / total) * vec[t] for t in kept) / occ
-    u = np.linalg.svd(want["sif"], full_matrices=False)[2][0]
-    want["sif"] = want["sif"] - np.outer(want["sif"] @ u, u)
-    return want
-
-
 def check(tag, data, cols, label, tmp):
     toks = tokens_of(data, cols)
-    vec, vecs = pack_random_vectors(toks, tmp)
+    vec, vecs = pooled_ref.pack_random_vectors(toks, tmp, 23, E)
     textargs = [a for c in cols for a in ("--text-col", c)]
     bowref = TfidfVectorizer(tokenizer=identity, preprocessor=identity, token_pattern=None, lowercase=False,
                              smooth_idf=True, ngram_range=(1, 2), norm="l2")
     B = bowref.fit_transform(toks)
-    pooled = pooled_reference(toks, vec)
+    pooled = pooled_ref.pooled_rows(toks, vec, E, SIF_A)
     for pool in ("mean", "tfidf", "sif"):
         out = os.path.join(tmp, "combined.csv")
         run(VECSIFT, "features", data, *textargs, "--label-col", label, "--vectors", vecs,
