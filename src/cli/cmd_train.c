@@ -130,7 +130,7 @@ int cmd_train(int argc, char **argv)
     const char *out = NULL;
     double review = -1;
     const char *evaluation = NULL;
-    int search = 0, choose = 0;
+    int search = 0, choose = 0, folds_given = 0;
     const char *fixed = NULL; /* --pool or --classifier, which --choose picks */
     struct cv_params cp = CV_PARAMS_INIT;
     struct cli_parser p;
@@ -146,6 +146,7 @@ int cmd_train(int argc, char **argv)
             t = fit_args_option(&fa, cmd, name, val);
         if (t == 0 && (strcmp(name, "folds") == 0 || strcmp(name, "repeats") == 0))
             t = cv_args_option(&cp, cmd, name, val);
+        folds_given |= strcmp(name, "folds") == 0;
         if (t < 0) {
             cli_parser_release(&p);
             return ERR_INPUT;
@@ -221,6 +222,19 @@ int cmd_train(int argc, char **argv)
     for (size_t r = 0; r < c.ds.n; r++)
         rows[r] = r;
     if (choose) {
+        /* Stratified folds need a row of every label in each: unless told
+         * otherwise, use no more folds than the smallest label has rows
+         * (check_labels made sure it has two). */
+        size_t small = 0;
+        for (size_t k = 1; k < c.ds.nlabels; k++)
+            if (rows_per[k] < rows_per[small])
+                small = k;
+        if (!folds_given && rows_per[small] < (size_t)cp.folds) {
+            cp.folds = (int)rows_per[small];
+            if (!cli_quiet)
+                fprintf(stderr, "note: label '%s' has %zu rows, so the choice cross-validates with %d folds\n",
+                        c.ds.labels[small], rows_per[small], cp.folds);
+        }
         cp.seed = da.seed;
         cp.threads = da.threads;
         struct pipeline_spec pick;

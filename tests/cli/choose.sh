@@ -15,6 +15,13 @@ NEW=datasets/inbox/incoming.csv
 D=$T_DIR
 TXT=(--text-col subject --text-col body --label-col queue)
 CV=(--folds 3 --repeats 2)
+# a Python check read from the here-document that follows (lib.sh's run
+# reads stdin from /dev/null)
+py() {
+  LAST_CMD="python3 check at line ${BASH_LINENO[0]}"
+  "$PY" - "$@" >"$T_DIR/out" 2>"$T_DIR/err"
+  LAST_STATUS=$?
+}
 
 run "$VECSIFT" vectors learn datasets/inbox/unlabelled.csv --text-col subject --text-col body \
   --dimensions 32 --epochs 3 --threads 1 -o "$D/v.vecs" -q
@@ -25,7 +32,7 @@ run "$VECSIFT" train "$IN" "${TXT[@]}" --vectors "$D/v.vecs" --pool bow+tfidf -o
 expect_status 0
 run "$VECSIFT" predict "$D/comb.json" "$NEW" -o "$D/comb.csv" --explain 2 -q
 expect_status 0
-run "$PY" - "$D/comb.json" "$D/comb.csv" "$NEW" <<'PYEOF'
+py "$D/comb.json" "$D/comb.csv" "$NEW" <<'PYEOF'
 import csv, json, sys
 m = json.load(open(sys.argv[1]))
 f = m["pipeline"]["features"]
@@ -64,7 +71,7 @@ if cmp -s "$D/m.json" "$D/m1.json"; then ok; else bad "--choose models differ be
 run "$VECSIFT" compare "$IN" "${TXT[@]}" --vectors "$D/v.vecs" --pool mean,tfidf,sif,bow+mean,bow+tfidf,bow+sif \
   --classifier logreg,svm-rbf "${CV[@]}" --json "$D/cmp.json" -q
 expect_status 0
-run "$PY" - "$D/m.json" "$D/cmp.json" <<'PYEOF'
+py "$D/m.json" "$D/cmp.json" <<'PYEOF'
 import json, sys
 m = json.load(open(sys.argv[1]))
 cmp = json.load(open(sys.argv[2]))
@@ -115,6 +122,32 @@ assert m['vectors'] is None
 expect_status 0
 run "$VECSIFT" predict "$D/b.json" "$NEW" -o "$D/b.csv" -q
 expect_status 0
+
+# a label with 3 rows: the choice uses 3 folds unless --folds says otherwise
+py "$IN" "$D/small.csv" <<'PYEOF'
+import csv, sys
+rows = list(csv.DictReader(open(sys.argv[1], newline="", encoding="utf-8")))
+keep, seen = [], 0
+for r in rows:
+    if r["queue"] == "ideas":
+        seen += 1
+        if seen > 3:
+            continue
+    keep.append(r)
+with open(sys.argv[2], "w", newline="", encoding="utf-8") as fp:
+    w = csv.DictWriter(fp, fieldnames=list(rows[0].keys()))
+    w.writeheader()
+    w.writerows(keep)
+PYEOF
+expect_status 0
+run "$VECSIFT" train "$D/small.csv" "${TXT[@]}" --choose --repeats 1 -o "$D/s.json"
+expect_status 0
+expect_err "note: label 'ideas' has 3 rows, so the choice cross-validates with 3 folds"
+expect_out "3 folds x 1 repeats"
+run "$VECSIFT" train "$D/small.csv" "${TXT[@]}" --choose --folds 4 --repeats 1 -o "$D/s4.json"
+expect_status 2
+expect_err "label 'ideas' has 3 rows, fewer than the 4 folds"
+expect_no_file "$D/s4.json"
 
 # ---- misuse ----
 run "$VECSIFT" train "$IN" "${TXT[@]}" --vectors "$D/v.vecs" --choose --pool tfidf -o "$D/y.json"
