@@ -86,15 +86,17 @@ void pipeline_proba_cached(const pipeline *p, const features_cache *cache, const
 /* Probabilities (K) for row i of an already featurized matrix. */
 void pipeline_proba_row(const pipeline *p, const struct fmat *X, size_t i, double *prob);
 
-/* The words of one text that pushed it most toward 'label' (logreg over
- * pooled vectors only; returns 0 otherwise).  The scores are linear in the
- * pooled vector, which is a weighted sum of word vectors, so the score of
+/* The words of one text that pushed it most toward 'label' (logreg only,
+ * on any features; returns 0 otherwise).  The scores are linear in the
+ * pooled vector (and the bow row), which is a weighted sum of word vectors, so the score of
  * label j splits exactly into a constant plus one term per word:
  * z_j = c_j + sum_w a_w(j).  A word's push toward 'label' is
  * a_w(label) - sum_j prob_j a_w(j): its share of z_label minus the
  * probability-weighted mean score, the quantity whose sum over words (plus
  * the constant) is the log-odds margin the softmax acts on.  Writes up to
- * 'top' words, largest push first, to words/push; returns how many. */
+ * 'top' words, largest push first, to words/push; returns how many.  For
+ * a combined route a word's push is its bow term's plus its pooled share;
+ * word pairs stand alone. */
 size_t pipeline_explain(const pipeline *p, const char *const *toks, size_t ntok, const double *prob, int label,
                         size_t top, const char **words, double *push);
 

@@ -48,7 +48,8 @@ struct data_args {
 
 #define PIPELINE_OPTIONS \
     { "vectors", 'v', "<file>", "packed vector set (.vecs); needed unless --pool bow" }, \
-    { "pool", 'p', "<how>", "mean | tfidf | sif | bow (default: tfidf; bow needs no vectors)" }, \
+    { "pool", 'p', "<how>", "mean | tfidf | sif | bow | bow+mean | bow+tfidf | bow+sif\n" \
+      "                              (default: tfidf; bow needs no vectors; bow+P: both side by side)" }, \
     { "classifier", 'c', "<name>", "logreg | svm-linear | svm-rbf (default: logreg)" }, \
     { "C", 'C', "<x>", "inverse regularisation strength, > 0 (default: 1)" }, \
     { "gamma", 0, "<x>", "svm-rbf kernel width (default: 1 / (dimensions * variance))" }, \
