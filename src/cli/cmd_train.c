@@ -268,6 +268,7 @@ int cmd_train(int argc, char **argv)
         }
     }
     struct pipeline_fit_info info;
+    fa.spec.tol = PIPELINE_FINAL_TOL; /* the one fit users keep: near the exact optimum (pipeline.h) */
     m.pipe = pipeline_fit(&fa.spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
     if (!m.pipe) {
         err_name_file(&e, data);
