@@ -11,6 +11,7 @@
 #include <assert.h>
 #include <cjson/cJSON.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -35,13 +36,28 @@ struct featurizer {
     size_t D;
     double *mean, *sd;  /* (D) scaler, NULL for bow or when not scaling */
     double *u;          /* (D) sif component, unit length, or NULL */
+    /* combined (bow+...): the two blocks, and the pooled block's weight */
+    featurizer *bag, *pooled;
+    double wdense;
 };
+
+/* the combined route, in its own section below */
+static featurizer *combined_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows,
+                                size_t n, const vecset *vs, const features_cache *cache, struct fmat *X,
+                                struct features_stats *st, struct err *e);
+static void combined_doc(const featurizer *f, const char *const *toks, size_t ntok, struct fmat *X,
+                         struct features_stats *st);
+static void combined_save(const featurizer *f, cJSON *obj);
+static featurizer *combined_load(const struct jsonv_ctx *c, const cJSON *obj, enum features_pool pool,
+                                 const vecset *vs);
+
+static const char *const pool_names[FEATURES_POOLS] = { "mean", "tfidf", "sif", "bow", "bow+mean", "bow+tfidf",
+                                                        "bow+sif" };
 
 int features_pool_parse(const char *name, enum features_pool *out)
 {
-    static const char *names[] = { "mean", "tfidf", "sif", "bow" };
-    for (int i = 0; i < 4; i++)
-        if (strcmp(name, names[i]) == 0) {
+    for (int i = 0; i < FEATURES_POOLS; i++)
+        if (strcmp(name, pool_names[i]) == 0) {
             *out = (enum features_pool)i;
             return 0;
         }
@@ -50,17 +66,28 @@ int features_pool_parse(const char *name, enum features_pool *out)
 
 const char *features_pool_name(enum features_pool p)
 {
-    switch (p) {
-    case POOL_MEAN: return "mean";
-    case POOL_TFIDF: return "tfidf";
-    case POOL_SIF: return "sif";
-    case POOL_BOW: return "bow";
-    }
-    return "?";
+    return (unsigned)p < FEATURES_POOLS ? pool_names[p] : "?";
 }
 
+int features_pool_combined(enum features_pool p)
+{
+    return p == POOL_BOW_MEAN || p == POOL_BOW_TFIDF || p == POOL_BOW_SIF;
+}
+
+enum features_pool features_pool_dense(enum features_pool p)
+{
+    switch (p) {
+    case POOL_BOW_MEAN: return POOL_MEAN;
+    case POOL_BOW_TFIDF: return POOL_TFIDF;
+    case POOL_BOW_SIF: return POOL_SIF;
+    default: return p;
+    }
+}
+
+int features_pool_needs_vectors(enum features_pool p) { return p != POOL_BOW; }
+
 size_t features_dim(const featurizer *f) { return f->D; }
-int features_sparse(const featurizer *f) { return f->p.pool == POOL_BOW; }
+int features_sparse(const featurizer *f) { return f->p.pool == POOL_BOW || features_pool_combined(f->p.pool); }
 const struct features_params *features_params(const featurizer *f) { return &f->p; }
 const double *features_sif_component(const featurizer *f) { return f->u; }
 const struct vecset *features_vectors(const featurizer *f) { return f->p.pool == POOL_BOW ? NULL : f->vs; }
@@ -73,6 +100,8 @@ void features_scaler(const featurizer *f, const double **mean, const double **sd
 
 const char *features_term(const featurizer *f, size_t j)
 {
+    if (f->bag)
+        return features_term(f->bag, j);
     return f->p.pool == POOL_BOW && j < f->D ? vocab_word(f->words, (int32_t)j) : NULL;
 }
 
@@ -86,6 +115,8 @@ void features_free(featurizer *f)
     free(f->mean);
     free(f->sd);
     free(f->u);
+    features_free(f->bag);
+    features_free(f->pooled);
     free(f);
 }
 
@@ -601,9 +632,19 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
     }
 
     V = vocab_size(all);
+    /* bow: terms of fewer than min_df training rows are dropped, unless
+     * that would drop every term (a handful of rows sharing no word): then
+     * all are kept, and the model records min_df 1. */
+    if (p->pool == POOL_BOW && f->p.min_df > 1) {
+        size_t kept = 0;
+        for (size_t id = 0; id < V; id++)
+            kept += df[id] >= (double)f->p.min_df;
+        if (kept == 0)
+            f->p.min_df = 1;
+    }
     f->words = vocab_new();
     for (size_t id = 0; id < V; id++) {
-        if (p->pool == POOL_BOW && df[id] < (double)p->min_df)
+        if (p->pool == POOL_BOW && df[id] < (double)f->p.min_df)
             continue;
         int32_t nid = vocab_add(f->words, vocab_word(all, (int32_t)id));
         f->idf = xreallocarray(f->idf, (size_t)nid + 1, sizeof *f->idf);
@@ -695,6 +736,8 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
 featurizer *features_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows, size_t n,
                          const vecset *vs, struct err *e)
 {
+    if (features_pool_combined(p->pool))
+        return combined_fit(p, d, rows, n, vs, NULL, NULL, NULL, e);
     return fit(p, d, rows, n, vs, NULL, NULL, NULL, e);
 }
 
@@ -713,7 +756,10 @@ void features_transform_tokens(const featurizer *f, const char *const *toks, siz
 {
     if (features_sparse(f)) {
         assert(X->sparse && X->n == i);
-        bow_doc(f, toks, ntok, X, st);
+        if (f->bag)
+            combined_doc(f, toks, ntok, X, st);
+        else
+            bow_doc(f, toks, ntok, X, st);
         return;
     }
     assert(!X->sparse && i < X->n && X->d == f->D);
@@ -933,8 +979,12 @@ void features_transform(const featurizer *f, const struct tokdocs *d, const size
 
 /* ---- fitting and transforming at once ---- */
 
-features_cache *features_cache_new(const struct features_params *p, const struct tokdocs *d, const vecset *vs)
+features_cache *features_cache_new(const struct features_params *pin, const struct tokdocs *d, const vecset *vs)
 {
+    /* a combined route caches what its pooled block needs */
+    struct features_params pq = *pin;
+    pq.pool = features_pool_dense(pin->pool);
+    const struct features_params *p = &pq;
     features_cache *c = xcalloc(1, sizeof *c);
     c->n = d->n;
     if (p->pool == POOL_BOW || !vs || d->n == 0)
@@ -997,6 +1047,8 @@ featurizer *features_fit_transform(const struct features_params *p, const struct
                                    size_t n, const vecset *vs, const features_cache *cache, struct fmat *X,
                                    struct features_stats *st, struct err *e)
 {
+    if (features_pool_combined(p->pool))
+        return combined_fit(p, d, rows, n, vs, cache, X, st, e);
     if (p->pool == POOL_BOW) {
         featurizer *f = fit(p, d, rows, n, vs, NULL, NULL, NULL, e);
         if (f)
@@ -1058,10 +1110,205 @@ size_t features_word_weights(const featurizer *f, const char *const *toks, size_
     return m;
 }
 
+/* ---- the combined route: a bow block beside a pooled block ---- */
+
+/* What each block of combined pooling 'p' is fitted with: the same
+ * settings, with the pooling of the block. */
+static void block_params(const struct features_params *p, struct features_params *pb, struct features_params *pd)
+{
+    *pb = *p;
+    pb->pool = POOL_BOW;
+    *pd = *p;
+    pd->pool = features_pool_dense(p->pool);
+}
+
+/* w = 1 / sqrt(mean_i ||z_i||^2) over the n standardised pooled rows
+ * Z (n x E): see features.h for why.  1 when every row is zero (no row
+ * has a vector: fit() refuses that before we get here). */
+static double block_weight(const double *Z, size_t n, size_t E)
+{
+    double s = 0;
+    for (size_t i = 0; i < n * E; i++)
+        s += Z[i] * Z[i];
+    s /= (double)n;
+    return s > 0 ? 1.0 / sqrt(s) : 1.0;
+}
+
+/* Append one combined row: the bow block's row i of Xb, then the pooled
+ * block's standardised row z (E) times the block weight, in columns
+ * Vb .. Vb+E-1.  Every pooled column is stored, zero or not, so each row
+ * has the same E trailing entries. */
+static void push_combined(const featurizer *f, const struct fmat *Xb, size_t i, const double *z, struct fmat *X)
+{
+    size_t a = Xb->rowptr[i], nb = Xb->rowptr[i + 1] - a, E = f->pooled->D, Vb = f->bag->D;
+    uint32_t *cols = xmalloc(xmul(nb + E, sizeof *cols));
+    double *vals = xmalloc(xmul(nb + E, sizeof *vals));
+    if (nb) {
+        memcpy(cols, Xb->col + a, nb * sizeof *cols);
+        memcpy(vals, Xb->val + a, nb * sizeof *vals);
+    }
+    for (size_t q = 0; q < E; q++) {
+        cols[nb + q] = (uint32_t)(Vb + q);
+        vals[nb + q] = f->wdense * z[q];
+    }
+    fmat_push_row(X, cols, vals, nb + E);
+    free(cols);
+    free(vals);
+}
+
+/* Fit both blocks on the same rows and the block weight; with 'X', the
+ * training rows' combined features too.  Counts in 'st' are the pooled
+ * block's (tokens with a vector), as for pooling alone. */
+static featurizer *combined_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows,
+                                size_t n, const vecset *vs, const features_cache *cache, struct fmat *X,
+                                struct features_stats *st, struct err *e)
+{
+    if (!vs) {
+        err_set(e, NULL, 0, "pooling '%s' needs a vector set", features_pool_name(p->pool));
+        err_hint(e, "pass --vectors FILE.vecs, or use --pool bow");
+        return NULL;
+    }
+    struct features_params pb, pd;
+    block_params(p, &pb, &pd);
+    /* the cache holds unigram bags and pooled rows: the bow block (with
+     * its word pairs) counts its own */
+    featurizer *bag = fit(&pb, d, rows, n, NULL, NULL, NULL, NULL, e);
+    if (!bag)
+        return NULL;
+    struct fmat Z = FMAT_INIT;
+    featurizer *pooled = fit(&pd, d, rows, n, vs, cache, &Z, st, e);
+    if (!pooled) {
+        features_free(bag);
+        return NULL;
+    }
+    size_t E = pooled->D;
+    assert(bag->D + E < UINT32_MAX);
+    for (size_t i = 0; i < n; i++)
+        scale_row(pooled, Z.x + i * E);
+    featurizer *f = xcalloc(1, sizeof *f);
+    f->p = *p;
+    f->vs = vs;
+    f->n_train = n;
+    f->bag = bag;
+    f->pooled = pooled;
+    f->D = bag->D + E;
+    f->wdense = block_weight(Z.x, n, E);
+    if (X) {
+        struct fmat Xb = FMAT_INIT;
+        features_transform(bag, d, rows, n, &Xb, NULL);
+        fmat_sparse(X, f->D);
+        for (size_t i = 0; i < n; i++)
+            push_combined(f, &Xb, i, Z.x + i * E, X);
+        fmat_release(&Xb);
+    }
+    fmat_release(&Z);
+    return f;
+}
+
+/* One text's combined row, appended to X: the same numbers as
+ * combined_fit gives a training row. */
+static void combined_doc(const featurizer *f, const char *const *toks, size_t ntok, struct fmat *X,
+                         struct features_stats *st)
+{
+    struct fmat Xb = FMAT_INIT;
+    fmat_sparse(&Xb, f->bag->D);
+    bow_doc(f->bag, toks, ntok, &Xb, NULL);
+    size_t E = f->pooled->D;
+    double *z = xcalloc(E, sizeof *z);
+    if (!pool_doc(f->pooled, toks, ntok, z, st) && st)
+        st->empty_rows++;
+    scale_row(f->pooled, z);
+    push_combined(f, &Xb, 0, z, X);
+    free(z);
+    fmat_release(&Xb);
+}
+
+int features_blocks(const featurizer *f, const featurizer **bow, const featurizer **pooled, double *w)
+{
+    if (!f->bag)
+        return -1;
+    *bow = f->bag;
+    *pooled = f->pooled;
+    *w = f->wdense;
+    return 0;
+}
+
+/* A combined featurizer's fields: its pooling, width and block weight,
+ * and each block's own fields in an object of its own. */
+static void combined_save(const featurizer *f, cJSON *obj)
+{
+    cJSON_AddStringToObject(obj, "pool", features_pool_name(f->p.pool));
+    cJSON_AddNumberToObject(obj, "training_rows", (double)f->n_train);
+    cJSON_AddNumberToObject(obj, "dimensions", (double)f->D);
+    cJSON_AddItemToObject(obj, "pooled_weight", jsonv_number_new(f->wdense));
+    features_save(f->bag, cJSON_AddObjectToObject(obj, "bag_of_words"));
+    features_save(f->pooled, cJSON_AddObjectToObject(obj, "pooled"));
+}
+
+static featurizer *combined_load(const struct jsonv_ctx *c, const cJSON *obj, enum features_pool pool,
+                                 const vecset *vs)
+{
+    if (!vs) {
+        jsonv_fail(c, "pool", "'%s' needs a vector set", features_pool_name(pool));
+        return NULL;
+    }
+    size_t dims, ntrain;
+    double w;
+    if (jsonv_size(c, obj, "training_rows", 1, (size_t)1 << 40, &ntrain) < 0 ||
+        jsonv_size(c, obj, "dimensions", 2, (size_t)UINT32_MAX - 1, &dims) < 0 ||
+        jsonv_num(c, obj, "pooled_weight", 1e-300, 1e300, &w) < 0)
+        return NULL;
+    const cJSON *bo = jsonv_get(c, obj, "bag_of_words");
+    const cJSON *po = bo ? jsonv_get(c, obj, "pooled") : NULL;
+    if (!po)
+        return NULL;
+    char pathb[200], pathd[200];
+    snprintf(pathb, sizeof pathb, "%s%sbag_of_words", c->path, *c->path ? "." : "");
+    snprintf(pathd, sizeof pathd, "%s%spooled", c->path, *c->path ? "." : "");
+    struct jsonv_ctx cb = *c, cd = *c;
+    cb.path = pathb;
+    cd.path = pathd;
+    featurizer *bag = features_load(&cb, bo, NULL);
+    featurizer *pooled = bag ? features_load(&cd, po, vs) : NULL;
+    if (!pooled) {
+        features_free(bag);
+        return NULL;
+    }
+    int bad = 0;
+    if (bag->p.pool != POOL_BOW)
+        bad = jsonv_fail(&cb, "pool", "is '%s', not bow", features_pool_name(bag->p.pool));
+    else if (pooled->p.pool != features_pool_dense(pool))
+        bad = jsonv_fail(&cd, "pool", "is '%s', but the route is '%s'", features_pool_name(pooled->p.pool),
+                         features_pool_name(pool));
+    else if (dims != bag->D + pooled->D)
+        bad = jsonv_fail(c, "dimensions", "is %zu but the blocks have %zu and %zu", dims, bag->D, pooled->D);
+    if (bad) {
+        features_free(bag);
+        features_free(pooled);
+        return NULL;
+    }
+    featurizer *f = xcalloc(1, sizeof *f);
+    f->p = pooled->p;
+    f->p.pool = pool;
+    f->p.bigrams = bag->p.bigrams;
+    f->p.min_df = bag->p.min_df;
+    f->vs = vs;
+    f->n_train = ntrain;
+    f->bag = bag;
+    f->pooled = pooled;
+    f->D = dims;
+    f->wdense = w;
+    return f;
+}
+
 /* ---- persistence ---- */
 
 void features_save(const featurizer *f, cJSON *obj)
 {
+    if (f->bag) {
+        combined_save(f, obj);
+        return;
+    }
     cJSON_AddStringToObject(obj, "pool", features_pool_name(f->p.pool));
     cJSON_AddBoolToObject(obj, "sublinear_tf", f->p.sublinear_tf);
     cJSON_AddItemToObject(obj, "sif_a", jsonv_number_new(f->p.sif_a));
@@ -1106,8 +1353,13 @@ featurizer *features_load(const struct jsonv_ctx *c, const cJSON *obj, const vec
     if (!pool)
         goto fail;
     if (features_pool_parse(pool, &f->p.pool) < 0) {
-        jsonv_fail(c, "pool", "is '%s', not one of mean, tfidf, sif, bow", pool);
+        jsonv_fail(c, "pool", "is '%s', not one of " FEATURES_POOL_NAMES, pool);
         goto fail;
+    }
+    if (features_pool_combined(f->p.pool)) {
+        enum features_pool pp = f->p.pool;
+        features_free(f);
+        return combined_load(c, obj, pp, vs);
     }
     size_t dims, min_df, ntrain;
     if (get_bool(c, obj, "sublinear_tf", &f->p.sublinear_tf) < 0 || get_bool(c, obj, "bigrams", &f->p.bigrams) < 0 ||
