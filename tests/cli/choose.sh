@@ -39,7 +39,8 @@ f = m["pipeline"]["features"]
 assert f["pool"] == "bow+tfidf", f["pool"]
 assert f["bag_of_words"]["pool"] == "bow" and f["pooled"]["pool"] == "tfidf"
 assert f["dimensions"] == f["bag_of_words"]["dimensions"] + 32, f["dimensions"]
-assert 0 < f["pooled_weight"] <= 1, f["pooled_weight"]
+assert abs(f["bow_weight"] - 32 ** 0.5) < 1e-12, f["bow_weight"]  # sqrt(E), features.h
+assert 0.5 < f["pooled_weight"] < 2, f["pooled_weight"]  # 1 when every standardised column varies
 rows = list(csv.DictReader(open(sys.argv[2], newline="", encoding="utf-8")))
 n = sum(1 for _ in csv.DictReader(open(sys.argv[3], newline="", encoding="utf-8")))
 assert len(rows) == n, (len(rows), n)
