@@ -611,9 +611,19 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
     }
 
     V = vocab_size(all);
+    /* bow: terms of fewer than min_df training rows are dropped, unless
+     * that would drop every term (a handful of rows sharing no word): then
+     * all are kept, and the model records min_df 1. */
+    if (p->pool == POOL_BOW && f->p.min_df > 1) {
+        size_t kept = 0;
+        for (size_t id = 0; id < V; id++)
+            kept += df[id] >= (double)f->p.min_df;
+        if (kept == 0)
+            f->p.min_df = 1;
+    }
     f->words = vocab_new();
     for (size_t id = 0; id < V; id++) {
-        if (p->pool == POOL_BOW && df[id] < (double)p->min_df)
+        if (p->pool == POOL_BOW && df[id] < (double)f->p.min_df)
             continue;
         int32_t nid = vocab_add(f->words, vocab_word(all, (int32_t)id));
         f->idf = xreallocarray(f->idf, (size_t)nid + 1, sizeof *f->idf);

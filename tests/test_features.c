@@ -67,6 +67,7 @@ Test(features, bow_three_documents_worked_by_hand)
     struct features_params p = FEATURES_PARAMS_INIT;
     p.pool = POOL_BOW;
     p.bigrams = 0;
+    p.min_df = 1; /* keep "ran", seen once */
     struct err e = ERR_INIT;
     featurizer *f = features_fit(&p, &d, rows, 3, NULL, &e);
     cr_assert_not_null(f, "%s", e.msg);
@@ -87,6 +88,34 @@ Test(features, bow_three_documents_worked_by_hand)
         cr_assert_float_eq(bow_value(f, &X, cells[c].row, cells[c].term), cells[c].want, 1e-15, "row %zu term %s",
                            cells[c].row, cells[c].term);
     fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+}
+
+/* Default bow (features.h): words of a single training row are dropped
+ * (TfidfVectorizer's min_df=2), unless no word would be left. */
+Test(features, bow_keeps_words_of_two_training_rows)
+{
+    static const char *const texts[] = { "cat sat", "cat ran", "dog sat" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 3);
+    size_t rows[] = { 0, 1, 2 };
+    struct features_params p = FEATURES_PARAMS_INIT;
+    p.pool = POOL_BOW;
+    struct err e = ERR_INIT;
+    featurizer *f = features_fit(&p, &d, rows, 3, NULL, &e);
+    cr_assert_not_null(f, "%s", e.msg);
+    cr_assert_eq(features_dim(f), 2);
+    cr_assert_str_eq(features_term(f, 0), "cat");
+    cr_assert_str_eq(features_term(f, 1), "sat");
+    features_free(f);
+    tokdocs_release(&d);
+
+    static const char *const apart[] = { "apple", "pear plum" };
+    fx_docs(&d, apart, 2);
+    f = features_fit(&p, &d, rows, 2, NULL, &e);
+    cr_assert_not_null(f, "%s", e.msg);
+    cr_assert_eq(features_dim(f), 3, "no word in two rows: all are kept");
     features_free(f);
     tokdocs_release(&d);
 }

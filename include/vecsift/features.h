@@ -17,8 +17,10 @@
  *          and Ma 2017, "A Simple but Tough-to-Beat Baseline for Sentence
  *          Embeddings", ICLR), p(t) the word's relative frequency in the
  *          training rows
- *   bow    sparse tf-idf over unigrams and bigrams of the training rows'
- *          vocabulary, each row scaled to unit length (no vectors)
+ *   bow    sparse tf-idf over the words of at least min_df (2) training
+ *          rows (word pairs too when 'bigrams' is set), each row scaled to
+ *          unit length (no vectors); TfidfVectorizer(min_df=2) on our
+ *          tokens
  *   bow+mean, bow+tfidf, bow+sif
  *          the combined route: the bow row and the pooled row side by side
  *          in one sparse row, columns [0, V) the bow block and [V, V+E)
@@ -65,11 +67,14 @@ struct features_params {
     enum features_pool pool;
     int sublinear_tf;   /* tf -> 1 + ln(tf) in tfidf and bow */
     double sif_a;       /* SIF's a; the paper recommends 1e-3 */
-    int bigrams;        /* bow: add word pairs */
-    size_t min_df;      /* bow: keep terms in at least this many training rows */
+    int bigrams;        /* bow: add word pairs (default 0) */
+    size_t min_df;      /* bow: keep terms in at least this many training rows
+                         * (default 2; 1 when no term would be left) */
     int scale;          /* standardise dense features */
 };
-#define FEATURES_PARAMS_INIT { POOL_TFIDF, 0, 1e-3, 1, 1, 1 }
+/* bow's defaults (unigrams seen in at least 2 training rows, raw tf) won
+ * on every dataset of tests/bench/bench_accuracy.py: docs/accuracy.md. */
+#define FEATURES_PARAMS_INIT { POOL_TFIDF, 0, 1e-3, 0, 2, 1 }
 
 /* "mean" "tfidf" "sif" "bow" "bow+mean" "bow+tfidf" "bow+sif" <-> enum.
  * Returns 0, or -1 for an unknown name. */

@@ -267,7 +267,9 @@ int cmd_predict(int argc, char **argv)
     o = NULL;
     if (csv_replaced(r))
         cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", in, csv_replaced(r));
-    cli_note("%zu rows: %zu routed automatically, %zu to review (cut-off %.3f)", rows, routed, review, cut);
+    char cuts[40];
+    cut_format(cut, cuts, sizeof cuts);
+    cli_note("%zu rows: %zu routed automatically, %zu to review (cut-off %s)", rows, routed, review, cuts);
     cli_note("note: a classifier misroutes some tickets; keep a person on the 'review' route and watch "
              "each queue's precision over time (README, Cautions)");
     goto done;

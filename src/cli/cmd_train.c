@@ -86,7 +86,12 @@ static int read_evaluation(const char *path, const struct fit_args *fa, cJSON **
                 cJSON_AddItemToObject(*summary, keep[i], cJSON_Duplicate(it, 1));
         }
         const cJSON *th = cJSON_GetObjectItemCaseSensitive(root, "threshold");
-        const cJSON *cut = th ? cJSON_GetObjectItemCaseSensitive(th, "cutoff") : NULL;
+        /* the cut-off evaluate advised (review_below: the shortest decimal
+         * that keeps the same out-of-fold rows), so the model, predict and
+         * demo print the number evaluate printed; older files: cutoff */
+        const cJSON *cut = th ? cJSON_GetObjectItemCaseSensitive(th, "review_below") : NULL;
+        if (!cut || !cJSON_IsNumber(cut))
+            cut = th ? cJSON_GetObjectItemCaseSensitive(th, "cutoff") : NULL;
         if (th) {
             cJSON *t = cJSON_Duplicate(th, 1);
             cJSON_DeleteItemFromObjectCaseSensitive(t, "curve"); /* the curve stays in the evaluation file */

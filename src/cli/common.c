@@ -2,6 +2,8 @@
 #include "common.h"
 
 #include <malloc.h>
+#include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
 
@@ -15,6 +17,15 @@ int cores(void)
 {
     long n = sysconf(_SC_NPROCESSORS_ONLN);
     return n < 1 ? 1 : n > 256 ? 256 : (int)n;
+}
+
+void cut_format(double p, char *buf, size_t n)
+{
+    for (int d = 3; d <= 17; d++) {
+        snprintf(buf, n, "%.*f", d, p);
+        if (strtod(buf, NULL) == p)
+            return;
+    }
 }
 
 void data_args_init(struct data_args *a)

@@ -108,4 +108,9 @@ static inline const char *opt_name(const struct cli_cmd *cmd, int i)
 /* Online cores, at least 1. */
 int cores(void);
 
+/* A confidence cut-off as every command prints it: the shortest decimal
+ * with at least three places that reads back as 'p' (evaluate's advice
+ * 0.884 stays "0.884", 0.9 is "0.900", 0.8841 is "0.8841"). */
+void cut_format(double p, char *buf, size_t n);
+
 #endif

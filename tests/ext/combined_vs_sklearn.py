@@ -11,7 +11,7 @@ random multiples of 1/1024 (exact in float32 and in short decimals), about
 
 The reference row (features.h, "the combined route"):
   bow block    scikit-learn TfidfVectorizer(identity tokenizer, lowercase=False,
-               smooth_idf=True, ngram_range=(1, 2), norm='l2'): columns
+               smooth_idf=True, min_df=2, norm='l2'): columns
                matched by the term names `--term-names` prints
   pooled block numpy pooling of the vectors (mean; tfidf with the
                TfidfVectorizer idf of unigrams; sif after Arora, Liang and
@@ -55,7 +55,7 @@ def check(tag, data, cols, label, tmp):
     vec, vecs = pooled_ref.pack_random_vectors(toks, tmp, 23, E)
     textargs = [a for c in cols for a in ("--text-col", c)]
     bowref = TfidfVectorizer(tokenizer=identity, preprocessor=identity, token_pattern=None, lowercase=False,
-                             smooth_idf=True, ngram_range=(1, 2), norm="l2")
+                             smooth_idf=True, min_df=2, norm="l2")
     B = bowref.fit_transform(toks)
     pooled = pooled_ref.pooled_rows(toks, vec, E, SIF_A)
     for pool in ("mean", "tfidf", "sif"):
