@@ -38,7 +38,7 @@ struct featurizer {
     double *u;          /* (D) sif component, unit length, or NULL */
     /* combined (bow+...): the two blocks, and the pooled block's weight */
     featurizer *bag, *pooled;
-    double wdense;
+    double wbow, wdense;
 };
 
 /* the combined route, in its own section below */
@@ -1122,7 +1122,7 @@ static void block_params(const struct features_params *p, struct features_params
     pd->pool = features_pool_dense(p->pool);
 }
 
-/* w = 1 / sqrt(mean_i ||z_i||^2) over the n standardised pooled rows
+/* w_p = sqrt(E / mean_i ||z_i||^2) over the n standardised pooled rows
  * Z (n x E): see features.h for why.  1 when every row is zero (no row
  * has a vector: fit() refuses that before we get here). */
 static double block_weight(const double *Z, size_t n, size_t E)
@@ -1131,12 +1131,12 @@ static double block_weight(const double *Z, size_t n, size_t E)
     for (size_t i = 0; i < n * E; i++)
         s += Z[i] * Z[i];
     s /= (double)n;
-    return s > 0 ? 1.0 / sqrt(s) : 1.0;
+    return s > 0 ? sqrt((double)E / s) : 1.0;
 }
 
-/* Append one combined row: the bow block's row i of Xb, then the pooled
- * block's standardised row z (E) times the block weight, in columns
- * Vb .. Vb+E-1.  Every pooled column is stored, zero or not, so each row
+/* Append one combined row: the bow block's row i of Xb times its weight,
+ * then the pooled block's standardised row z (E) times its weight, in
+ * columns Vb .. Vb+E-1.  Every pooled column is stored, zero or not, so each row
  * has the same E trailing entries. */
 static void push_combined(const featurizer *f, const struct fmat *Xb, size_t i, const double *z, struct fmat *X)
 {
@@ -1145,7 +1145,8 @@ static void push_combined(const featurizer *f, const struct fmat *Xb, size_t i, 
     double *vals = xmalloc(xmul(nb + E, sizeof *vals));
     if (nb) {
         memcpy(cols, Xb->col + a, nb * sizeof *cols);
-        memcpy(vals, Xb->val + a, nb * sizeof *vals);
+        for (size_t q = 0; q < nb; q++)
+            vals[q] = f->wbow * Xb->val[a + q];
     }
     for (size_t q = 0; q < E; q++) {
         cols[nb + q] = (uint32_t)(Vb + q);
@@ -1192,6 +1193,7 @@ static featurizer *combined_fit(const struct features_params *p, const struct to
     f->bag = bag;
     f->pooled = pooled;
     f->D = bag->D + E;
+    f->wbow = sqrt((double)E);
     f->wdense = block_weight(Z.x, n, E);
     if (X) {
         struct fmat Xb = FMAT_INIT;
@@ -1223,23 +1225,25 @@ static void combined_doc(const featurizer *f, const char *const *toks, size_t nt
     fmat_release(&Xb);
 }
 
-int features_blocks(const featurizer *f, const featurizer **bow, const featurizer **pooled, double *w)
+int features_blocks(const featurizer *f, const featurizer **bow, const featurizer **pooled, double w[2])
 {
     if (!f->bag)
         return -1;
     *bow = f->bag;
     *pooled = f->pooled;
-    *w = f->wdense;
+    w[0] = f->wbow;
+    w[1] = f->wdense;
     return 0;
 }
 
-/* A combined featurizer's fields: its pooling, width and block weight,
+/* A combined featurizer's fields: its pooling, width and block weights,
  * and each block's own fields in an object of its own. */
 static void combined_save(const featurizer *f, cJSON *obj)
 {
     cJSON_AddStringToObject(obj, "pool", features_pool_name(f->p.pool));
     cJSON_AddNumberToObject(obj, "training_rows", (double)f->n_train);
     cJSON_AddNumberToObject(obj, "dimensions", (double)f->D);
+    cJSON_AddItemToObject(obj, "bow_weight", jsonv_number_new(f->wbow));
     cJSON_AddItemToObject(obj, "pooled_weight", jsonv_number_new(f->wdense));
     features_save(f->bag, cJSON_AddObjectToObject(obj, "bag_of_words"));
     features_save(f->pooled, cJSON_AddObjectToObject(obj, "pooled"));
@@ -1253,9 +1257,10 @@ static featurizer *combined_load(const struct jsonv_ctx *c, const cJSON *obj, en
         return NULL;
     }
     size_t dims, ntrain;
-    double w;
+    double w, wb;
     if (jsonv_size(c, obj, "training_rows", 1, (size_t)1 << 40, &ntrain) < 0 ||
         jsonv_size(c, obj, "dimensions", 2, (size_t)UINT32_MAX - 1, &dims) < 0 ||
+        jsonv_num(c, obj, "bow_weight", 1e-300, 1e300, &wb) < 0 ||
         jsonv_num(c, obj, "pooled_weight", 1e-300, 1e300, &w) < 0)
         return NULL;
     const cJSON *bo = jsonv_get(c, obj, "bag_of_words");
@@ -1297,6 +1302,7 @@ static featurizer *combined_load(const struct jsonv_ctx *c, const cJSON *obj, en
     f->bag = bag;
     f->pooled = pooled;
     f->D = dims;
+    f->wbow = wb;
     f->wdense = w;
     return f;
 }

@@ -274,7 +274,7 @@ static void pooled_word_scores(const pipeline *p, const featurizer *fd, size_t o
     }
 }
 
-/* combined: z_j = b_j + sum_t W[j][t] x_t (bow block) + the pooled
+/* combined: z_j = b_j + sum_t W[j][t] w_b x_t (bow block) + the pooled
  * block's terms, linear in the words as for pooling alone (its scaler's
  * mean goes into the constant).  A word's share is its bow term's plus its
  * pooled share; word pairs count on their own. */
@@ -282,8 +282,8 @@ static size_t explain_combined(const pipeline *p, const char *const *toks, size_
                                int label, size_t top, const char **words, double *push)
 {
     const featurizer *fb, *fd;
-    double wt;
-    features_blocks(p->f, &fb, &fd, &wt);
+    double wt[2];
+    features_blocks(p->f, &fb, &fd, wt);
     size_t K = p->k, D = features_dim(p->f), Vb = features_dim(fb), E = features_dim(fd);
     struct fmat X = FMAT_INIT;
     features_alloc(fb, 1, &X);
@@ -299,10 +299,10 @@ static size_t explain_combined(const pipeline *p, const char *const *toks, size_
     for (size_t q = 0; q < nnz; q++, ni++) {
         name[ni] = features_term(fb, X.col[q]);
         for (size_t kk = 0; kk < K; kk++)
-            A[ni * K + kk] = p->lin.W[kk * D + X.col[q]] * X.val[q];
+            A[ni * K + kk] = p->lin.W[kk * D + X.col[q]] * (wt[0] * X.val[q]);
     }
     for (size_t j = 0; j < m; j++) {
-        pooled_word_scores(p, fd, Vb, wt, dw[j], c[j], v, a);
+        pooled_word_scores(p, fd, Vb, wt[1], dw[j], c[j], v, a);
         size_t at = 0;
         while (at < nnz && strcmp(name[at], dw[j]) != 0)
             at++;

@@ -593,12 +593,12 @@ Test(features, fit_transform_equals_fit_then_transform)
 
 /* ---- the combined route (bow+mean, bow+tfidf, bow+sif) ---- */
 
-/* Row i of the combined matrix is the bow featurizer's row i in columns
- * [0, Vb), then w times the pooled featurizer's row i in [Vb, Vb+E), every
- * pooled column stored; the bow and pooled featurizers fitted alone on the
- * same rows give the same blocks bit for bit; and w makes the pooled
- * block's mean squared length over the training rows 1, the length every
- * non-empty bow row has (the rule in features.h). */
+/* Row i of the combined matrix is w_b times the bow featurizer's row i in
+ * columns [0, Vb), then w_p times the pooled featurizer's row i in
+ * [Vb, Vb+E), every pooled column stored; the bow and pooled featurizers
+ * fitted alone on the same rows give the blocks; and the weights make each
+ * block's mean squared length over the training rows E (the rule in
+ * features.h). */
 Test(features, combined_row_is_bow_beside_weighted_pooled)
 {
     vecset *vs = four_words();
@@ -614,10 +614,11 @@ Test(features, combined_row_is_bow_beside_weighted_pooled)
         featurizer *fb = fit(POOL_BOW, 1, &d, rows, 6, vs);
         featurizer *fd = fit(features_pool_dense(pools[c]), 1, &d, rows, 6, vs);
         const featurizer *b, *q;
-        double w;
-        cr_assert_eq(features_blocks(f, &b, &q, &w), 0);
-        cr_assert_eq(features_blocks(fb, &b, &q, &w), -1);
-        features_blocks(f, &b, &q, &w);
+        double wt[2];
+        cr_assert_eq(features_blocks(f, &b, &q, wt), 0);
+        cr_assert_eq(features_blocks(fb, &b, &q, wt), -1);
+        features_blocks(f, &b, &q, wt);
+        double w = wt[1];
         size_t Vb = features_dim(fb), E = features_dim(fd);
         cr_assert_eq(features_dim(f), Vb + E);
         cr_assert(features_sparse(f));
@@ -629,13 +630,15 @@ Test(features, combined_row_is_bow_beside_weighted_pooled)
         features_transform(fb, &d, all, 7, &XB, NULL);
         features_transform(fd, &d, all, 7, &XD, NULL);
         cr_assert(X.sparse && X.n == 7 && X.d == Vb + E);
-        double sq = 0;
+        double sq = 0, sqb = 0;
         for (size_t i = 0; i < 7; i++) {
             size_t a = X.rowptr[i], nb = XB.rowptr[i + 1] - XB.rowptr[i];
             cr_assert_eq(X.rowptr[i + 1] - a, nb + E, "row %zu has %zu entries", i, X.rowptr[i + 1] - a);
             for (size_t k = 0; k < nb; k++) {
                 cr_assert_eq(X.col[a + k], XB.col[XB.rowptr[i] + k]);
-                cr_assert(X.val[a + k] == XB.val[XB.rowptr[i] + k], "row %zu bow entry %zu", i, k);
+                cr_assert(X.val[a + k] == wt[0] * XB.val[XB.rowptr[i] + k], "row %zu bow entry %zu", i, k);
+                if (i != 2)
+                    sqb += X.val[a + k] * X.val[a + k];
             }
             for (size_t k = 0; k < E; k++) {
                 cr_assert_eq(X.col[a + nb + k], Vb + k);
@@ -644,11 +647,13 @@ Test(features, combined_row_is_bow_beside_weighted_pooled)
                     sq += XD.x[i * E + k] * XD.x[i * E + k];
             }
         }
-        cr_assert_float_eq(w, 1.0 / sqrt(sq / 6.0), 1e-15);
-        cr_assert_float_eq(w * w * sq / 6.0, 1.0, 1e-12, "pooled block's mean squared length");
-        /* three columns that all vary: w = 1/sqrt(E), common practice for
-         * standardised columns (each has mean square 1) */
-        cr_assert_float_eq(w, 1.0 / sqrt(3.0), 1e-12);
+        cr_assert_float_eq(w, sqrt(3.0 / (sq / 6.0)), 1e-15);
+        cr_assert_float_eq(w * w * sq / 6.0, 3.0, 1e-12, "pooled block's mean squared length");
+        cr_assert_float_eq(sqb / 6.0, 3.0, 1e-12, "bow block's mean squared length (every training row has words)");
+        cr_assert_float_eq(wt[0], sqrt(3.0), 1e-15);
+        /* three standardised columns that all vary have mean squares of 1
+         * each (common practice): the pooled block is left as it is */
+        cr_assert_float_eq(w, 1.0, 1e-12);
         fmat_release(&X);
         fmat_release(&XB);
         fmat_release(&XD);
@@ -708,6 +713,7 @@ Test(features, combined_load_rejects_damaged_fields)
     } cases[] = {
         { NULL, "dimensions", "9", "field 'features.dimensions' is 9 but the blocks have" },
         { NULL, "pooled_weight", "0", "field 'features.pooled_weight'" },
+        { NULL, "bow_weight", "\"1\"", "field 'features.bow_weight'" },
         { NULL, "bag_of_words", "null", "field 'features.bag_of_words'" },
         { "pooled", "pool", "\"mean\"", "field 'features.pooled.pool' is 'mean', but the route is 'bow+sif'" },
         { "bag_of_words", "pool", "\"tfidf\"", "field 'features.bag_of_words." },

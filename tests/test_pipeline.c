@@ -71,9 +71,9 @@ static void check_explanation_adds_up(enum features_pool pool)
     const double *mean, *sd;
     /* combined: the pooled block sits at columns [off, D), times wt */
     const featurizer *fb, *fd;
-    double wt = 1;
+    double wts[2] = { 1, 1 };
     size_t off = 0;
-    if (features_blocks(f, &fb, &fd, &wt) == 0) {
+    if (features_blocks(f, &fb, &fd, wts) == 0) {
         off = features_dim(fb);
         features_scaler(fd, &mean, &sd);
     } else {
@@ -83,7 +83,7 @@ static void check_explanation_adds_up(enum features_pool pool)
     for (size_t j = 0; j < K; j++) {
         c[j] = b[j];
         for (size_t q = 0; mean && off + q < D; q++)
-            c[j] -= W[j * D + off + q] * wt * mean[q] / sd[q];
+            c[j] -= W[j * D + off + q] * wts[1] * mean[q] / sd[q];
     }
     for (size_t i = 0; i < N; i++) {
         const char *toks[8];

@@ -24,16 +24,23 @@
  *   bow+mean, bow+tfidf, bow+sif
  *          the combined route: the bow row and the pooled row side by side
  *          in one sparse row, columns [0, V) the bow block and [V, V+E)
- *          the pooled block.  The pooled block is standardised as below and
- *          then multiplied by w = 1 / sqrt(mean_i ||z_i||^2), the mean taken
- *          over the training rows' standardised pooled rows z_i (w is
- *          1/sqrt(E) when every column varies).  Both blocks then have a
- *          mean squared length of 1 over the training rows: the bow rows
- *          have length 1 each, and a standardised E-column block would
- *          otherwise have squared length about E (300 against 1), so an
+ *          the pooled block, each block multiplied by its weight so that
+ *          its mean squared row length over the training rows is E:
+ *            bow     w_b = sqrt(E)        (every bow row has length 1)
+ *            pooled  w_p = sqrt(E / mean_i ||z_i||^2), z_i the training
+ *                    rows' pooled rows after standardisation (w_p = 1 when
+ *                    every column varies: the block is then exactly what
+ *                    the pooled route alone gives the classifier)
+ *          Why equal energy: a standardised E-column block has squared
+ *          length about E (300 against the bow row's 1), so an
  *          L2-penalised classifier, which charges every weight alike, would
- *          reach its fit almost only through the pooled block.  Equal
- *          energy leaves it to the data which block earns weight.
+ *          reach its fit almost only through the pooled block; with equal
+ *          energy the data decide which block earns weight.  Why E and not
+ *          1: the pooled block keeps the scale at which --C was tuned for
+ *          pooling (C = 1 means the same for it as in the pooled route);
+ *          scaling both blocks to 1 is the same as dividing C by E, which
+ *          cost 2 to 4.5 points of macro-F1 on tests/bench/bench_accuracy's
+ *          spam and sotu sets (0.928 against 0.948, 0.592 against 0.637).
  * Dense features are then standardised: (x - mean) / sd per column, fitted
  * on the training rows (sd 0 -> 1).  A text with no token that has a vector
  * becomes the zero vector before scaling, and is counted.
@@ -174,10 +181,11 @@ const struct vecset *features_vectors(const featurizer *f);
 const char *features_term(const featurizer *f, size_t j);
 
 /* The two blocks of a combined route: the bow featurizer (columns [0, Vb)),
- * the pooled one (columns [Vb, D)), and the weight w the pooled block's
- * standardised values are multiplied by.  Borrowed.  Returns 0, or -1 (and
- * sets nothing) when 'f' is not combined. */
-int features_blocks(const featurizer *f, const featurizer **bow, const featurizer **pooled, double *w);
+ * the pooled one (columns [Vb, D)), and the weights their values are
+ * multiplied by: w[0] the bow block's, w[1] the pooled block's (after its
+ * standardisation).  Borrowed.  Returns 0, or -1 (and sets nothing) when
+ * 'f' is not combined. */
+int features_blocks(const featurizer *f, const featurizer **bow, const featurizer **pooled, double w[2]);
 
 /* Persistence as JSON fields of 'obj'; load validates everything and needs
  * the same vector set (the caller checks its fingerprint). */

@@ -148,9 +148,7 @@ int compare_grid_run(struct compare_row *rows, size_t n, const size_t *vidx, con
 
 int compare_level(const struct compare_row *row)
 {
-    if (row->clf == CLF_SVM_RBF)
-        return 2;
-    return features_pool_combined(row->pool) ? 1 : 0;
+    return row->clf == CLF_SVM_RBF;
 }
 
 size_t compare_choose(const struct compare_row *rows, const size_t *order, size_t n)
@@ -166,15 +164,14 @@ size_t compare_choose(const struct compare_row *rows, const size_t *order, size_
 
 /* ---- train --choose ---- */
 
-static const char *const LEVEL_NAME[] = { "a linear classifier on one block of features",
-                                          "a linear classifier on the combined route",
+static const char *const LEVEL_NAME[] = { "a linear classifier (its top words explain each prediction)",
                                           "the RBF kernel" };
 
 static const char *RULE =
     "Every set-up is cross-validated on the same folds and ranked by mean macro-F1; each is tested against "
     "the best with the corrected resampled t-test (Nadeau and Bengio 2003), one-sided at 5%. Of the set-ups "
-    "not significantly worse than the best, the simplest level is kept (0: a linear classifier on one block "
-    "of features; 1: on the combined route's two blocks; 2: the RBF kernel), and within it the highest mean "
+    "not significantly worse than the best, the simpler level is kept (0: a linear classifier, on any "
+    "features, whose scores split into one term per word; 1: the RBF kernel), and within it the highest mean "
     "macro-F1.";
 
 int compare_grid_choose(const struct corpus *c, const char *data, const struct data_args *da,
