@@ -120,12 +120,18 @@ void cli_parser_init(struct cli_parser *p, const struct cli_cmd *cmd, int argc, 
     p->argv = argv;
     p->i = 1;
     p->pos = xcalloc((size_t)argc + 1, sizeof *p->pos);
+    size_t nopts = 0;
+    while (cmd->opts && cmd->opts[nopts].name)
+        nopts++;
+    p->seen = xcalloc(nopts + 1, sizeof *p->seen);
 }
 
 void cli_parser_release(struct cli_parser *p)
 {
     free(p->pos);
+    free(p->seen);
     p->pos = NULL;
+    p->seen = NULL;
 }
 
 static const char *closest_option(const struct cli_cmd *cmd, const char *name)
@@ -301,10 +307,20 @@ int cli_parse(struct cli_parser *p, const struct cli_cmd *cmd, int argc, char **
     cli_parser_init(p, cmd, argc, argv);
     int i;
     const char *val;
-    while ((i = cli_next(p, &val)) >= 0)
+    while ((i = cli_next(p, &val)) >= 0) {
+        p->seen[i] = ++p->nseen;
         if (take(cmd, &cmd->opts[i], val, args) < 0)
             return CLI_FAIL;
+    }
     return i;
+}
+
+int cli_seen(const struct cli_parser *p, const char *name)
+{
+    for (int i = 0; p->cmd->opts && p->cmd->opts[i].name; i++)
+        if (strcmp(p->cmd->opts[i].name, name) == 0)
+            return p->seen[i];
+    return 0;
 }
 
 int cli_parse_exact(const struct cli_cmd *cmd, int argc, char **argv, void *args, int n, const char **pos,

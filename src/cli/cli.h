@@ -99,6 +99,8 @@ struct cli_parser {
     int no_more_opts;   /* after "--" */
     char **pos;         /* positional arguments, in order */
     int npos;
+    int *seen;          /* per option row: when it was last given (1, 2, ...), or 0 */
+    int nseen;
 };
 
 /* Start parsing argv[1..argc) for 'cmd' (argv[0] is the command's name).
@@ -126,6 +128,11 @@ int cli_parse(struct cli_parser *p, const struct cli_cmd *cmd, int argc, char **
  * return: 0 after --help, 2 after a usage error. */
 int cli_parse_exact(const struct cli_cmd *cmd, int argc, char **argv, void *args, int n, const char **pos,
                     const char *wrong);
+
+/* After cli_parse: 0 when option 'name' was not given, else a number that
+ * grows with its place on the command line (of its last occurrence), so
+ * two options' order can be compared. */
+int cli_seen(const struct cli_parser *p, const char *name);
 
 /* The exit status for what cli_parse returned when it is not CLI_END:
  * 0 after --help, 2 after a usage error. */

@@ -7,6 +7,7 @@
 
 #include "commands.h"
 #include "common.h"
+#include "compare_grid.h"
 #include "vecsift/cv.h"
 #include "vecsift/err.h"
 #include "vecsift/jsonv.h"
@@ -17,18 +18,17 @@
 #include "vecsift/xalloc.h"
 
 struct train_args {
-    struct common_data da;
-    struct common_fit fa;
+    struct common_cv cv; /* folds and repeats: for --choose */
     const char *out, *evaluation;
     double review;
-    int search;
+    int search, choose;
 };
 
 #define A struct train_args
 static const struct cli_opt opts[] = {
     CLI_OPT_STR("output", 'o', "<file>", "where to write the model (required; JSON)", A, out),
-    COMMON_FIT_OPTIONS(A, fa),
-    COMMON_DATA_OPTIONS(A, da),
+    COMMON_FIT_OPTIONS(A, cv.fa),
+    COMMON_DATA_OPTIONS(A, cv.da),
     CLI_OPT_DOUBLE("review-below", 0, "<p>", "store this confidence cut-off in the model for predict\n"
                    "                              (default: the --evaluation file's cut-off, else none)", A, review,
                    0, 1),
@@ -36,7 +36,12 @@ static const struct cli_opt opts[] = {
                 A, evaluation),
     CLI_OPT_FLAG("search", 0, "choose C (and gamma) by 3-fold cross-validation on all rows, as evaluate --search does",
                  A, search),
-    COMMON_RUN_OPTIONS(A, da),
+    CLI_OPT_FLAG("choose", 0, "pick --pool and --classifier: cross-validate compare's grid on all rows, keep the best\n"
+                 "                              or a simpler set-up not significantly worse (table in the model)", A,
+                 choose),
+    CLI_OPT_INT("folds", 'k', "<n>", "with --choose: folds, >= 2 (default: 5)", A, cv.cp.folds, 2, 1000),
+    COMMON_OPT_REPEATS("with --choose: repeats with fresh shuffles (default: 3)", A, cv.cp),
+    COMMON_RUN_OPTIONS(A, cv.da),
     CLI_OPT_END
 };
 #undef A
@@ -50,7 +55,17 @@ const struct cli_cmd cmd_train_info = {
     "the vector set; predict refuses other vectors.  It also stores words from\n"
     "the training texts: treat the model file as personal data wherever those\n"
     "texts are, under the applicable law and your organisation's policy.\n"
-    "Measure before you deploy: 'vecsift evaluate' with the same options."
+    "Measure before you deploy: 'vecsift evaluate' with the same options.\n"
+    "\n"
+    "--choose cross-validates, on the same folds, the bag of words and (with\n"
+    "--vectors) every pooling and combined route, each with logreg and\n"
+    "svm-rbf, as compare does.  Of the set-ups not significantly worse than\n"
+    "the best (corrected resampled t-test, one-sided at 5%), it keeps the\n"
+    "simpler kind (a linear classifier, whose top words explain each\n"
+    "prediction, before the RBF kernel) and within it the highest mean\n"
+    "macro-F1; then it fits that set-up on every row.  The table and the\n"
+    "choice are printed and stored in the model.  The choice is only as good\n"
+    "as the labelled rows are like the texts to come."
 };
 
 /* The summary of an `evaluate --json` file, checked to describe the same
@@ -84,7 +99,12 @@ static int read_evaluation(const char *path, const struct common_fit *fa, cJSON 
                 cJSON_AddItemToObject(*summary, keep[i], cJSON_Duplicate(it, 1));
         }
         const cJSON *th = cJSON_GetObjectItemCaseSensitive(root, "threshold");
-        const cJSON *cut = th ? cJSON_GetObjectItemCaseSensitive(th, "cutoff") : NULL;
+        /* the cut-off evaluate advised (review_below: the shortest decimal
+         * that keeps the same out-of-fold rows), so the model, predict and
+         * demo print the number evaluate printed; older files: cutoff */
+        const cJSON *cut = th ? cJSON_GetObjectItemCaseSensitive(th, "review_below") : NULL;
+        if (!cut || !cJSON_IsNumber(cut))
+            cut = th ? cJSON_GetObjectItemCaseSensitive(th, "cutoff") : NULL;
         if (th) {
             cJSON *t = cJSON_Duplicate(th, 1);
             cJSON_DeleteItemFromObjectCaseSensitive(t, "curve"); /* the curve stays in the evaluation file */
@@ -123,20 +143,31 @@ int cmd_train(int argc, char **argv)
     const struct cli_cmd *cmd = &cmd_train_info;
     struct train_args a;
     memset(&a, 0, sizeof a);
-    common_data_init(&a.da);
-    common_fit_init(&a.fa);
+    common_cv_init(&a.cv, 3);
     a.review = -1;
-    const char *data = NULL;
-    int rc = cli_parse_exact(cmd, argc, argv, &a, 1, &data, "train takes one data file");
+    struct cli_parser p;
+    int rc = cli_parse(&p, cmd, argc, argv, &a);
+    const char *data = p.npos == 1 ? p.pos[0] : NULL;
+    int npos = p.npos, by_pool = cli_seen(&p, "pool"), by_clf = cli_seen(&p, "classifier");
+    int folds_given = cli_seen(&p, "folds") > 0;
+    /* --pool or --classifier (the later one), which --choose picks */
+    const char *fixed = by_pool || by_clf ? (by_pool > by_clf ? "pool" : "classifier") : NULL;
+    cli_parser_release(&p);
     if (rc != CLI_END)
-        return rc;
+        return cli_parse_status(rc);
+    if (npos != 1)
+        return cli_usage(cmd, "train takes one data file");
     if (!a.out)
         return cli_usage(cmd, "train needs -o MODEL.json");
+    if (a.choose && fixed)
+        return cli_usage(cmd, "--choose picks the pooling and classifier: leave out --%s", fixed);
     rc = ERR_OK;
-    struct common_data *da = &a.da;
-    struct common_fit *fa = &a.fa;
+    struct common_data *da = &a.cv.da;
+    struct common_fit *fa = &a.cv.fa;
+    struct cv_params cp = a.cv.cp;
     const char *out = a.out, *evaluation = a.evaluation;
     double review = a.review;
+    int choose = a.choose;
     fa->spec.seed = da->seed;
 
     struct err e = ERR_INIT;
@@ -148,7 +179,7 @@ int cmd_train(int argc, char **argv)
     const char *ins[] = { data, fa->vectors, evaluation };
     if (ofile_check_distinct(out, ins, 3, &e) < 0)
         goto fail;
-    if (evaluation && read_evaluation(evaluation, fa, &m.evaluation, &review, &e) < 0)
+    if (!choose && evaluation && read_evaluation(evaluation, fa, &m.evaluation, &review, &e) < 0)
         goto fail;
     struct dataset_options dopt;
     common_data_options(da, 1, &dopt);
@@ -157,6 +188,10 @@ int cmd_train(int argc, char **argv)
     rows_per = xcalloc(c.ds.nlabels ? c.ds.nlabels : 1, sizeof *rows_per);
     if (check_labels(&c, rows_per, &e) < 0)
         goto fail;
+    if (choose && fa->vectors) /* --pool's default needs vectors; the grid uses them when given */
+        fa->spec.feat.pool = POOL_TFIDF;
+    else if (choose)
+        fa->spec.feat.pool = POOL_BOW;
     if (common_open_vectors(fa, &vs, &e) < 0)
         goto fail;
     if (c.ds.replaced)
@@ -173,6 +208,34 @@ int cmd_train(int argc, char **argv)
     rows = xcalloc(c.ds.n, sizeof *rows);
     for (size_t r = 0; r < c.ds.n; r++)
         rows[r] = r;
+    if (choose) {
+        /* Stratified folds need a row of every label in each: unless told
+         * otherwise, use no more folds than the smallest label has rows
+         * (check_labels made sure it has two). */
+        size_t small = 0;
+        for (size_t k = 1; k < c.ds.nlabels; k++)
+            if (rows_per[k] < rows_per[small])
+                small = k;
+        if (!folds_given && rows_per[small] < (size_t)cp.folds) {
+            cp.folds = (int)rows_per[small];
+            if (!cli_quiet)
+                fprintf(stderr, "note: label '%s' has %zu rows, so the choice cross-validates with %d folds\n",
+                        c.ds.labels[small], rows_per[small], cp.folds);
+        }
+        cp.seed = da->seed;
+        cp.threads = da->threads;
+        struct pipeline_spec pick;
+        if (compare_grid_choose(&c, data, da, fa, vs, &cp, cli_quiet ? NULL : strcmp(out, "-") ? stdout : stderr,
+                                &pick, &m.choice, &e) < 0)
+            goto fail;
+        fa->spec = pick;
+        if (!features_pool_needs_vectors(pick.feat.pool)) { /* the model then holds no vectors */
+            vecset_close(vs);
+            vs = NULL;
+        }
+        if (evaluation && read_evaluation(evaluation, fa, &m.evaluation, &review, &e) < 0)
+            goto fail;
+    }
     if (a.search) {
         /* The grid and inner folds of evaluate --search, on every row. */
         struct pipeline_spec best;
@@ -187,6 +250,7 @@ int cmd_train(int argc, char **argv)
         }
     }
     struct pipeline_fit_info info;
+    fa->spec.tol = PIPELINE_FINAL_TOL; /* the one fit users keep: near the exact optimum (pipeline.h) */
     m.pipe = pipeline_fit(&fa->spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
     if (!m.pipe) {
         common_name_file(&e, data);

@@ -24,10 +24,14 @@
 
 struct learn_args {
     struct embed_params p;
+    struct pieces_params pp;
     struct common_data da;
     const char *out, *start, *tokens;
     long min_freq;
+    int pieces;
 };
+
+static cli_take_fn take_lengths, take_buckets;
 
 /* Text, CSV and run options are common.c's, so the tokeniser settings mean
  * exactly what they mean for classification. */
@@ -47,6 +51,12 @@ static const struct cli_opt opts[] = {
     CLI_OPT_STR("start-from", 0, "<file>", "begin known words at their vectors in this .vecs", A, start),
     CLI_OPT_STR("write-tokens", 0, "<file>", "also write the corpus as training sees it, one document a line", A,
                 tokens),
+    CLI_OPT_FLAG("pieces", 0, "also learn vectors of character pieces, so misspelt and unseen words get one (default: off)",
+                 A, pieces),
+    CLI_OPT_FN("piece-lengths", 0, "<a-b>", "with --pieces: piece lengths in characters, 1..16 (default: 3-6)", A, pp,
+               struct pieces_params, take_lengths),
+    CLI_OPT_FN("piece-buckets", 0, "<n>", "with --pieces: rows pieces are hashed into (default: 2000000)", A,
+               pp.buckets, uint32_t, take_buckets),
     COMMON_OPT_TEXT_COL("CSV column holding text; repeat to join several (default: text)", A, da),
     COMMON_OPT_ENCODING("CSV input: utf-8 | windows-1252 | latin-1 (default: utf-8)", A, da),
     COMMON_OPT_REPLACE_INVALID("CSV input: replace invalid UTF-8 by U+FFFD instead of stopping", A, da),
@@ -60,6 +70,31 @@ static const struct cli_opt opts[] = {
 };
 #undef A
 
+static int take_lengths(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    (void)o;
+    struct pieces_params *pp = dst;
+    unsigned a, b;
+    char tail;
+    if (sscanf(val, "%u-%u%c", &a, &b, &tail) != 2 || a < 1 || a > b || b > PIECES_LONGEST) {
+        cli_usage(cmd, "--piece-lengths must be two lengths a-b with 1 <= a <= b <= %d, not '%s'", PIECES_LONGEST,
+                  val);
+        return -1;
+    }
+    pp->min_len = a;
+    pp->max_len = b;
+    return 0;
+}
+
+static int take_buckets(const struct cli_cmd *cmd, const struct cli_opt *o, const char *val, void *dst)
+{
+    long n;
+    if (cli_long(cmd, o->name, val, 1, 4294967295L, &n) < 0)
+        return -1;
+    *(uint32_t *)dst = (uint32_t)n;
+    return 0;
+}
+
 const struct cli_cmd cmd_vectors_learn_info = {
     "vectors learn",
     "[options] <corpus> -o <vectors.vecs>",
@@ -70,7 +105,15 @@ const struct cli_cmd cmd_vectors_learn_info = {
     "classification, so give both the same text options.  Words are\n"
     "written most frequent first.  With --threads 1 the same --seed gives the\n"
     "same file byte for byte; with more threads updates race (by design, for\n"
-    "speed) and results differ slightly from run to run.",
+    "speed) and results differ slightly from run to run.\n"
+    "\n"
+    "With --pieces each word is learned together with its character pieces\n"
+    "(Bojanowski et al. 2017): the store then also keeps the pieces, and a\n"
+    "word it does not hold, misspelt or new, gets the mean of its pieces'\n"
+    "vectors wherever the store is used.  Training takes about three times as\n"
+    "long; docs/vecs-format.md says why it is off by default.  A composed\n"
+    "vector is a guess from spelling: a misspelt urgent word may still land\n"
+    "near the wrong queue, so keep a person on the review route.",
 };
 
 /* ---- progress ---- */
@@ -127,10 +170,13 @@ int cmd_vectors_learn(int argc, char **argv)
 {
     const struct cli_cmd *cmd = &cmd_vectors_learn_info;
     struct embed_params pinit = EMBED_PARAMS_INIT;
+    struct pieces_params ppinit = PIECES_PARAMS_INIT;
     struct embed_corpus c = EMBED_CORPUS_INIT;
     struct learn_args a;
     struct err e = ERR_INIT;
     struct cli_parser ps;
+    struct embed_pieces pc = EMBED_PIECES_INIT;
+    float *pvec = NULL;
     float *vec = NULL;
     unsigned char *known = NULL;
     vecset *from = NULL;
@@ -139,14 +185,18 @@ int cmd_vectors_learn(int argc, char **argv)
     cli_quiet = 0;
     memset(&a, 0, sizeof a);
     a.p = pinit;
+    a.pp = ppinit;
     a.min_freq = 5;
     common_data_init(&a.da);
     a.da.threads = 1; /* repeatable unless asked otherwise */
     int r = cli_parse(&ps, cmd, argc, argv, &a);
     struct embed_params p = a.p;
+    struct pieces_params pp = a.pp;
     struct common_data da = a.da;
     const char *out = a.out, *start = a.start, *tokens = a.tokens;
     long min_freq = a.min_freq;
+    int pieces = a.pieces, by_len = cli_seen(&ps, "piece-lengths"), by_buckets = cli_seen(&ps, "piece-buckets");
+    const char *piece_opt = by_len || by_buckets ? (by_len > by_buckets ? "--piece-lengths" : "--piece-buckets") : NULL;
     p.seed = da.seed;
     p.threads = da.threads;
     if (r != CLI_END) {
@@ -162,6 +212,10 @@ int cmd_vectors_learn(int argc, char **argv)
     }
     if (!out) {
         cli_usage(cmd, "no output file given (-o FILE)");
+        goto out;
+    }
+    if (piece_opt && !pieces) {
+        cli_usage(cmd, "%s only applies with --pieces", piece_opt);
         goto out;
     }
     const char *corpus = ps.pos[0];
@@ -190,15 +244,25 @@ int cmd_vectors_learn(int argc, char **argv)
     struct progress pr = { .last = -1 };
     clock_gettime(CLOCK_MONOTONIC, &pr.start);
     int show = !cli_quiet && isatty(STDERR_FILENO);
-    if (embed_train(&c, &p, vec, known, show ? show_progress : NULL, &pr, &e) < 0)
+    if (pieces) {
+        embed_pieces_build(&pc, &c, &pp);
+        pvec = xcalloc(pc.nrows ? pc.nrows : 1, xmul(p.dim, sizeof *pvec));
+        if (embed_train_pieces(&c, &p, &pc, vec, pvec, known, show ? show_progress : NULL, &pr, &e) < 0)
+            goto fail;
+    } else if (embed_train(&c, &p, vec, known, show ? show_progress : NULL, &pr, &e) < 0) {
         goto fail;
+    }
     if (pr.shown)
         fputc('\n', stderr);
     double secs = since(&pr.start);
     if (tokens && write_tokens(&c, tokens, &e) < 0)
         goto fail;
-    if (vecset_write(out, (const char *const *)c.words, vec, c.nwords, p.dim, &e) < 0)
+    struct vecset_pieces vp = { pp, pc.nrows, pc.bucket, pvec };
+    if (vecset_write_pieces(out, (const char *const *)c.words, vec, c.nwords, p.dim, pieces ? &vp : NULL, &e) < 0)
         goto fail;
+    if (pieces)
+        cli_note("vecsift: %zu piece rows (%u to %u characters, %lu buckets) kept for words not in the set",
+                 pc.nrows, pp.min_len, pp.max_len, (unsigned long)pp.buckets);
     cli_note("vecsift: %zu words x %zu dimensions from %zu documents (%llu words, %llu kept) "
              "in %.1f s -> %s",
              c.nwords, p.dim, c.lines, (unsigned long long)c.tokens_read,
@@ -209,6 +273,8 @@ fail:
     status = cli_fail(&e);
 out:
     vecset_close(from);
+    embed_pieces_release(&pc);
+    free(pvec);
     free(vec);
     free(known);
     embed_corpus_release(&c);

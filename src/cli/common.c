@@ -3,6 +3,8 @@
 #include "common.h"
 
 #include <malloc.h>
+#include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
 
@@ -16,6 +18,15 @@ int common_cores(void)
 {
     long n = sysconf(_SC_NPROCESSORS_ONLN);
     return n < 1 ? 1 : n > 256 ? 256 : (int)n;
+}
+
+void common_cut_format(double p, char *buf, size_t n)
+{
+    for (int d = 3; d <= 17; d++) {
+        snprintf(buf, n, "%.*f", d, p);
+        if (strtod(buf, NULL) == p)
+            return;
+    }
 }
 
 /* ---- the option parsers ---- */
@@ -54,7 +65,7 @@ int common_take_pool(const struct cli_cmd *cmd, const struct cli_opt *o, const c
 {
     (void)o;
     if (features_pool_parse(val, dst) < 0) {
-        cli_usage(cmd, "option '--pool' takes mean, tfidf, sif or bow, not '%s'", val);
+        cli_usage(cmd, "option '--pool' takes one of " FEATURES_POOL_NAMES ", not '%s'", val);
         return -1;
     }
     return 0;
@@ -218,7 +229,7 @@ int *common_cv_groups(struct cv_params *cp, const struct corpus *c)
 int common_open_vectors(const struct common_fit *f, struct vecset **vs, struct err *e)
 {
     *vs = NULL;
-    if (f->spec.feat.pool == POOL_BOW)
+    if (!features_pool_needs_vectors(f->spec.feat.pool))
         return 0;
     if (!f->vectors) {
         err_set(e, NULL, 0, "pooling '%s' needs word vectors", features_pool_name(f->spec.feat.pool));

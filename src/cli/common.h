@@ -117,7 +117,9 @@ cli_take_fn common_take_class_weight; /* int: 1 balanced, 0 none */
 
 #define COMMON_FIT_OPTIONS(T, F) \
     COMMON_OPT_VECTORS("packed vector set (.vecs); needed unless --pool bow", T, F), \
-    COMMON_OPT_POOL("mean | tfidf | sif | bow (default: tfidf; bow needs no vectors)", T, F), \
+    COMMON_OPT_POOL("mean | tfidf | sif | bow | bow+mean | bow+tfidf | bow+sif\n" \
+                    "                              (default: tfidf; bow needs no vectors; bow+P: both side by side)", \
+                    T, F), \
     CLI_OPT_FN("classifier", 'c', "<name>", "logreg | svm-linear | svm-rbf (default: logreg)", T, \
                F.spec.clf, enum pipeline_classifier, common_take_classifier), \
     COMMON_OPT_C("inverse regularisation strength, > 0 (default: 1)", T, F), \
@@ -174,5 +176,10 @@ int common_open_vectors(const struct common_fit *f, struct vecset **vs, struct e
 
 /* Online cores, 1 to 256. */
 int common_cores(void);
+
+/* A confidence cut-off as every command prints it: the shortest decimal
+ * with at least three places that reads back as 'p' (evaluate's advice
+ * 0.884 stays "0.884", 0.9 is "0.900", 0.8841 is "0.8841"). */
+void common_cut_format(double p, char *buf, size_t n);
 
 #endif
