@@ -36,9 +36,7 @@ static const struct cli_opt opts[] = {
     COMMON_OPT_FOLDS(A, cv.cp),
     COMMON_OPT_REPEATS("repeats with fresh shuffles; probabilities are averaged (default: 1)", A, cv.cp),
     COMMON_OPT_GROUP_COL(A, cv.da),
-    COMMON_DATA_OPTIONS(A, cv.da),
-    COMMON_RUN_OPTIONS(A, cv.da),
-    CLI_OPT_END
+    COMMON_CV_LAST_OPTIONS(A, cv)
 };
 #undef A
 

@@ -56,9 +56,7 @@ static const struct cli_opt opts[] = {
     COMMON_OPT_REPEATS("repeats with fresh shuffles (default: 3)", A, cv.cp),
     CLI_OPT_STR("json", 'j', "<file>", "write the ranking, per-fold scores and tests as JSON", A, json),
     CLI_OPT_STR("report", 0, "<file>", "write a self-contained HTML page with an interval plot", A, report),
-    COMMON_DATA_OPTIONS(A, cv.da),
-    COMMON_RUN_OPTIONS(A, cv.da),
-    CLI_OPT_END
+    COMMON_CV_LAST_OPTIONS(A, cv)
 };
 #undef A
 

@@ -45,9 +45,7 @@ static const struct cli_opt opts[] = {
     CLI_OPT_STR("plot", 0, "<file>", "write the curve as an SVG image", A, plot),
     CLI_OPT_STR("report", 0, "<file>", "write a self-contained HTML page", A, report),
     CLI_OPT_STR("json", 'j', "<file>", "write the points and the estimate as JSON", A, json),
-    COMMON_DATA_OPTIONS(A, cv.da),
-    COMMON_RUN_OPTIONS(A, cv.da),
-    CLI_OPT_END
+    COMMON_CV_LAST_OPTIONS(A, cv)
 };
 #undef A
 

@@ -36,9 +36,7 @@ static const struct cli_opt opts[] = {
     CLI_OPT_STR("json", 'j', "<file>", "write every figure as JSON", A, json),
     CLI_OPT_STR("predictions", 0, "<file>", "write the out-of-fold predictions as CSV", A, preds),
     CLI_OPT_STR("report", 0, "<file>", "write a self-contained HTML report", A, report),
-    COMMON_DATA_OPTIONS(A, cv.da),
-    COMMON_RUN_OPTIONS(A, cv.da),
-    CLI_OPT_END
+    COMMON_CV_LAST_OPTIONS(A, cv)
 };
 #undef A
 

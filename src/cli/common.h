@@ -128,6 +128,9 @@ cli_take_fn common_take_class_weight; /* int: 1 balanced, 0 none */
     COMMON_OPT_SUBLINEAR_TF(T, F), \
     COMMON_OPT_MAX_ITER(T, F)
 
+/* The rows a table of a command with a struct common_cv member CV ends with. */
+#define COMMON_CV_LAST_OPTIONS(T, CV) COMMON_DATA_OPTIONS(T, CV.da), COMMON_RUN_OPTIONS(T, CV.da), CLI_OPT_END
+
 /* ---- set-up ---- */
 
 /* Defaults: text column "text", label column "label", UTF-8, the text
