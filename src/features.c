@@ -1,15 +1,17 @@
-/* features.c -- pooling of word vectors, sparse TF-IDF bag of words,
- * standardisation.  The formulas are in features.h.
+/* features.c -- fitting and pooling: pooling of word vectors, sparse TF-IDF
+ * bag of words, standardisation, the combined route.  The formulas are in
+ * features.h.  The caches (a memo for streams, pooled rows for
+ * cross-validation) are in features_cache.c, the model-file form in
+ * features_file.c; features_impl.h is what the three share.
  *
  * Every path, cross-validation (token ids) and prediction (token strings),
- * goes through one function, pool_doc(), on the document's token strings,
+ * goes through one function, features_pool_doc(), on the document's token strings,
  * so that `features`, `evaluate` and `predict` compute exactly the same
  * numbers.
  */
 #include "vecsift/features.h"
 
 #include <assert.h>
-#include <cjson/cJSON.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -17,29 +19,11 @@
 
 #include "vecsift/err.h"
 #include "vecsift/fmat.h"
-#include "vecsift/jsonv.h"
 #include "vecsift/vecset.h"
 #include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
+#include "features_impl.h"
 #include "vec4.h"
-
-/* N = training rows, V = words/terms seen in training, D = output width,
- * E = vector dimension (D = E for pooling). */
-struct featurizer {
-    struct features_params p;
-    const vecset *vs;
-    size_t n_train;
-    vocab *words;       /* unigrams (pooling) or terms kept as columns (bow) */
-    double *idf;        /* (V) */
-    double *pw;         /* (V) sif: relative frequency */
-    double idf_unseen;  /* idf of a word never seen in training: ln(1+N) + 1 */
-    size_t D;
-    double *mean, *sd;  /* (D) scaler, NULL for bow or when not scaling */
-    double *u;          /* (D) sif component, unit length, or NULL */
-    /* combined (bow+...): the two blocks, and the pooled block's weight */
-    featurizer *bag, *pooled;
-    double wbow, wdense;
-};
 
 /* the combined route, in its own section below */
 static featurizer *combined_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows,
@@ -47,9 +31,6 @@ static featurizer *combined_fit(const struct features_params *p, const struct to
                                 struct features_stats *st, struct err *e);
 static void combined_doc(const featurizer *f, const char *const *toks, size_t ntok, struct fmat *X,
                          struct features_stats *st);
-static void combined_save(const featurizer *f, cJSON *obj);
-static featurizer *combined_load(const struct jsonv_ctx *c, const cJSON *obj, enum features_pool pool,
-                                 const vecset *vs);
 
 static const char *const pool_names[FEATURES_POOLS] = { "mean", "tfidf", "sif", "bow", "bow+mean", "bow+tfidf",
                                                         "bow+sif" };
@@ -122,20 +103,7 @@ void features_free(featurizer *f)
 
 /* ---- one document ---- */
 
-/* Distinct terms of a document with their counts, in order of first
- * appearance, so every sum below runs in one fixed order.  Terms are the
- * tokens, plus "a b" for each adjacent pair when 'pairs'.  Found with a
- * small open-addressing table (FNV-1a, vocab_hash): a sort with string
- * compares cost more than the pooling it serves. */
-struct bag {
-    const char **term;
-    uint64_t *hash;   /* vocab_hash of each term, reused for the lookups */
-    double *tf;
-    size_t n;
-    char *pairbuf;
-};
-
-static void bag_make(struct bag *b, const char *const *toks, size_t ntok, int pairs)
+void features_bag_make(struct bag *b, const char *const *toks, size_t ntok, int pairs)
 {
     size_t cap = ntok + (pairs && ntok > 1 ? ntok - 1 : 0);
     const char **all = xcalloc(cap ? cap : 1, sizeof *all);
@@ -192,7 +160,7 @@ static void bag_make(struct bag *b, const char *const *toks, size_t ntok, int pa
     free(all);
 }
 
-static void bag_release(struct bag *b)
+void features_bag_release(struct bag *b)
 {
     free(b->tf);
     free(b->pairbuf);
@@ -203,20 +171,12 @@ static double tf_weight(const featurizer *f, double tf)
     return f->p.sublinear_tf ? 1.0 + log(tf) : tf;
 }
 
-/* What pooling needs to know of one distinct term of a document. */
-struct term_facts {
-    double tf;   /* occurrences in the document */
-    long row;    /* its vector's row, or -1 when it has none */
-    int32_t id;  /* its id among the training words, or -1 */
-};
-
 /* The facts of a term whose vocab_hash is 'h' ('tf' is left alone).  A
  * term the store has no row for, in a store with pieces, gets a vector
  * composed from its pieces (vecset_compose) into 'slab' ((k, E), grown,
  * k counted in *nslab) and row PIECE_ROW(k); slab NULL leaves it at -1. */
-#define PIECE_ROW(k) (-2 - (long)(k))
-static void look_up_pieces(const featurizer *f, const char *term, uint64_t h, struct term_facts *t, float **slab,
-                           size_t *nslab, size_t *cap)
+void features_look_up_pieces(const featurizer *f, const char *term, uint64_t h, struct term_facts *t, float **slab,
+                             size_t *nslab, size_t *cap)
 {
     t->row = vecset_find_hashed(f->vs, term, h);
     if (t->row < 0 && slab && vecset_pieces(f->vs)) {
@@ -235,8 +195,8 @@ static void look_up_pieces(const featurizer *f, const char *term, uint64_t h, st
  * vector and its vector row, for the terms that have a vector; keep[j] is
  * the index in 't' of the j-th such term.  Returns how many have a vector.
  * Adds the token count and with-vector count to 'st'. */
-static size_t word_coefs(const featurizer *f, const struct term_facts *t, size_t n, size_t *keep, double *c,
-                         long *row, struct features_stats *st)
+size_t features_word_coefs(const featurizer *f, const struct term_facts *t, size_t n, size_t *keep, double *c,
+                           long *row, struct features_stats *st)
 {
     size_t m = 0;
     double total = 0;
@@ -355,8 +315,8 @@ static void weighted_sum(const vecset *vs, const long *row, const float *compose
 
 /* x = sum_j c[j] v_j, then for sif the component removed: the pooled row
  * before scaling. */
-static void pool_rows(const featurizer *f, const long *row, const float *composed, const double *c, size_t m,
-                      double *x)
+void features_pool_rows(const featurizer *f, const long *row, const float *composed, const double *c, size_t m,
+                        double *x)
 {
     size_t E = f->D;
     weighted_sum(f->vs, row, composed, c, m, E, x);
@@ -384,27 +344,27 @@ static struct term_facts *bag_facts(const featurizer *f, const struct bag *b, do
     *composed = NULL;
     for (size_t i = 0; i < b->n; i++) {
         t[i].tf = b->tf[i];
-        look_up_pieces(f, b->term[i], b->hash[i], &t[i], composed, &nc, &ccap);
+        features_look_up_pieces(f, b->term[i], b->hash[i], &t[i], composed, &nc, &ccap);
     }
     return t;
 }
 
 /* Pooled vector of one document into x (E), before scaling.  Returns 0 when
  * no token had a vector (x is then zero). */
-static int pool_doc(const featurizer *f, const char *const *toks, size_t ntok, double *x, struct features_stats *st)
+int features_pool_doc(const featurizer *f, const char *const *toks, size_t ntok, double *x, struct features_stats *st)
 {
     struct bag b;
-    bag_make(&b, toks, ntok, 0);
+    features_bag_make(&b, toks, ntok, 0);
     double *c;
     long *row;
     size_t *keep;
     float *composed;
     struct term_facts *t = bag_facts(f, &b, &c, &row, &keep, &composed);
-    size_t m = word_coefs(f, t, b.n, keep, c, row, st);
-    pool_rows(f, row, composed, c, m, x);
+    size_t m = features_word_coefs(f, t, b.n, keep, c, row, st);
+    features_pool_rows(f, row, composed, c, m, x);
     free(composed);
     free(c);
-    bag_release(&b);
+    features_bag_release(&b);
     return m > 0;
 }
 
@@ -426,7 +386,7 @@ static void scale_vec(double *restrict x, const double *restrict mean, const dou
         x[d] = (x[d] - mean[d]) / sd[d];
 }
 
-static void scale_row(const featurizer *f, double *x)
+void features_scale_row(const featurizer *f, double *x)
 {
     if (f->mean)
         scale_vec(x, f->mean, f->sd, f->D);
@@ -437,7 +397,7 @@ static void bow_doc(const featurizer *f, const char *const *toks, size_t ntok, s
                     struct features_stats *st)
 {
     struct bag b;
-    bag_make(&b, toks, ntok, f->p.bigrams);
+    features_bag_make(&b, toks, ntok, f->p.bigrams);
     uint32_t *cols = xcalloc(b.n ? b.n : 1, sizeof *cols);
     double *vals = xcalloc(b.n ? b.n : 1, sizeof *vals);
     size_t m = 0;
@@ -477,13 +437,13 @@ static void bow_doc(const featurizer *f, const char *const *toks, size_t ntok, s
     fmat_push_row(X, cols, vals, m);
     free(cols);
     free(vals);
-    bag_release(&b);
+    features_bag_release(&b);
 }
 
 /* ---- fitting ---- */
 
 /* The token strings of document r of 'd' into 'buf' (grown as needed). */
-static const char **doc_tokens(const struct tokdocs *d, size_t r, const char **buf, size_t *cap, size_t *n)
+const char **features_doc_tokens(const struct tokdocs *d, size_t r, const char **buf, size_t *cap, size_t *n)
 {
     size_t a = d->off[r], z = d->off[r + 1];
     buf = xgrow(buf, cap, z - a + 1, sizeof *buf);
@@ -537,20 +497,6 @@ static double *first_component(const double *X, size_t n, size_t E)
     free(xu);
     return u;
 }
-
-/* Rows pooled once for many fits over subsets of the same documents: see
- * features.h.  Only pooling without fitted state (mean) is kept. */
-struct features_cache {
-    size_t n, E;
-    double *x;                    /* (N, E) unscaled pooled rows, or NULL */
-    struct features_stats *st;    /* (N) what pooling each row saw */
-    /* Pooling (not bow): each document's distinct tokens, as ids of the
-     * documents' vocabulary, in order of first appearance, with counts:
-     * what bag_make finds, so fit() counts df without hashing strings. */
-    size_t *boff;                 /* (N+1), or NULL */
-    int32_t *btok;                /* (boff[N]) */
-    double *btf;                  /* (boff[N]) */
-};
 
 /* features_fit, and with 'Xout' the training rows pooled (and SIF's
  * component removed, but not scaled) into Xout, with what they saw added
@@ -610,9 +556,9 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
         free(order);
     }
     for (size_t i = 0; i < n && !(cache && cache->boff); i++) {
-        buf = doc_tokens(d, rows[i], buf, &cap, &ntok);
+        buf = features_doc_tokens(d, rows[i], buf, &cap, &ntok);
         struct bag b;
-        bag_make(&b, buf, ntok, p->pool == POOL_BOW && p->bigrams);
+        features_bag_make(&b, buf, ntok, p->pool == POOL_BOW && p->bigrams);
         for (size_t j = 0; j < b.n; j++) {
             size_t id = (size_t)vocab_add(all, b.term[j]);
             if (id >= capd) {
@@ -628,7 +574,7 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
             if (strchr(b.term[j], ' ') == NULL)
                 total += b.tf[j];
         }
-        bag_release(&b);
+        features_bag_release(&b);
     }
 
     V = vocab_size(all);
@@ -687,8 +633,8 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
             }
             continue;
         }
-        buf = doc_tokens(d, rows[i], buf, &cap, &ntok);
-        empty += !pool_doc(f, buf, ntok, X + i * E, st);
+        buf = features_doc_tokens(d, rows[i], buf, &cap, &ntok);
+        empty += !features_pool_doc(f, buf, ntok, X + i * E, st);
     }
     free(buf);
     if (st)
@@ -764,204 +710,9 @@ void features_transform_tokens(const featurizer *f, const char *const *toks, siz
     }
     assert(!X->sparse && i < X->n && X->d == f->D);
     double *x = X->x + i * f->D;
-    if (!pool_doc(f, toks, ntok, x, st) && st)
+    if (!features_pool_doc(f, toks, ntok, x, st) && st)
         st->empty_rows++;
-    scale_row(f, x);
-}
-
-/* ---- a memo for streams of texts ---- */
-
-/* Words a memo holds before it starts afresh, and bytes of their text. */
-#define MEMO_WORDS 65536
-#define MEMO_BYTES ((size_t)1 << 21)
-
-/* Words up to this many bytes are kept inside their entry, which is then
- * one 64-byte cache line: a probe that finds a word touches one slot and
- * one line (the profile showed the memo waiting on memory). */
-#define MEMO_INLINE 24
-
-struct memo_word {
-    uint64_t hash;        /* vocab_hash */
-    long row;             /* vector row or -1 */
-    int32_t id;           /* training id or -1 */
-    uint32_t len;
-    uint32_t seen;        /* 'stamp' of the last document it was in */
-    uint32_t at;          /* its index among that document's distinct words */
-    size_t off;           /* the word in 'text' when longer than MEMO_INLINE */
-    char inl[MEMO_INLINE]; /* the word itself otherwise */
-};
-
-struct features_memo {
-    const featurizer *f;   /* the featurizer whose facts are held (borrowed) */
-    uint64_t *slot;        /* (nslots) 0 empty, else the hash's top 32 bits
-                              above the word index + 1 */
-    size_t nslots;
-    struct memo_word *w;
-    size_t n, cap;
-    char *text;
-    size_t tlen, tcap;
-    uint32_t stamp;
-    /* one document: its distinct words (in order of first appearance) and
-     * the per-word arrays of word_coefs, in one block owned through 'doc' */
-    struct term_facts *doc;
-    double *c;
-    long *row;
-    size_t *keep;
-    size_t dcap;
-    float *composed;       /* (ncomposed, E) vectors of words from their pieces */
-    size_t ncomposed, ccap;
-};
-
-/* Room for 'need' distinct words in the document arrays, keeping doc[0..n). */
-static void memo_doc_room(features_memo *mm, size_t need, size_t n)
-{
-    if (need <= mm->dcap)
-        return;
-    size_t cap = mm->dcap ? 2 * mm->dcap : 256;
-    while (cap < need)
-        cap *= 2;
-    struct term_facts *doc = xmalloc(xmul(cap, sizeof *doc + sizeof(double) + sizeof(long) + sizeof(size_t)));
-    if (n)
-        memcpy(doc, mm->doc, n * sizeof *doc);
-    free(mm->doc);
-    mm->doc = doc;
-    mm->c = (double *)(void *)(doc + cap);
-    mm->row = (long *)(void *)(mm->c + cap);
-    mm->keep = (size_t *)(void *)(mm->row + cap);
-    mm->dcap = cap;
-}
-
-features_memo *features_memo_new(const featurizer *f)
-{
-    features_memo *mm = xcalloc(1, sizeof *mm);
-    mm->f = f;
-    return mm;
-}
-
-void features_memo_free(features_memo *mm)
-{
-    if (!mm)
-        return;
-    free(mm->slot);
-    free(mm->w);
-    free(mm->text);
-    free(mm->doc);
-    free(mm->composed);
-    free(mm);
-}
-
-static void memo_clear(features_memo *mm)
-{
-    mm->n = 0;
-    mm->tlen = 0;
-    mm->stamp = 0;
-    mm->ncomposed = 0;
-    if (mm->slot)
-        memset(mm->slot, 0, mm->nslots * sizeof *mm->slot);
-}
-
-/* Slots at most half full: double them and put every word back. */
-static void memo_grow(features_memo *mm)
-{
-    free(mm->slot);
-    mm->nslots = mm->nslots ? 2 * mm->nslots : 1024;
-    mm->slot = xcalloc(mm->nslots, sizeof *mm->slot);
-    size_t mask = mm->nslots - 1;
-    for (size_t i = 0; i < mm->n; i++) {
-        size_t q = (size_t)mm->w[i].hash & mask;
-        while (mm->slot[q])
-            q = (q + 1) & mask;
-        mm->slot[q] = (mm->w[i].hash & ~(uint64_t)0xffffffffu) | (uint64_t)(i + 1);
-    }
-}
-
-/* memcmp(a, b, n) == 0 for the few bytes of a word, without the call
- * (memcmp showed in the profile; the hashes already agree, so this
- * almost always runs to the end). */
-static int same_bytes(const char *a, const char *b, size_t n)
-{
-    for (size_t i = 0; i < n; i++)
-        if (a[i] != b[i])
-            return 0;
-    return 1;
-}
-
-/* The memo's entry for token tok[0..len), looked up in the packed store
- * and the training words the first time it is seen. */
-static struct memo_word *memo_get(features_memo *mm, const char *tok, size_t len)
-{
-    uint64_t h = vocab_hash(tok, len), tag = h & ~(uint64_t)0xffffffffu;
-    size_t mask = mm->nslots - 1, q = (size_t)h & mask;
-    for (uint64_t sl; (sl = mm->slot[q]) != 0; q = (q + 1) & mask) {
-        if ((sl & ~(uint64_t)0xffffffffu) != tag)
-            continue;
-        struct memo_word *w = &mm->w[(sl & 0xffffffffu) - 1];
-        if (w->hash == h && w->len == len &&
-            same_bytes(len <= MEMO_INLINE ? w->inl : mm->text + w->off, tok, len))
-            return w;
-    }
-    mm->w = xgrow(mm->w, &mm->cap, mm->n + 1, sizeof *mm->w);
-    struct memo_word *w = &mm->w[mm->n];
-    w->hash = h;
-    w->len = (uint32_t)len;
-    w->seen = 0;
-    w->at = 0;
-    struct term_facts t;
-    look_up_pieces(mm->f, tok, h, &t, &mm->composed, &mm->ncomposed, &mm->ccap);
-    w->row = t.row;
-    w->id = t.id;
-    if (len <= MEMO_INLINE) {
-        memcpy(w->inl, tok, len);
-    } else {
-        mm->text = xgrow(mm->text, &mm->tcap, mm->tlen + len, 1);
-        w->off = mm->tlen;
-        memcpy(mm->text + mm->tlen, tok, len);
-        mm->tlen += len;
-    }
-    mm->slot[q] = tag | (uint64_t)++mm->n;
-    if (2 * mm->n > mm->nslots) {
-        memo_grow(mm);
-        w = &mm->w[mm->n - 1];
-    }
-    return w;
-}
-
-void features_transform_memo(const featurizer *f, features_memo *mm, const char *const *toks, const size_t *lens,
-                             size_t ntok, struct fmat *X, size_t i, struct features_stats *st)
-{
-    if (features_sparse(f)) {
-        features_transform_tokens(f, toks, ntok, X, i, st);
-        return;
-    }
-    assert(!X->sparse && i < X->n && X->d == f->D);
-    assert(mm->f == f);
-    /* Start afresh when full (between documents only: the document's
-     * words are referred to by index), or before the stamp wraps. */
-    if (mm->n > MEMO_WORDS || mm->tlen > MEMO_BYTES || mm->stamp == UINT32_MAX)
-        memo_clear(mm);
-    if (!mm->slot)
-        memo_grow(mm);
-    uint32_t stamp = ++mm->stamp;
-    size_t nd = 0;
-    for (size_t q = 0; q < ntok; q++) {
-        struct memo_word *w = memo_get(mm, toks[q], lens ? lens[q] : strlen(toks[q]));
-        if (w->seen == stamp) {
-            mm->doc[w->at].tf += 1;
-            continue;
-        }
-        memo_doc_room(mm, nd + 1, nd);
-        w->seen = stamp;
-        w->at = (uint32_t)nd;
-        mm->doc[nd].tf = 1;
-        mm->doc[nd].row = w->row;
-        mm->doc[nd++].id = w->id;
-    }
-    double *x = X->x + i * f->D;
-    size_t m = word_coefs(f, mm->doc, nd, mm->keep, mm->c, mm->row, st);
-    pool_rows(f, mm->row, mm->composed, mm->c, m, x);
-    if (m == 0 && st)
-        st->empty_rows++;
-    scale_row(f, x);
+    features_scale_row(f, x);
 }
 
 void features_transform(const featurizer *f, const struct tokdocs *d, const size_t *rows, size_t n, struct fmat *X,
@@ -971,76 +722,10 @@ void features_transform(const featurizer *f, const struct tokdocs *d, const size
     const char **buf = NULL;
     size_t cap = 0, ntok;
     for (size_t i = 0; i < n; i++) {
-        buf = doc_tokens(d, rows[i], buf, &cap, &ntok);
+        buf = features_doc_tokens(d, rows[i], buf, &cap, &ntok);
         features_transform_tokens(f, buf, ntok, X, i, st);
     }
     free(buf);
-}
-
-/* ---- fitting and transforming at once ---- */
-
-features_cache *features_cache_new(const struct features_params *pin, const struct tokdocs *d, const vecset *vs)
-{
-    /* a combined route caches what its pooled block needs */
-    struct features_params pq = *pin;
-    pq.pool = features_pool_dense(pin->pool);
-    const struct features_params *p = &pq;
-    features_cache *c = xcalloc(1, sizeof *c);
-    c->n = d->n;
-    if (p->pool == POOL_BOW || !vs || d->n == 0)
-        return c;
-    c->boff = xcalloc(d->n + 1, sizeof *c->boff);
-    c->btok = xcalloc(d->off[d->n] ? d->off[d->n] : 1, sizeof *c->btok);
-    c->btf = xcalloc(d->off[d->n] ? d->off[d->n] : 1, sizeof *c->btf);
-    {
-        const char **buf = NULL;
-        size_t cap = 0, ntok, m = 0;
-        for (size_t r = 0; r < d->n; r++) {
-            buf = doc_tokens(d, r, buf, &cap, &ntok);
-            struct bag b;
-            bag_make(&b, buf, ntok, 0);
-            for (size_t j = 0; j < b.n; j++) {
-                c->btok[m] = vocab_find_hashed(d->v, b.term[j], b.hash[j]);
-                c->btf[m++] = b.tf[j];
-            }
-            c->boff[r + 1] = m;
-            bag_release(&b);
-        }
-        free(buf);
-    }
-    if (p->pool != POOL_MEAN)
-        return c;
-    /* Mean pooling reads nothing fitted (word_coefs looks a word up in
-     * f->words but ignores the answer), so an empty featurizer pools
-     * every row as any fitted one would. */
-    featurizer f0 = { 0 };
-    f0.p = *p;
-    f0.vs = vs;
-    f0.words = vocab_new();
-    f0.D = c->E = vecset_dim(vs);
-    c->x = xcalloc(xmul(d->n, c->E), sizeof *c->x);
-    c->st = xcalloc(d->n, sizeof *c->st);
-    const char **buf = NULL;
-    size_t cap = 0, ntok;
-    for (size_t r = 0; r < d->n; r++) {
-        buf = doc_tokens(d, r, buf, &cap, &ntok);
-        c->st[r].empty_rows = !pool_doc(&f0, buf, ntok, c->x + r * c->E, &c->st[r]);
-    }
-    free(buf);
-    vocab_free(f0.words);
-    return c;
-}
-
-void features_cache_free(features_cache *c)
-{
-    if (!c)
-        return;
-    free(c->x);
-    free(c->st);
-    free(c->boff);
-    free(c->btok);
-    free(c->btf);
-    free(c);
 }
 
 featurizer *features_fit_transform(const struct features_params *p, const struct tokdocs *d, const size_t *rows,
@@ -1060,31 +745,10 @@ featurizer *features_fit_transform(const struct features_params *p, const struct
     if (!f)
         return NULL;
     for (size_t i = 0; i < n; i++)
-        scale_row(f, X->x + i * f->D);
+        features_scale_row(f, X->x + i * f->D);
     return f;
 }
 
-void features_transform_cached(const featurizer *f, const features_cache *cache, const struct tokdocs *d,
-                               const size_t *rows, size_t n, struct fmat *X, struct features_stats *st)
-{
-    if (!cache || !cache->x || f->p.pool != POOL_MEAN) {
-        features_transform(f, d, rows, n, X, st);
-        return;
-    }
-    assert(cache->n == d->n && cache->E == f->D);
-    features_alloc(f, n, X);
-    for (size_t i = 0; i < n; i++) {
-        const struct features_stats *cs = &cache->st[rows[i]];
-        double *x = X->x + i * f->D;
-        memcpy(x, cache->x + rows[i] * f->D, f->D * sizeof *x);
-        if (st) {
-            st->tokens += cs->tokens;
-            st->with_vector += cs->with_vector;
-            st->empty_rows += cs->empty_rows;
-        }
-        scale_row(f, x);
-    }
-}
 
 size_t features_word_weights(const featurizer *f, const char *const *toks, size_t ntok, const char **words,
                              double *coef)
@@ -1092,13 +756,13 @@ size_t features_word_weights(const featurizer *f, const char *const *toks, size_
     if (features_sparse(f))
         return 0;
     struct bag b;
-    bag_make(&b, toks, ntok, 0);
+    features_bag_make(&b, toks, ntok, 0);
     double *c;
     long *row;
     size_t *keep;
     float *composed;
     struct term_facts *t = bag_facts(f, &b, &c, &row, &keep, &composed);
-    size_t m = word_coefs(f, t, b.n, keep, c, row, NULL);
+    size_t m = features_word_coefs(f, t, b.n, keep, c, row, NULL);
     free(composed);
     /* bag terms point into 'toks' (no pairs), so they stay valid */
     for (size_t j = 0; j < m; j++) {
@@ -1106,7 +770,7 @@ size_t features_word_weights(const featurizer *f, const char *const *toks, size_
         coef[j] = c[j];
     }
     free(c);
-    bag_release(&b);
+    features_bag_release(&b);
     return m;
 }
 
@@ -1185,7 +849,7 @@ static featurizer *combined_fit(const struct features_params *p, const struct to
     size_t E = pooled->D;
     assert(bag->D + E < UINT32_MAX);
     for (size_t i = 0; i < n; i++)
-        scale_row(pooled, Z.x + i * E);
+        features_scale_row(pooled, Z.x + i * E);
     featurizer *f = xcalloc(1, sizeof *f);
     f->p = *p;
     f->vs = vs;
@@ -1217,9 +881,9 @@ static void combined_doc(const featurizer *f, const char *const *toks, size_t nt
     bow_doc(f->bag, toks, ntok, &Xb, NULL);
     size_t E = f->pooled->D;
     double *z = xcalloc(E, sizeof *z);
-    if (!pool_doc(f->pooled, toks, ntok, z, st) && st)
+    if (!features_pool_doc(f->pooled, toks, ntok, z, st) && st)
         st->empty_rows++;
-    scale_row(f->pooled, z);
+    features_scale_row(f->pooled, z);
     push_combined(f, &Xb, 0, z, X);
     free(z);
     fmat_release(&Xb);
@@ -1236,206 +900,3 @@ int features_blocks(const featurizer *f, const featurizer **bow, const featurize
     return 0;
 }
 
-/* A combined featurizer's fields: its pooling, width and block weights,
- * and each block's own fields in an object of its own. */
-static void combined_save(const featurizer *f, cJSON *obj)
-{
-    cJSON_AddStringToObject(obj, "pool", features_pool_name(f->p.pool));
-    cJSON_AddNumberToObject(obj, "training_rows", (double)f->n_train);
-    cJSON_AddNumberToObject(obj, "dimensions", (double)f->D);
-    cJSON_AddItemToObject(obj, "bow_weight", jsonv_number_new(f->wbow));
-    cJSON_AddItemToObject(obj, "pooled_weight", jsonv_number_new(f->wdense));
-    features_save(f->bag, cJSON_AddObjectToObject(obj, "bag_of_words"));
-    features_save(f->pooled, cJSON_AddObjectToObject(obj, "pooled"));
-}
-
-static featurizer *combined_load(const struct jsonv_ctx *c, const cJSON *obj, enum features_pool pool,
-                                 const vecset *vs)
-{
-    if (!vs) {
-        jsonv_fail(c, "pool", "'%s' needs a vector set", features_pool_name(pool));
-        return NULL;
-    }
-    size_t dims, ntrain;
-    double w, wb;
-    if (jsonv_size(c, obj, "training_rows", 1, (size_t)1 << 40, &ntrain) < 0 ||
-        jsonv_size(c, obj, "dimensions", 2, (size_t)UINT32_MAX - 1, &dims) < 0 ||
-        jsonv_num(c, obj, "bow_weight", 1e-300, 1e300, &wb) < 0 ||
-        jsonv_num(c, obj, "pooled_weight", 1e-300, 1e300, &w) < 0)
-        return NULL;
-    const cJSON *bo = jsonv_get(c, obj, "bag_of_words");
-    const cJSON *po = bo ? jsonv_get(c, obj, "pooled") : NULL;
-    if (!po)
-        return NULL;
-    char pathb[200], pathd[200];
-    snprintf(pathb, sizeof pathb, "%s%sbag_of_words", c->path, *c->path ? "." : "");
-    snprintf(pathd, sizeof pathd, "%s%spooled", c->path, *c->path ? "." : "");
-    struct jsonv_ctx cb = *c, cd = *c;
-    cb.path = pathb;
-    cd.path = pathd;
-    featurizer *bag = features_load(&cb, bo, NULL);
-    featurizer *pooled = bag ? features_load(&cd, po, vs) : NULL;
-    if (!pooled) {
-        features_free(bag);
-        return NULL;
-    }
-    int bad = 0;
-    if (bag->p.pool != POOL_BOW)
-        bad = jsonv_fail(&cb, "pool", "is '%s', not bow", features_pool_name(bag->p.pool));
-    else if (pooled->p.pool != features_pool_dense(pool))
-        bad = jsonv_fail(&cd, "pool", "is '%s', but the route is '%s'", features_pool_name(pooled->p.pool),
-                         features_pool_name(pool));
-    else if (dims != bag->D + pooled->D)
-        bad = jsonv_fail(c, "dimensions", "is %zu but the blocks have %zu and %zu", dims, bag->D, pooled->D);
-    if (bad) {
-        features_free(bag);
-        features_free(pooled);
-        return NULL;
-    }
-    featurizer *f = xcalloc(1, sizeof *f);
-    f->p = pooled->p;
-    f->p.pool = pool;
-    f->p.bigrams = bag->p.bigrams;
-    f->p.min_df = bag->p.min_df;
-    f->vs = vs;
-    f->n_train = ntrain;
-    f->bag = bag;
-    f->pooled = pooled;
-    f->D = dims;
-    f->wbow = wb;
-    f->wdense = w;
-    return f;
-}
-
-/* ---- persistence ---- */
-
-void features_save(const featurizer *f, cJSON *obj)
-{
-    if (f->bag) {
-        combined_save(f, obj);
-        return;
-    }
-    cJSON_AddStringToObject(obj, "pool", features_pool_name(f->p.pool));
-    cJSON_AddBoolToObject(obj, "sublinear_tf", f->p.sublinear_tf);
-    cJSON_AddItemToObject(obj, "sif_a", jsonv_number_new(f->p.sif_a));
-    cJSON_AddBoolToObject(obj, "bigrams", f->p.bigrams);
-    cJSON_AddNumberToObject(obj, "min_df", (double)f->p.min_df);
-    cJSON_AddBoolToObject(obj, "scale", f->p.scale);
-    cJSON_AddNumberToObject(obj, "training_rows", (double)f->n_train);
-    cJSON_AddNumberToObject(obj, "dimensions", (double)f->D);
-    size_t V = vocab_size(f->words);
-    cJSON *w = cJSON_CreateArray();
-    for (size_t i = 0; i < V; i++)
-        cJSON_AddItemToArray(w, cJSON_CreateString(vocab_word(f->words, (int32_t)i)));
-    cJSON_AddItemToObject(obj, "words", w);
-    cJSON_AddItemToObject(obj, "idf", jsonv_doubles_new(f->idf, V));
-    if (f->p.pool == POOL_SIF)
-        cJSON_AddItemToObject(obj, "word_probability", jsonv_doubles_new(f->pw, V));
-    if (f->u)
-        cJSON_AddItemToObject(obj, "sif_component", jsonv_doubles_new(f->u, f->D));
-    if (f->mean) {
-        cJSON_AddItemToObject(obj, "scale_mean", jsonv_doubles_new(f->mean, f->D));
-        cJSON_AddItemToObject(obj, "scale_sd", jsonv_doubles_new(f->sd, f->D));
-    }
-}
-
-static int get_bool(const struct jsonv_ctx *c, const cJSON *obj, const char *key, int *out)
-{
-    const cJSON *v = jsonv_get(c, obj, key);
-    if (!v)
-        return -1;
-    if (!cJSON_IsBool(v))
-        return jsonv_fail(c, key, "is not true or false");
-    *out = cJSON_IsTrue(v);
-    return 0;
-}
-
-featurizer *features_load(const struct jsonv_ctx *c, const cJSON *obj, const vecset *vs)
-{
-    featurizer *f = xcalloc(1, sizeof *f);
-    char **words = NULL;
-    size_t V = 0;
-    const char *pool = jsonv_str(c, obj, "pool");
-    if (!pool)
-        goto fail;
-    if (features_pool_parse(pool, &f->p.pool) < 0) {
-        jsonv_fail(c, "pool", "is '%s', not one of " FEATURES_POOL_NAMES, pool);
-        goto fail;
-    }
-    if (features_pool_combined(f->p.pool)) {
-        enum features_pool pp = f->p.pool;
-        features_free(f);
-        return combined_load(c, obj, pp, vs);
-    }
-    size_t dims, min_df, ntrain;
-    if (get_bool(c, obj, "sublinear_tf", &f->p.sublinear_tf) < 0 || get_bool(c, obj, "bigrams", &f->p.bigrams) < 0 ||
-        get_bool(c, obj, "scale", &f->p.scale) < 0 ||
-        jsonv_size(c, obj, "min_df", 1, 1u << 30, &min_df) < 0 ||
-        jsonv_size(c, obj, "training_rows", 1, (size_t)1 << 40, &ntrain) < 0 ||
-        jsonv_size(c, obj, "dimensions", 1, (size_t)1 << 26, &dims) < 0)
-        goto fail;
-    f->p.min_df = min_df;
-    f->n_train = ntrain;
-    f->D = dims;
-    f->idf_unseen = log(1.0 + (double)ntrain) + 1.0;
-    if (jsonv_num(c, obj, "sif_a", 1e-300, 1e300, &f->p.sif_a) < 0)
-        goto fail;
-    words = jsonv_strings(c, obj, "words", SIZE_MAX, &V);
-    if (!words)
-        goto fail;
-    f->words = vocab_new();
-    for (size_t i = 0; i < V; i++) {
-        if ((size_t)vocab_add(f->words, words[i]) != i) {
-            jsonv_fail(c, "words", "repeats '%.40s'", words[i]);
-            goto fail;
-        }
-    }
-    if (!(f->idf = jsonv_doubles(c, obj, "idf", V, NULL)))
-        goto fail;
-    for (size_t i = 0; i < V; i++)
-        if (!(f->idf[i] >= 1.0)) {
-            jsonv_fail(c, "idf", "entry %zu is below 1, which smoothed idf never is", i);
-            goto fail;
-        }
-    if (f->p.pool == POOL_BOW) {
-        if (dims != V) {
-            jsonv_fail(c, "dimensions", "is %zu but there are %zu words", dims, V);
-            goto fail;
-        }
-    } else {
-        if (!vs) {
-            jsonv_fail(c, "pool", "'%s' needs a vector set", pool);
-            goto fail;
-        }
-        if (vecset_dim(vs) != dims) {
-            jsonv_fail(c, "dimensions", "is %zu but the vector set has %zu", dims, vecset_dim(vs));
-            goto fail;
-        }
-        f->vs = vs;
-    }
-    if (f->p.pool == POOL_SIF) {
-        if (!(f->pw = jsonv_doubles(c, obj, "word_probability", V, NULL)) ||
-            !(f->u = jsonv_doubles(c, obj, "sif_component", dims, NULL)))
-            goto fail;
-    }
-    if (f->p.scale && f->p.pool != POOL_BOW) {
-        if (!(f->mean = jsonv_doubles(c, obj, "scale_mean", dims, NULL)) ||
-            !(f->sd = jsonv_doubles(c, obj, "scale_sd", dims, NULL)))
-            goto fail;
-        for (size_t i = 0; i < dims; i++)
-            if (!(f->sd[i] > 0)) {
-                jsonv_fail(c, "scale_sd", "entry %zu is not positive", i);
-                goto fail;
-            }
-    }
-    for (size_t i = 0; i < V; i++)
-        free(words[i]);
-    free(words);
-    return f;
-fail:
-    for (size_t i = 0; i < V && words; i++)
-        free(words[i]);
-    free(words);
-    features_free(f);
-    return NULL;
-}

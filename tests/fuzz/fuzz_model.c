@@ -1,5 +1,5 @@
 /* fuzz_model.c -- libFuzzer harness for loading a model file (src/model.c,
- * src/jsonv.c, src/pipeline.c, src/features.c, src/svmfit.c): the input is
+ * src/jsonv.c, src/pipeline.c, src/features_file.c, src/svmfit.c): the input is
  * the model JSON.  Models that name vectors are checked against a small
  * packed store built once from tests/fuzz/vectors.txt (path in the
  * environment variable VECSIFT_FUZZ_VECTORS, default beside the corpus run
