@@ -431,7 +431,8 @@ struct worker {
 static inline float sigmoid(float x)
 {
     float t = -x;
-    t = t > 87.0f ? 87.0f : t < -87.0f ? -87.0f : t;
+    t = t < 87.0f ? t : 87.0f; /* NaN (a run diverged) too: no undefined conversion below */
+    t = t > -87.0f ? t : -87.0f;
     /* round to nearest by adding and taking away 1.5 x 2^23 (no libm call) */
     float n = (t * 1.44269504f + 12582912.0f) - 12582912.0f;
     float r = (t - n * 0.693145751953125f) - n * 1.42860677e-06f;

@@ -498,4 +498,5 @@ Test(embed, sigmoid_matches_the_c_library_to_a_few_ulp)
     cr_assert_eq(embed_sigmoid(200.0f), 1.0f);
     cr_assert(embed_sigmoid(-200.0f) < 1e-37f && embed_sigmoid(-200.0f) >= 0.0f);
     cr_assert_eq(embed_sigmoid(0.0f), 0.5f);
+    cr_assert(embed_sigmoid(NAN) >= 0.0f && embed_sigmoid(NAN) < 1e-37f); /* defined, not a crash */
 }
