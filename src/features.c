@@ -179,12 +179,25 @@ struct term_facts {
     int32_t id;  /* its id among the training words, or -1 */
 };
 
-/* The facts of a term whose vocab_hash is 'h' ('tf' is left alone). */
-static void look_up(const featurizer *f, const char *term, uint64_t h, struct term_facts *t)
+/* The facts of a term whose vocab_hash is 'h' ('tf' is left alone).  A
+ * term the store has no row for, in a store with pieces, gets a vector
+ * composed from its pieces (vecset_compose) into 'slab' ((k, E), grown,
+ * k counted in *nslab) and row PIECE_ROW(k); slab NULL leaves it at -1. */
+#define PIECE_ROW(k) (-2 - (long)(k))
+static void look_up_pieces(const featurizer *f, const char *term, uint64_t h, struct term_facts *t, float **slab,
+                           size_t *nslab, size_t *cap)
 {
     t->row = vecset_find_hashed(f->vs, term, h);
-    t->id = t->row >= 0 ? vocab_find_hashed(f->words, term, h) : -1;
+    if (t->row < 0 && slab && vecset_pieces(f->vs)) {
+        size_t E = vecset_dim(f->vs);
+        if ((*nslab + 1) * E > *cap)
+            *slab = xgrow(*slab, cap, (*nslab + 1) * E, sizeof **slab);
+        if (vecset_compose(f->vs, term, strlen(term), *slab + *nslab * E) > 0)
+            t->row = PIECE_ROW((*nslab)++);
+    }
+    t->id = t->row != -1 ? vocab_find_hashed(f->words, term, h) : -1;
 }
+
 
 /* Per distinct term t[0..n) (in order of first appearance): its
  * coefficient in the pooled (unscaled, before SIF component removal)
@@ -201,10 +214,10 @@ static size_t word_coefs(const featurizer *f, const struct term_facts *t, size_t
         long r = t[i].row;
         if (st) {
             st->tokens += (uint64_t)tf;
-            st->with_vector += r >= 0 ? (uint64_t)tf : 0;
+            st->with_vector += r != -1 ? (uint64_t)tf : 0;
         }
-        if (r < 0)
-            continue;
+        if (r == -1)
+            continue; /* no vector, neither whole nor from pieces */
         int32_t id = t[i].id;
         double weight;
         switch (f->p.pool) {
@@ -296,12 +309,14 @@ static void sum_rows(const float *const *v, const double *c, size_t m, size_t E,
             x[d] += c[j] * (double)v[j][d];
 }
 
-static void weighted_sum(const vecset *vs, const long *row, const double *c, size_t m, size_t E, double *x)
+/* 'composed' holds the vectors of rows PIECE_ROW(k), (k, E). */
+static void weighted_sum(const vecset *vs, const long *row, const float *composed, const double *c, size_t m,
+                         size_t E, double *x)
 {
     const float *stackv[64] = { NULL }; /* zeroed: GCC cannot see that sum_rows reads only v[0..m) */
     const float **v = m <= 64 ? stackv : xcalloc(m, sizeof *v);
     for (size_t j = 0; j < m; j++)
-        v[j] = vecset_row(vs, (size_t)row[j]);
+        v[j] = row[j] >= 0 ? vecset_row(vs, (size_t)row[j]) : composed + (size_t)(-2 - row[j]) * E;
     sum_rows(v, c, m, E, x);
     if (v != stackv)
         free(v);
@@ -309,10 +324,11 @@ static void weighted_sum(const vecset *vs, const long *row, const double *c, siz
 
 /* x = sum_j c[j] v_j, then for sif the component removed: the pooled row
  * before scaling. */
-static void pool_rows(const featurizer *f, const long *row, const double *c, size_t m, double *x)
+static void pool_rows(const featurizer *f, const long *row, const float *composed, const double *c, size_t m,
+                      double *x)
 {
     size_t E = f->D;
-    weighted_sum(f->vs, row, c, m, E, x);
+    weighted_sum(f->vs, row, composed, c, m, E, x);
     if (f->u) {
         double dot = 0;
         for (size_t d = 0; d < E; d++)
@@ -325,16 +341,19 @@ static void pool_rows(const featurizer *f, const long *row, const double *c, siz
 /* The bag's distinct terms looked up, and the per-word arrays of
  * word_coefs, in one block ('c' owns it: free(c)): this runs once per row,
  * where malloc and free showed up in the profile. */
-static struct term_facts *bag_facts(const featurizer *f, const struct bag *b, double **c, long **row, size_t **keep)
+static struct term_facts *bag_facts(const featurizer *f, const struct bag *b, double **c, long **row, size_t **keep,
+                                    float **composed)
 {
     size_t nw = b->n ? b->n : 1;
     *c = xmalloc(xmul(nw, sizeof(double) + sizeof(long) + sizeof(size_t) + sizeof(struct term_facts)));
     *row = (long *)(void *)(*c + nw);
     *keep = (size_t *)(void *)(*row + nw);
     struct term_facts *t = (struct term_facts *)(void *)(*keep + nw);
+    size_t nc = 0, ccap = 0;
+    *composed = NULL;
     for (size_t i = 0; i < b->n; i++) {
         t[i].tf = b->tf[i];
-        look_up(f, b->term[i], b->hash[i], &t[i]);
+        look_up_pieces(f, b->term[i], b->hash[i], &t[i], composed, &nc, &ccap);
     }
     return t;
 }
@@ -348,9 +367,11 @@ static int pool_doc(const featurizer *f, const char *const *toks, size_t ntok, d
     double *c;
     long *row;
     size_t *keep;
-    struct term_facts *t = bag_facts(f, &b, &c, &row, &keep);
+    float *composed;
+    struct term_facts *t = bag_facts(f, &b, &c, &row, &keep, &composed);
     size_t m = word_coefs(f, t, b.n, keep, c, row, st);
-    pool_rows(f, row, c, m, x);
+    pool_rows(f, row, composed, c, m, x);
+    free(composed);
     free(c);
     bag_release(&b);
     return m > 0;
@@ -741,6 +762,8 @@ struct features_memo {
     long *row;
     size_t *keep;
     size_t dcap;
+    float *composed;       /* (ncomposed, E) vectors of words from their pieces */
+    size_t ncomposed, ccap;
 };
 
 /* Room for 'need' distinct words in the document arrays, keeping doc[0..n). */
@@ -777,6 +800,7 @@ void features_memo_free(features_memo *mm)
     free(mm->w);
     free(mm->text);
     free(mm->doc);
+    free(mm->composed);
     free(mm);
 }
 
@@ -785,6 +809,7 @@ static void memo_clear(features_memo *mm)
     mm->n = 0;
     mm->tlen = 0;
     mm->stamp = 0;
+    mm->ncomposed = 0;
     if (mm->slot)
         memset(mm->slot, 0, mm->nslots * sizeof *mm->slot);
 }
@@ -836,7 +861,7 @@ static struct memo_word *memo_get(features_memo *mm, const char *tok, size_t len
     w->seen = 0;
     w->at = 0;
     struct term_facts t;
-    look_up(mm->f, tok, h, &t);
+    look_up_pieces(mm->f, tok, h, &t, &mm->composed, &mm->ncomposed, &mm->ccap);
     w->row = t.row;
     w->id = t.id;
     if (len <= MEMO_INLINE) {
@@ -887,7 +912,7 @@ void features_transform_memo(const featurizer *f, features_memo *mm, const char 
     }
     double *x = X->x + i * f->D;
     size_t m = word_coefs(f, mm->doc, nd, mm->keep, mm->c, mm->row, st);
-    pool_rows(f, mm->row, mm->c, m, x);
+    pool_rows(f, mm->row, mm->composed, mm->c, m, x);
     if (m == 0 && st)
         st->empty_rows++;
     scale_row(f, x);
@@ -1019,8 +1044,10 @@ size_t features_word_weights(const featurizer *f, const char *const *toks, size_
     double *c;
     long *row;
     size_t *keep;
-    struct term_facts *t = bag_facts(f, &b, &c, &row, &keep);
+    float *composed;
+    struct term_facts *t = bag_facts(f, &b, &c, &row, &keep, &composed);
     size_t m = word_coefs(f, t, b.n, keep, c, row, NULL);
+    free(composed);
     /* bag terms point into 'toks' (no pairs), so they stay valid */
     for (size_t j = 0; j < m; j++) {
         words[j] = b.term[keep[j]];

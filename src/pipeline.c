@@ -238,8 +238,19 @@ size_t pipeline_explain(const pipeline *p, const char *const *toks, size_t ntok,
     size_t m = features_word_weights(p->f, toks, ntok, w, c);
     struct push *pu = xcalloc(m ? m : 1, sizeof *pu);
     double *v = xcalloc(E, sizeof *v), *a = xcalloc(K, sizeof *a);
+    float *composed = NULL;
     for (size_t j = 0; j < m; j++) {
-        const float *row = vecset_row(vs, (size_t)vecset_find(vs, w[j]));
+        long r = vecset_find(vs, w[j]);
+        const float *row = r >= 0 ? vecset_row(vs, (size_t)r) : NULL;
+        if (!row) {
+            /* a word pooled with the vector composed from its pieces
+             * (features_word_weights keeps only words with a vector) */
+            if (!composed)
+                composed = xcalloc(E, sizeof *composed);
+            if (vecset_compose(vs, w[j], strlen(w[j]), composed) == 0)
+                memset(composed, 0, E * sizeof *composed); /* cannot happen: kept words have one */
+            row = composed;
+        }
         for (size_t q = 0; q < E; q++)
             v[q] = row[q];
         if (u) { /* the SIF component removal is linear: apply it per word */
@@ -269,6 +280,7 @@ size_t pipeline_explain(const pipeline *p, const char *const *toks, size_t ntok,
         push[j] = pu[j].v;
     }
     free(pu);
+    free(composed);
     free(v);
     free(a);
     free(w);
