@@ -25,6 +25,7 @@
 static const struct cli_opt opts[] = {
     { "output", 'o', "<file>", "where to write the suspect rows as CSV (default: - for stdout)" },
     { "excerpt", 0, "<n>", "bytes of text kept in the excerpt column (default: 160)" },
+    { "select", 0, "<how>", "noise-rate: as many rows as the estimated noise | off-diagonal: of the confident joint (default: noise-rate)" },
     { "rank", 0, "<how>", "margin: p(best other) - p(given) | confidence: 1 - p(given) (default: margin)" },
     { "probabilities", 0, "<file>", "also write every row's out-of-fold probabilities (mean over repeats) as CSV" },
     PIPELINE_OPTIONS,
@@ -55,7 +56,7 @@ struct audit_args {
     struct cv_params cp;
     const char *out;
     const char *proba_out;
-    enum labelcheck_rank rank;
+    struct labelcheck_opts lo;
     long excerpt;
 };
 
@@ -80,11 +81,20 @@ static int parse(int argc, char **argv, struct audit_args *a, const char **data)
                 break;
         } else if (strcmp(name, "probabilities") == 0) {
             a->proba_out = val;
+        } else if (strcmp(name, "select") == 0) {
+            if (strcmp(val, "noise-rate") == 0)
+                a->lo.select = LABELCHECK_NOISE_RATE;
+            else if (strcmp(val, "off-diagonal") == 0)
+                a->lo.select = LABELCHECK_OFF_DIAGONAL;
+            else {
+                cli_usage(cmd, "option '--select' takes noise-rate or off-diagonal, not '%s'", val);
+                break;
+            }
         } else if (strcmp(name, "rank") == 0) {
             if (strcmp(val, "margin") == 0)
-                a->rank = LABELCHECK_BY_MARGIN;
+                a->lo.rank = LABELCHECK_BY_MARGIN;
             else if (strcmp(val, "confidence") == 0)
-                a->rank = LABELCHECK_BY_CONFIDENCE;
+                a->lo.rank = LABELCHECK_BY_CONFIDENCE;
             else {
                 cli_usage(cmd, "option '--rank' takes margin or confidence, not '%s'", val);
                 break;
@@ -200,6 +210,8 @@ int cmd_audit(int argc, char **argv)
     a.cp.repeats = 1;
     a.out = "-";
     a.excerpt = 160;
+    struct labelcheck_opts lo0 = LABELCHECK_OPTS_INIT;
+    a.lo = lo0;
     const char *data = NULL;
     int rc = parse(argc, argv, &a, &data);
     if (rc != 0)
@@ -241,7 +253,7 @@ int cmd_audit(int argc, char **argv)
         cli_warn("%d of %zu fits stopped at the iteration cap; raise --max-iter or lower --C", r.unconverged,
                  r.repeats * (size_t)r.folds);
     P = mean_proba(&r);
-    if (labelcheck_run(P, c.ds.y, c.ds.n, (int)c.ds.nlabels, a.rank, &lr, &e) < 0)
+    if (labelcheck_run(P, c.ds.y, c.ds.n, (int)c.ds.nlabels, &a.lo, &lr, &e) < 0)
         goto fail;
     /* Both outputs are written whole before either is renamed into place. */
     if (!(o_sus = ofile_open(a.out, &e)))

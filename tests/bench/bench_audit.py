@@ -73,49 +73,61 @@ def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--plantings", type=int, default=10)
     ap.add_argument("--datasets", default="spam,brown")
+    ap.add_argument("--no-reference", action="store_true", help="skip scikit-learn")
     ap.add_argument("--routes", default="bow:1,bow:5,tfidf:5,sif:5,mean:5")
     opt = ap.parse_args()
-    routes = [(r.split(":")[0], int(r.split(":")[1])) for r in opt.routes.split(",")]
+    # pool:repeats[:extra options joined by +], e.g. tfidf:1:--C+10
+    routes = [(r.split(":")[0], int(r.split(":")[1]), r.split(":")[2].split("+") if r.count(":") > 1 else [])
+              for r in opt.routes.split(",")]
     print(f"scikit-learn {sklearn.__version__}; {opt.plantings} plantings of {N_WRONG} wrong labels "
           f"in 300 rows; planted rows among the top {TOP} suspects (mean, min)")
     with tempfile.TemporaryDirectory() as tmp:
         for name in opt.datasets.split(","):
-            rows, rest = audit_cl.spam_data(SRCDIR) if name == "spam" else audit_cl.brown_rows(SRCDIR)
+            if name == "spam":
+                rows, rest = audit_cl.spam_data(SRCDIR)
+            elif name == "sotu":
+                rows, rest = audit_cl.sotu_rows(SRCDIR)
+            else:
+                rows, rest = audit_cl.brown_rows(SRCDIR, four=name == "brown4")
             names = sorted({r[1] for r in rows})
             texts = [r[0] for r in rows]
             unl = os.path.join(tmp, f"{name}-unlabelled.csv")
             audit_cl.write_csv(unl, ["text"], [[t] for t in rest])
             vecs = os.path.join(tmp, f"{name}.vecs")
-            if any(p != "bow" for p, _ in routes):
+            if any(p != "bow" for p, _, _ in routes):
                 run("vectors", "learn", unl, "-o", vecs, "--threads", "1", "--quiet")
             got = {}
             for s in range(1, opt.plantings + 1):
                 labels, planted = audit_cl.plant([r[1] for r in rows], N_WRONG, s, names)
                 data = os.path.join(tmp, "data.csv")
                 audit_cl.write_csv(data, ["text", "label"], list(zip(texts, labels)))
-                for pool, rep in routes:
+                for pool, rep, more in routes:
                     sus, prob = os.path.join(tmp, "sus.csv"), os.path.join(tmp, "prob.csv")
                     extra = [] if pool == "bow" else ["--vectors", vecs]
-                    run("audit", data, "--pool", pool, *extra, "--repeats", str(rep), "--seed", str(s),
+                    run("audit", data, "--pool", pool, *extra, *more, "--repeats", str(rep), "--seed", str(s),
                         "-o", sus, "--probabilities", prob, "--quiet")
                     P, given, _ = audit_cl.read_probabilities(prob)
                     cli = [x[0] for x in audit_cl.read_suspects(sus)]
-                    for rank in audit_cl.RANKS:
-                        ranked = [x[0] for x in audit_cl.audit(P, given, rank)[2]]
-                        if rank == "margin" and ranked != cli:
-                            sys.exit(f"{name} planting {s} {pool}: the CLI's ranking differs from the formulas'")
-                        got.setdefault((f"vecsift {pool} R{rep}", rank), []).append(
-                            audit_cl.found_in_top(ranked, planted, TOP))
+                    for sel in audit_cl.SELECTS:
+                        for rank in audit_cl.RANKS:
+                            ranked = [x[0] for x in audit_cl.audit(P, given, rank, sel)[2]]
+                            if rank == "margin" and sel == "noise-rate" and ranked != cli:
+                                sys.exit(f"{name} planting {s} {pool}: the CLI's ranking differs from the formulas'")
+                            got.setdefault((f"vecsift {pool} R{rep} {' '.join(more)}".strip(), sel, rank),
+                                           []).append(audit_cl.found_in_top(ranked, planted, TOP))
+                if opt.no_reference:
+                    continue
                 y = np.array([names.index(l) for l in labels])
                 P = sklearn_oof(texts, y, 5, s)
-                for rank in audit_cl.RANKS:
-                    ranked = [x[0] for x in audit_cl.audit(P, y, rank)[2]]
-                    got.setdefault(("sklearn tfidf+logreg R5", rank), []).append(
-                        audit_cl.found_in_top(ranked, planted, TOP))
+                for sel in audit_cl.SELECTS:
+                    for rank in audit_cl.RANKS:
+                        ranked = [x[0] for x in audit_cl.audit(P, y, rank, sel)[2]]
+                        got.setdefault(("scikit-learn tfidf+logreg R5", sel, rank), []).append(
+                            audit_cl.found_in_top(ranked, planted, TOP))
             print(f"\n{name}: {len(rows)} rows, labels {', '.join(names)}; {len(rest)} unlabelled texts")
-            print(f"  {'route':28s} {'ranking':11s} {'mean':>5s} {'min':>4s}  per planting")
-            for (route, rank), v in got.items():
-                print(f"  {route:28s} {rank:11s} {np.mean(v):5.1f} {min(v):4d}  {' '.join(map(str, v))}")
+            print(f"  {'probabilities':30s} {'selection':12s} {'ranking':11s} {'mean':>5s} {'min':>4s}  per planting")
+            for (route, sel, rank), v in got.items():
+                print(f"  {route:30s} {sel:12s} {rank:11s} {np.mean(v):5.1f} {min(v):4d}  {' '.join(map(str, v))}")
     return 0
 
 
