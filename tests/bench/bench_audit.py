@@ -5,27 +5,30 @@ Python reference measured in the same run.
 
 Set-up (issue 17): 300 labelled rows of an open dataset, 15 of them given
 another label at random (a planting), averaged over 10 plantings (seeds
-1..10).  Datasets (tools/fetch-data, npm): `spam` (SpamAssassin mail, 150 ham
-and 150 spam; the corpus's other messages are the unlabelled text) and `brown`
-(the Brown corpus: one 150-word passage from each of 75 samples of each of its
-four parts, press / general prose / learned / fiction; the rest of the corpus
-is the unlabelled text).  See tests/ext/audit_cl.py.
-
-vecsift routes: --pool bow (no vectors), and tfidf / sif / mean pooling of
-vectors learned by `vecsift vectors learn` from the unlabelled text (100
-dimensions, its defaults, 1 thread so that the vectors are the same every
-run), each at --repeats 1 and 5 (5 folds).  Both rankings (normalised margin,
-self-confidence) are computed from the probabilities each run exports
-(--probabilities) with the Python formulas of audit_cl.py, which
-tests/ext/audit_formulas.py checks equal vecsift's own; the CLI's own ranking
-(--rank's default) is checked equal here too.
+1..10).  Datasets (tools/fetch-data, npm; built by tests/ext/audit_cl.py):
+  spam    SpamAssassin mail, 150 ham and 150 spam; the corpus's other
+          messages are the unlabelled text
+  brown   the Brown corpus, one 400-word passage from each of 300 samples,
+          informative or imaginative prose; the rest of the corpus unlabelled
+  brown4  the same with four labels (press, general prose, learned, fiction)
+  sotu    State of the Union passages of 400 words, 75 from each of four
+          eras; the other passages unlabelled
+Routes for the probabilities (pool:repeats[:extra options joined by +]):
+--pool bow (no vectors), and pooling of vectors learned by `vecsift vectors
+learn` from the unlabelled text (its defaults, 1 thread so the vectors are the
+same every run); 5 folds.  Every selection (noise-rate, off-diagonal) and
+ranking (margin, confidence) is computed from the probabilities each run
+exports (--probabilities) with the Python formulas of audit_cl.py, which
+tests/ext/audit_formulas.py checks equal vecsift's own; the CLI's default
+(noise-rate, margin) is checked equal to them here too.
 
 Python reference: scikit-learn TfidfVectorizer (its defaults) and
 LogisticRegression(C=10, lbfgs), out-of-fold probabilities over
 RepeatedStratifiedKFold(5 folds, 5 repeats, seeded), averaged over repeats,
 then the same confident-learning formulas.
 
-usage: BUILDDIR=build /usr/bin/python3 tests/bench/bench_audit.py [--plantings N] [--datasets spam,brown]
+usage: BUILDDIR=build /usr/bin/python3 tests/bench/bench_audit.py [--plantings N]
+       [--datasets spam,brown,sotu] [--routes bow:1,tfidf:1] [--no-reference]
 """
 import argparse
 import os
