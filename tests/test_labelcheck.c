@@ -185,7 +185,8 @@ Test(labelcheck, noise_rate_takes_as_many_rows_as_the_calibrated_joint_says)
 {
     struct labelcheck_opts opt = LABELCHECK_OPTS_INIT;
     cr_assert_eq(opt.select, LABELCHECK_NOISE_RATE);
-    cr_assert_eq(opt.rank, LABELCHECK_BY_MARGIN);
+    cr_assert_eq(opt.rank, LABELCHECK_BY_CONFIDENCE);
+    opt.rank = LABELCHECK_BY_MARGIN;
     struct labelcheck_result r = LABELCHECK_RESULT_INIT;
     struct err e = ERR_INIT;
     cr_assert_eq(labelcheck_run(&Q3[0][0], g3, 10, 2, &opt, &r, &e), 0);

@@ -3,8 +3,10 @@
  *
  * Every row is scored by pipelines that never saw it (cross-validation, as
  * in evaluate); with --repeats the out-of-fold probabilities are averaged
- * over the repeats.  Those probabilities go to the confident-learning audit
- * of labelcheck.h (Northcutt, Jiang and Chuang 2021).  The command only
+ * over the repeats (the folds module's repeated stratified k-fold).  Those
+ * probabilities go to the confident-learning audit of labelcheck.h
+ * (Northcutt, Jiang and Chuang 2021): prune by noise rate, ranked by
+ * self-confidence, unless --select / --rank say otherwise.  The command only
  * points at rows; it never changes the data.
  */
 #include <stdio.h>
@@ -26,7 +28,7 @@ static const struct cli_opt opts[] = {
     { "output", 'o', "<file>", "where to write the suspect rows as CSV (default: - for stdout)" },
     { "excerpt", 0, "<n>", "bytes of text kept in the excerpt column (default: 160)" },
     { "select", 0, "<how>", "noise-rate: as many rows as the estimated noise | off-diagonal: of the confident joint (default: noise-rate)" },
-    { "rank", 0, "<how>", "margin: p(best other) - p(given) | confidence: 1 - p(given) (default: margin)" },
+    { "rank", 0, "<how>", "confidence: 1 - p(given) | margin: p(best other) - p(given) (default: confidence)" },
     { "probabilities", 0, "<file>", "also write every row's out-of-fold probabilities (mean over repeats) as CSV" },
     PIPELINE_OPTIONS,
     { "folds", 'k', "<n>", "folds, >= 2 (default: 5)" },
@@ -41,13 +43,19 @@ const struct cli_cmd cmd_audit_info = {
     "audit", "[options] DATA.csv [-o SUSPECTS.csv]",
     "list the labelled rows whose label looks wrong, most suspect first",
     opts,
-    "Each row is scored out of fold: by pipelines fitted without it.  A row is\n"
-    "a suspect when another label is confidently more likely than its own\n"
-    "(confident learning: Northcutt, Jiang and Chuang 2021).  Output columns:\n"
-    "row (1-based data row), given, suggested, score (the --rank key: the\n"
-    "probability of the most likely other label minus that of the given one,\n"
-    "or 1 minus that of the given one), excerpt, p_given, p_suggested.  A suspect is a row to look at, not a proven mistake: some\n"
-    "are texts that really belong to two queues.  A summary goes to stderr."
+    "Each row is scored out of fold: by pipelines fitted without it.  Then\n"
+    "confident learning (Northcutt, Jiang and Chuang 2021): each label's\n"
+    "threshold is the mean probability of that label over the rows carrying it,\n"
+    "the confident joint counts which label each row confidently belongs to,\n"
+    "and as many rows as it estimates to be mislabelled become suspects\n"
+    "(--select noise-rate), most suspect first by --rank.  Output columns:\n"
+    "row (1-based data row), given, suggested, score (the --rank key: 1 minus\n"
+    "the probability of the given label, or the probability of the most likely\n"
+    "other label minus that of the given one), excerpt, p_given, p_suggested.\n"
+    "Vectors learned from your unlabelled text (--vectors) usually find more\n"
+    "wrong labels than --pool bow.  A suspect is a row to look at, not a proven\n"
+    "mistake: some are texts that really belong to two queues.  A summary goes\n"
+    "to stderr."
 };
 
 struct audit_args {

@@ -20,7 +20,7 @@ same every run); 5 folds.  Every selection (noise-rate, off-diagonal) and
 ranking (margin, confidence) is computed from the probabilities each run
 exports (--probabilities) with the Python formulas of audit_cl.py, which
 tests/ext/audit_formulas.py checks equal vecsift's own; the CLI's default
-(noise-rate, margin) is checked equal to them here too.
+(noise-rate, confidence) is checked equal to them here too.
 
 Python reference: scikit-learn TfidfVectorizer (its defaults) and
 LogisticRegression(C=10, lbfgs), out-of-fold probabilities over
@@ -114,7 +114,7 @@ def main():
                     for sel in audit_cl.SELECTS:
                         for rank in audit_cl.RANKS:
                             ranked = [x[0] for x in audit_cl.audit(P, given, rank, sel)[2]]
-                            if rank == "margin" and sel == "noise-rate" and ranked != cli:
+                            if rank == "confidence" and sel == "noise-rate" and ranked != cli:
                                 sys.exit(f"{name} planting {s} {pool}: the CLI's ranking differs from the formulas'")
                             got.setdefault((f"vecsift {pool} R{rep} {' '.join(more)}".strip(), sel, rank),
                                            []).append(audit_cl.found_in_top(ranked, planted, TOP))
