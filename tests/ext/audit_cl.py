@@ -25,6 +25,8 @@ import subprocess
 
 import numpy as np
 
+from audit_check import spam_rows, write_csv  # noqa: F401 (write_csv: for the importers)
+
 RANKS = ("margin", "confidence")
 SELECTS = ("noise-rate", "off-diagonal")
 
@@ -215,8 +217,7 @@ def sotu_rows(srcdir, per_label=75, words=400, seed=1):
 def spam_data(srcdir, per_class=150):
     """(labelled, unlabelled) mail: labelled = [(text, label, '')], 'per_class'
     ham and spam messages; unlabelled = every other message of the corpus."""
-    import audit_check
-    pool = audit_check.spam_rows(srcdir, per_class=100000)
+    pool = spam_rows(srcdir, per_class=100000)
     rows, got, rest = [], {"ham": 0, "spam": 0}, []
     for text, label in pool:
         text = text.replace("\0", " ")  # a few messages hold NUL bytes, which a CSV may not
@@ -226,13 +227,6 @@ def spam_data(srcdir, per_class=150):
         else:
             rest.append(text)
     return rows, rest
-
-
-def write_csv(path, header, rows):
-    with open(path, "w", newline="", encoding="utf-8") as fp:
-        w = csv.writer(fp)
-        w.writerow(header)
-        w.writerows(rows)
 
 
 def read_probabilities(path):
