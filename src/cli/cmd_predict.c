@@ -253,6 +253,8 @@ int cmd_predict(int argc, char **argv)
         predict_pool_finish(&pool);
         if (got < 0)
             goto fail;
+        if (ferror(fp))
+            break; /* a full disk or a closed pipe: stop reading, ofile_commit says why */
         if (!more) {
             write_batch(fp, &j, &bt[cur], &routed, &review);
             rows += bt[cur].n;
