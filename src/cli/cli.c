@@ -7,6 +7,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "vecsift/err.h"
 #include "vecsift/xalloc.h"
@@ -234,6 +235,21 @@ int cli_long(const struct cli_cmd *cmd, const char *opt, const char *val, long l
     }
     *out = v;
     return 0;
+}
+
+int cli_threads(const struct cli_cmd *cmd, const char *val, int *out)
+{
+    long v;
+    if (cli_long(cmd, "threads", val, 1, CLI_MAX_THREADS, &v) < 0)
+        return -1;
+    *out = (int)v;
+    return 0;
+}
+
+int cli_default_threads(void)
+{
+    long n = sysconf(_SC_NPROCESSORS_ONLN);
+    return n < 1 ? 1 : n > CLI_MAX_THREADS ? CLI_MAX_THREADS : (int)n;
 }
 
 int cli_double(const struct cli_cmd *cmd, const char *opt, const char *val, double lo, double hi, double *out)

@@ -66,6 +66,13 @@ int cli_usage(const struct cli_cmd *cmd, const char *fmt, ...)
 int cli_long(const struct cli_cmd *cmd, const char *opt, const char *val, long lo, long hi, long *out);
 int cli_double(const struct cli_cmd *cmd, const char *opt, const char *val, double lo, double hi, double *out);
 
+/* --threads, the same in every command: a whole number from 1 to
+ * CLI_MAX_THREADS, parsed and refused with one message.  The default is the
+ * processors online, capped the same way. */
+#define CLI_MAX_THREADS 256
+int cli_threads(const struct cli_cmd *cmd, const char *val, int *out);
+int cli_default_threads(void);
+
 /* Print an error the one way: "vecsift: MSG" then "hint: HINT".  Returns the
  * exit status carried by the error (1 or 2). */
 int cli_fail(const struct err *e);

@@ -47,7 +47,8 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
     struct cli_parser p;
     struct err e = ERR_INIT;
     const char *val;
-    long k = 10, threads = vectors_default_threads();
+    long k = 10;
+    int threads = vectors_default_threads();
     int keep_accents = 0, rc = ERR_INPUT, o;
     vecset *v = NULL;
     size_t *rows = NULL;
@@ -57,7 +58,7 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
     while ((o = cli_next(&p, &val)) >= 0) {
         switch (o) {
         case 0: if (cli_long(cmd, "count", val, 1, 100000, &k) < 0) goto out; break;
-        case 1: if (cli_long(cmd, "threads", val, 1, 64, &threads) < 0) goto out; break;
+        case 1: if (cli_threads(cmd, val, &threads) < 0) goto out; break;
         case 2: keep_accents = 1; break;
         }
     }
@@ -95,7 +96,7 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
             q[j] += (float)(s * r[j]);
     }
     hits = xcalloc((size_t)k, sizeof *hits);
-    size_t n = vecset_nearest(v, q, (size_t)k, rows, nw, (int)threads, hits);
+    size_t n = vecset_nearest(v, q, (size_t)k, rows, nw, threads, hits);
     vectors_print_hits(v, hits, n);
     rc = ERR_OK;
     goto out;

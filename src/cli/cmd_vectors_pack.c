@@ -41,13 +41,13 @@ int vectors_pack(int argc, char **argv)
     struct err e = ERR_INIT;
     struct text_options to = TEXT_OPTIONS_INIT;
     const char *out = NULL, *val;
-    long threads = vectors_default_threads();
+    int threads = vectors_default_threads();
     int rc = ERR_INPUT, o;
     cli_parser_init(&p, cmd, argc, argv);
     while ((o = cli_next(&p, &val)) >= 0) {
         switch (o) {
         case 0: out = val; break;
-        case 1: if (cli_long(cmd, "threads", val, 1, 64, &threads) < 0) goto out; break;
+        case 1: if (cli_threads(cmd, val, &threads) < 0) goto out; break;
         case 2: to.keep_accents = 1; break;
         case 3: cli_quiet = 1; break;
         case 4: to.mask_number = 1; break;
@@ -71,7 +71,7 @@ int vectors_pack(int argc, char **argv)
     const char *in = p.pos[0];
     struct vecset_pack_stats st;
     if (ofile_check_distinct(out, (const char *const *)&in, 1, &e) < 0 ||
-        vecset_pack_text(in, out, &to, (int)threads, &st, &e) < 0) {
+        vecset_pack_text(in, out, &to, threads, &st, &e) < 0) {
         rc = cli_fail(&e);
         goto out;
     }
