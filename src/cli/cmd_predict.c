@@ -98,6 +98,23 @@ static void write_batch(FILE *fp, const struct job *j, const struct batch *bt, s
     }
 }
 
+/* Refuse a batch holding a confidence that is not a finite number rather
+ * than route on it (NaN compares false with the cut-off, so the row would go
+ * out automatically).  Open reads no vector row, so a NaN or infinity in a
+ * damaged vector set first shows here.  'done' rows came before the batch. */
+static int batch_finite(const struct job *j, const struct batch *bt, size_t done, const char *in, struct err *e)
+{
+    size_t K = j->m->k;
+    for (size_t r = 0; r < bt->n; r++)
+        for (size_t k = 0; k < K; k++)
+            if (!isfinite(bt->prob[r * K + k])) {
+                err_set(e, in, 0, "data row %zu: the model's confidence is not a finite number, so it is not routed",
+                        done + r + 1);
+                return err_hint(e, "the vector set may be damaged: 'vecsift vectors info FILE --verify' checks every row");
+            }
+    return 0;
+}
+
 /* The header row.  Written only once the first batch has been read: a bad
  * row among the first BATCH rows then leaves nothing on stdout, where no
  * temporary file can be thrown away (a file output is discarded anyway). */
@@ -244,6 +261,10 @@ int cmd_predict(int argc, char **argv)
     for (int cur = 0, have_prev = 0;; cur = 1 - cur, have_prev = 1) {
         predict_pool_start(&pool, &bt[cur]);
         if (have_prev) {
+            if (batch_finite(&j, &bt[1 - cur], rows, in, &e) < 0) {
+                predict_pool_finish(&pool);
+                goto fail;
+            }
             write_batch(fp, &j, &bt[1 - cur], &routed, &review);
             rows += bt[1 - cur].n;
         }
@@ -256,6 +277,8 @@ int cmd_predict(int argc, char **argv)
         if (ferror(fp))
             break; /* a full disk or a closed pipe: stop reading, ofile_commit says why */
         if (!more) {
+            if (batch_finite(&j, &bt[cur], rows, in, &e) < 0)
+                goto fail;
             write_batch(fp, &j, &bt[cur], &routed, &review);
             rows += bt[cur].n;
             break;

@@ -87,6 +87,8 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
     for (size_t i = 0; i < nw; i++) {
         const float *r = vecset_row(v, rows[i]);
         float n = vecset_norm(v, rows[i]);
+        if (vecset_check_row(v, rows[i], &e) < 0)
+            goto fail; /* damage, not a zero vector */
         if (!(n > 0)) {
             err_set(&e, vecset_path(v), 0, "'%s' has the zero vector: no direction to compare", p.pos[1 + i]);
             goto fail;
@@ -96,8 +98,10 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
             q[j] += (float)(s * r[j]);
     }
     hits = xcalloc((size_t)k, sizeof *hits);
-    size_t n = vecset_nearest(v, q, (size_t)k, rows, nw, threads, hits);
-    vectors_print_hits(v, hits, n);
+    long n = vecset_nearest(v, q, (size_t)k, rows, nw, threads, hits, &e);
+    if (n < 0)
+        goto fail;
+    vectors_print_hits(v, hits, (size_t)n);
     rc = ERR_OK;
     goto out;
 fail:
