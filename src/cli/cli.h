@@ -82,6 +82,11 @@ extern int cli_quiet;
 void cli_note(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 void cli_warn(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 
+/* The warning for tokens over TEXT_MAX_TOKEN bytes that the tokeniser
+ * skipped: "PATH:LINE: N tokens longer than 1024 bytes skipped ..." (LINE 0:
+ * no line).  Nothing when n is 0. */
+void cli_warn_too_long(const char *path, long line, size_t n);
+
 /* Levenshtein distance, for suggestions. */
 size_t cli_distance(const char *a, const char *b);
 

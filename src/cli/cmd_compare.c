@@ -289,6 +289,7 @@ int cmd_compare(int argc, char **argv)
     data_args_dataset(&a.da, 1, &dopt);
     if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
 
     /* The set-ups: bow with each classifier, then vectors x pool x classifier. */
     size_t cap = 3 + a.nvec * 3 * 3;

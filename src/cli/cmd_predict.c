@@ -292,6 +292,7 @@ int cmd_predict(int argc, char **argv)
     o = NULL;
     if (csv_replaced(r))
         cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", in, csv_replaced(r));
+    cli_warn_too_long(in, 0, predict_pool_too_long(&pool));
     cli_note("%zu rows: %zu routed automatically, %zu to review (cut-off %.3f)", rows, routed, review, cut);
     cli_note("note: a classifier misroutes some tickets; keep a person on the 'review' route and watch "
              "each queue's precision over time (README, Cautions)");

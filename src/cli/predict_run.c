@@ -203,6 +203,16 @@ void predict_pool_finish(struct pool *p)
     pthread_mutex_unlock(&p->mu);
 }
 
+size_t predict_pool_too_long(struct pool *p)
+{
+    size_t n = 0;
+    pthread_mutex_lock(&p->mu);
+    for (size_t t = 0; t < p->nthreads + 1; t++)
+        n += p->w[t].tt.too_long; /* each worker's tokeniser counts its own rows */
+    pthread_mutex_unlock(&p->mu);
+    return n;
+}
+
 void predict_pool_release(struct pool *p)
 {
     if (!p->w)

@@ -79,6 +79,8 @@ void predict_pool_start(struct pool *p, struct batch *b);
 /* Score what is left of the batch on the calling thread, then wait until
  * every row is done. */
 void predict_pool_finish(struct pool *p);
+/* Tokens over TEXT_MAX_TOKEN bytes skipped so far (after predict_pool_finish). */
+size_t predict_pool_too_long(struct pool *p);
 /* Stop and join the threads, free everything; safe on a zeroed pool. */
 void predict_pool_release(struct pool *p);
 
