@@ -11,7 +11,7 @@
 
 static const struct cli_opt near_opts[] = {
     { "count", 'k', "<n>", "how many neighbours (default: 10)" },
-    { "threads", 0, "<n>", "scanning threads (default: processors online)" },
+    { "threads", 0, "<n>", "scanning threads, 1 to 256 (default: processors online)" },
     { "keep-accents", 0, NULL, "the store was packed with --keep-accents" },
     { NULL, 0, NULL, NULL },
 };

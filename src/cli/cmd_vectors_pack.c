@@ -15,7 +15,7 @@
 
 static const struct cli_opt pack_opts[] = {
     { "output", 'o', "<file>", "packed store to write (required)" },
-    { "threads", 0, "<n>", "parsing threads (default: processors online)" },
+    { "threads", 0, "<n>", "parsing threads, 1 to 256 (default: processors online)" },
     { "keep-accents", 0, NULL, "keep accents on Latin letters (default: strip them, as text is)" },
     { "quiet", 'q', NULL, "no summary on stderr" },
     { "mask-numbers", 0, NULL, "as the data will be read: number tokens become a placeholder (default: kept)" },
@@ -152,7 +152,7 @@ out:
 /* ---- info ---- */
 
 static const struct cli_opt info_opts[] = {
-    { "verify", 0, NULL, "read every row and check the fingerprint (default: header only)" },
+    { "verify", 0, NULL, "read every row: check values, stored lengths and the fingerprint (default: header only)" },
     { NULL, 0, NULL, NULL },
 };
 
