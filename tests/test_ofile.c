@@ -110,11 +110,17 @@ Test(ofile, full_disk_is_reported_and_leaves_nothing)
  * with ENOSPC (Linux null(4)/full(4) manual page); it is reached through a
  * link in the scratch directory, so that a regression (a rename over the
  * path) replaces the link, which this test sees, and never /dev/full. */
+/* A link 'name' in the scratch directory to 'target'; its path in 'out'. */
+static void link_to(const char *target, const char *name, char out[256])
+{
+    snprintf(out, 256, "%s/%s", dir, name);
+    cr_assert_eq(symlink(target, out), 0);
+}
+
 Test(ofile, full_device_is_written_in_place_and_fails)
 {
     char link[256];
-    snprintf(link, sizeof link, "%s/full", dir);
-    cr_assert_eq(symlink("/dev/full", link), 0);
+    link_to("/dev/full", "full", link);
     struct err e = ERR_INIT;
     ofile *o = ofile_open(link, &e);
     cr_assert_not_null(o, "%s", e.msg);
@@ -128,6 +134,7 @@ Test(ofile, full_device_is_written_in_place_and_fails)
     cr_assert_eq(count_entries(), 1, "no temporary left");
     /* a failure already seen before commit (a write that filled the buffer
      * many times over) is reported the same way */
+    err_clear(&e);
     o = ofile_open(link, &e);
     cr_assert_not_null(o);
     for (int i = 0; i < 100000; i++)
@@ -139,8 +146,7 @@ Test(ofile, full_device_is_written_in_place_and_fails)
 Test(ofile, null_device_succeeds_and_stays_a_device)
 {
     char link[256];
-    snprintf(link, sizeof link, "%s/null", dir);
-    cr_assert_eq(symlink("/dev/null", link), 0);
+    link_to("/dev/null", "null", link);
     struct err e = ERR_INIT;
     ofile *o = ofile_open(link, &e);
     cr_assert_not_null(o);

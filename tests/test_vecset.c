@@ -117,24 +117,32 @@ Test(vecset, fingerprint_follows_content)
     vecset_close(v);
 }
 
-/* The answer must not depend on the thread count (DESIGN.md conventions). */
-Test(vecset, nearest_same_for_any_thread_count)
+/* tmp(0, "rand.vecs"): N x D normal draws (seeded), words w0, w1, ...;
+ * returns the rows. */
+enum { N = 5000, D = 16 };
+static const float *rand_store(uint64_t seed, struct err *e)
 {
-    struct err e = ERR_INIT;
-    enum { N = 5000, D = 16 };
     static float rows[N * D];
     static char names[N][8];
     static const char *words[N];
     struct rng r;
-    rng_seed(&r, 3);
+    rng_seed(&r, seed);
     for (size_t i = 0; i < N * D; i++)
         rows[i] = (float)rng_normal(&r);
     for (int i = 0; i < N; i++) {
         snprintf(names[i], sizeof names[i], "w%d", i);
         words[i] = names[i];
     }
+    cr_assert_eq(vecset_write(tmp(0, "rand.vecs"), words, rows, N, D, e), 0);
+    return rows;
+}
+
+/* The answer must not depend on the thread count (DESIGN.md conventions). */
+Test(vecset, nearest_same_for_any_thread_count)
+{
+    struct err e = ERR_INIT;
+    const float *rows = rand_store(3, &e);
     const char *p = tmp(0, "rand.vecs");
-    cr_assert_eq(vecset_write(p, words, rows, N, D, &e), 0);
     vecset *v = vecset_open(p, &e);
     struct vecset_hit a[20], b[20];
     long na = vecset_nearest(v, rows, 20, NULL, 0, 1, a, &e);
@@ -572,20 +580,8 @@ Test(vecset, true_zero_vector_is_not_damage)
 Test(vecset, damage_named_the_same_for_any_thread_count)
 {
     struct err e = ERR_INIT;
-    enum { N = 5000, D = 16 };
-    static float rows[N * D];
-    static char names[N][8];
-    static const char *words[N];
-    struct rng r;
-    rng_seed(&r, 4);
-    for (size_t i = 0; i < N * D; i++)
-        rows[i] = (float)rng_normal(&r);
-    for (int i = 0; i < N; i++) {
-        snprintf(names[i], sizeof names[i], "w%d", i);
-        words[i] = names[i];
-    }
+    const float *rows = rand_store(4, &e);
     const char *p = tmp(0, "rand.vecs");
-    cr_assert_eq(vecset_write(p, words, rows, N, D, &e), 0);
     poke_float(p, 48, (size_t)4000 * D + 5, NAN);
     poke_float(p, 48, (size_t)1200 * D + 3, NAN);
     vecset *v = vecset_open(p, &e);
