@@ -1,6 +1,7 @@
 /* corpus.c -- load a CSV dataset and tokenise it (see corpus.h). */
 #include "vecsift/corpus.h"
 
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -50,4 +51,50 @@ void corpus_release(struct corpus *c)
     dataset_release(&c->ds);
     tokdocs_release(&c->docs);
     memset(c, 0, sizeof *c);
+}
+
+/* ---- rows that repeat ---- */
+
+struct row_hash {
+    uint64_t h;
+    size_t i;
+};
+
+static int by_hash_then_row(const void *a, const void *b)
+{
+    const struct row_hash *x = a, *y = b;
+    if (x->h != y->h)
+        return x->h < y->h ? -1 : 1;
+    return (x->i > y->i) - (x->i < y->i);
+}
+
+size_t corpus_duplicates(const struct corpus *c, size_t *conflicting)
+{
+    /* Hash each row's token-id sequence; rows with equal hashes are
+     * compared exactly, each with the rows before it in (hash, row) order. */
+    const struct tokdocs *d = &c->docs;
+    size_t n = d->n, dup = 0;
+    *conflicting = 0;
+    struct row_hash *r = xcalloc(n ? n : 1, sizeof *r);
+    for (size_t i = 0; i < n; i++) {
+        size_t a = d->off[i], z = d->off[i + 1];
+        r[i].h = vocab_hash((const char *)(d->tok + a), (z - a) * sizeof *d->tok) ^ (uint64_t)(z - a);
+        r[i].i = i;
+    }
+    qsort(r, n, sizeof *r, by_hash_then_row);
+    for (size_t q = 1; q < n; q++) {
+        size_t i = r[q].i, la = d->off[i + 1] - d->off[i];
+        if (la == 0)
+            continue; /* empty texts are reported elsewhere */
+        for (size_t p = q; p-- > 0 && r[p].h == r[q].h;) {
+            size_t j = r[p].i, lb = d->off[j + 1] - d->off[j];
+            if (la == lb && memcmp(d->tok + d->off[i], d->tok + d->off[j], la * sizeof *d->tok) == 0) {
+                dup++;
+                *conflicting += c->ds.y && c->ds.y[i] != c->ds.y[j];
+                break;
+            }
+        }
+    }
+    free(r);
+    return dup;
 }

@@ -16,10 +16,22 @@
 
 #include "vecsift/err.h"
 #include "vecsift/jsonv.h"
+#include "vecsift/model.h"
 #include "vecsift/vecset.h"
 #include "vecsift/vocab.h"
 
 static char fx_dir[64];
+
+/* A small labelled set (invented) shared by the pipeline, route and
+ * library tests: six words with 3-d vectors, eleven texts over them (one
+ * with a word that has no vector) and their labels in [0, 3). */
+enum { FX_NWORDS = 6, FX_DIM = 3, FX_N = 11, FX_K = 3 };
+static const char *const fx_words[FX_NWORDS] = { "cat", "sat", "ran", "dog", "hen", "owl" };
+static const float fx_vecs[FX_NWORDS * FX_DIM] = { 1, 0, 2, 3, 0, 4, 5, 1, 0, 10, 1, 1, -2, 3, 1, 0.5f, -1, 2 };
+static const char *const fx_texts[FX_N] = { "cat sat sat", "sat cat cat owl", "ran dog",   "dog dog ran hen",
+                                            "hen cat owl", "hen hen sat",     "owl owl",   "cat dog",
+                                            "ran ran sat", "hen fox",         "dog owl cat" };
+static const int fx_y[FX_N] = { 0, 0, 1, 1, 2, 2, 2, 0, 1, 2, 1 };
 
 /* Remove fx_dir and the files in it (the tests make no subdirectories). */
 static inline void fx_cleanup(void)
@@ -94,6 +106,37 @@ static inline void fx_write(const char *path, const char *text, size_t len)
     cr_assert_not_null(fp);
     cr_assert_eq(fwrite(text, 1, len, fp), len);
     cr_assert_eq(fclose(fp), 0);
+}
+
+/* A model around the fitted pipeline 'p' (owned by 'm' from now on): K
+ * labels "alpha", "beta", "gamma", default tokeniser settings, one text
+ * column "text", the vector set 'vs' at 'vec_path' (NULL for bow), the
+ * label counts of y[0..n), and the suggested cut-off 'review_below'. */
+static inline void fx_model(struct model *m, pipeline *p, size_t k, const vecset *vs, const char *vec_path,
+                            const int *y, size_t n, double review_below)
+{
+    static const char *const names[] = { "alpha", "beta", "gamma" };
+    cr_assert_leq(k, 3);
+    memset(m, 0, sizeof *m);
+    m->pipe = p;
+    m->k = k;
+    m->labels = calloc(k, sizeof *m->labels);
+    for (size_t j = 0; j < k; j++)
+        m->labels[j] = strdup(names[j]);
+    struct text_options to = TEXT_OPTIONS_INIT;
+    m->text = to;
+    m->ntext = 1;
+    m->text_cols = calloc(1, sizeof *m->text_cols);
+    m->text_cols[0] = strdup("text");
+    m->label_col = strdup("label");
+    m->vectors_path = vec_path ? strdup(vec_path) : NULL;
+    m->vectors_fp = vs ? vecset_fingerprint(vs) : 0;
+    m->data_path = strdup("train.csv");
+    m->rows = n;
+    m->label_rows = calloc(k, sizeof *m->label_rows);
+    for (size_t i = 0; i < n; i++)
+        m->label_rows[y[i]]++;
+    m->review_below = review_below;
 }
 
 #endif

@@ -8,12 +8,10 @@
 #include "vecsift/fmat.h"
 #include "vecsift/pipeline.h"
 
-static const char *const WORDS[] = { "cat", "sat", "ran", "dog", "hen", "owl" };
-static const float VECS[] = { 1, 0, 2, 3, 0, 4, 5, 1, 0, 10, 1, 1, -2, 3, 1, 0.5f, -1, 2 };
-static const char *const TEXTS[] = { "cat sat sat", "sat cat cat owl", "ran dog",   "dog dog ran hen",
-                                     "hen cat owl", "hen hen sat",     "owl owl",   "cat dog",
-                                     "ran ran sat", "hen fox",         "dog owl cat" };
-static const int Y[] = { 0, 0, 1, 1, 2, 2, 2, 0, 1, 2, 1 };
+static const char *const *const WORDS = fx_words; /* fixtures.h's small set */
+static const float *const VECS = fx_vecs;
+static const char *const *const TEXTS = fx_texts;
+static const int *const Y = fx_y;
 enum { N = 11, K = 3 };
 static const size_t ALL[N] = { 0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10 };
 

@@ -32,4 +32,11 @@ int corpus_load(struct corpus *c, const char *path, const struct dataset_options
                 struct err *e);
 void corpus_release(struct corpus *c);
 
+/* Rows whose token sequences are identical to an earlier row's (after
+ * normalisation: "Refund, please!" repeats "refund please"); rows with no
+ * token are not counted.  Returns how many rows repeat an earlier one, and
+ * in '*conflicting' how many of those carry another label than the
+ * nearest earlier row they repeat (0 for unlabelled data). */
+size_t corpus_duplicates(const struct corpus *c, size_t *conflicting);
+
 #endif

@@ -22,7 +22,7 @@
 #include "commands.h"
 #include "common.h"
 #include "compare_out.h"
-#include "evalout.h"
+#include "evaluate_out.h"
 #include "vecsift/err.h"
 #include "vecsift/ofile.h"
 #include "vecsift/par.h"
@@ -349,7 +349,7 @@ int cmd_compare(int argc, char **argv)
     compare_terminal(stdout, rows, order, n, &s);
     if (a.json) {
         js = compare_json(rows, order, n, &s);
-        if (evalout_write_json(a.json, js, &e) < 0)
+        if (evaluate_write_json(a.json, js, &e) < 0)
             goto fail;
     }
     if (a.report && compare_html(a.report, rows, order, n, &s, &e) < 0)

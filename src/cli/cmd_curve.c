@@ -12,7 +12,8 @@
 #include "commands.h"
 #include "common.h"
 #include "compare_out.h"
-#include "evalout.h"
+#include "curve_out.h"
+#include "evaluate_out.h"
 #include "vecsift/err.h"
 #include "vecsift/ofile.h"
 #include "vecsift/vecset.h"
@@ -193,7 +194,7 @@ int cmd_curve(int argc, char **argv)
         goto fail;
     if (a.json) {
         js = curve_json(pt, a.nsizes, &s, &est);
-        if (evalout_write_json(a.json, js, &e) < 0)
+        if (evaluate_write_json(a.json, js, &e) < 0)
             goto fail;
     }
     goto done;

@@ -10,7 +10,8 @@
 
 #include "commands.h"
 #include "common.h"
-#include "evalout.h"
+#include "evaluate_out.h"
+#include "evaluate_report.h"
 #include "vecsift/err.h"
 #include "vecsift/ofile.h"
 #include "vecsift/vecset.h"
@@ -158,9 +159,9 @@ int cmd_evaluate(int argc, char **argv)
     if (fit_args_open_vectors(&a.fa, &vs, &e) < 0)
         goto fail;
     if (!cli_quiet) {
-        evalout_label_table(term, &c, a.cp.folds);
+        evaluate_label_table(term, &c, a.cp.folds);
         fflush(term);
-        size_t conflicting, dup = evalout_duplicates(&c, &conflicting);
+        size_t conflicting, dup = corpus_duplicates(&c, &conflicting);
         if (dup)
             cli_note("%zu %s another row word for word after normalisation (%zu of them with another "
                      "label); duplicates split across folds flatter the scores: remove them or use --group-col",
@@ -179,16 +180,16 @@ int cmd_evaluate(int argc, char **argv)
     if (r.tiny_label)
         cli_warn("a label had fewer than 3 training rows in some fold: SVM probabilities for it are unreliable");
 
-    struct eval_setup s = { data, &a.da, &a.fa, &a.cp, a.target };
-    evalout_terminal(term, &r, &c, &s);
+    struct evaluate_setup s = { data, &a.da, &a.fa, &a.cp, a.target };
+    evaluate_terminal(term, &r, &c, &s);
     fflush(term);
     if (a.json || a.report)
-        js = evalout_json(&r, &c, &s);
-    if (a.json && evalout_write_json(a.json, js, &e) < 0)
+        js = evaluate_json(&r, &c, &s);
+    if (a.json && evaluate_write_json(a.json, js, &e) < 0)
         goto fail;
-    if (a.preds && evalout_predictions(a.preds, &r, &c, &e) < 0)
+    if (a.preds && evaluate_predictions(a.preds, &r, &c, &e) < 0)
         goto fail;
-    if (a.report && evalout_html(a.report, &r, &c, &s, &e) < 0)
+    if (a.report && evaluate_html(a.report, &r, &c, &s, &e) < 0)
         goto fail;
     if (!cli_quiet)
         fprintf(stderr, "cross-validation took %.2f s on %d threads\n", r.seconds, a.cp.threads);

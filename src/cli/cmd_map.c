@@ -14,7 +14,7 @@
 #include "commands.h"
 #include "common.h"
 #include "excerpt.h"
-#include "mapout.h"
+#include "map_out.h"
 #include "vecsift/err.h"
 #include "vecsift/fmat.h"
 #include "vecsift/ofile.h"

@@ -1,13 +1,12 @@
 /* cmd_predict.c -- `vecsift predict`: route the rows of a CSV with a model.
  *
- * Streams: rows are read in batches; while the threads score one batch
- * (predict_run.c), the main thread writes the previous one, in input order,
- * and reads the next.  Every row's output depends on that row and the model
- * alone, so the output is identical for any --threads and for any split of
- * the input into parts.
+ * Streams: rows are read in chunks (predict_run.c), routed by the
+ * library's one prediction path (route.h) on par's stream (par.h), which
+ * hands the chunks to the writer in input order.  Every row's output
+ * depends on that row and the model alone, so the output is identical for
+ * any --threads and for any split of the input into parts.
  */
 #include <math.h>
-#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -15,12 +14,12 @@
 #include "commands.h"
 #include "common.h"
 #include "vecsift/csv.h"
-#include "vecsift/dataset.h"
 #include "vecsift/err.h"
-#include "vecsift/fmat.h"
 #include "vecsift/model.h"
 #include "vecsift/ofile.h"
+#include "vecsift/par.h"
 #include "vecsift/pipeline.h"
+#include "vecsift/route.h"
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 #include "predict_run.h"
@@ -58,23 +57,43 @@ static void cell(FILE *fp, const char *s, int first)
     csv_put(fp, s, strlen(s), 1);
 }
 
-static void write_batch(FILE *fp, const struct job *j, const struct batch *bt, size_t *routed, size_t *review)
+/* What the stream's callbacks share (par_stream_run). */
+struct run {
+    const struct model *m;
+    csv_reader *r;
+    FILE *fp;
+    const long *textcol;
+    size_t ncols, ntext, top, explain;
+    long ltop, lexplain;
+    route_worker **w;   /* one per thread */
+    size_t routed, review, rows;
+    int header_done;
+    int out_failed;     /* the output stream failed: ofile_commit says why */
+    char *why;          /* the writer's buffer for the top words */
+    size_t whycap;
+    struct err e;       /* the reader's error */
+};
+
+static void write_header(FILE *fp, const csv_reader *r, long top, long explain);
+
+static void write_batch(struct run *u, const struct batch *bt)
 {
-    size_t K = j->m->k;
+    FILE *fp = u->fp;
+    size_t K = u->m->k;
     char num[32];
     for (size_t r = 0; r < bt->n; r++) {
-        for (size_t c = 0; c < j->ncols; c++)
-            cell(fp, bt->cells[r * j->ncols + c], c == 0);
+        for (size_t c = 0; c < u->ncols; c++)
+            cell(fp, bt->cells[r * u->ncols + c], c == 0);
         const double *pr = bt->prob + r * K;
-        int best = bt->label[r];
-        cell(fp, j->m->labels[best], 0);
-        snprintf(num, sizeof num, "%.4f", pr[best]);
+        const struct route_result *res = &bt->res[r];
+        int best = res->label;
+        cell(fp, u->m->labels[best], 0);
+        snprintf(num, sizeof num, "%.4f", res->confidence);
         cell(fp, num, 0);
-        int to_review = bt->empty[r] || pr[best] < j->cut;
-        cell(fp, to_review ? "review" : j->m->labels[best], 0);
-        *review += (size_t)to_review;
-        *routed += (size_t)!to_review;
-        if (j->top > 1) {
+        cell(fp, res->review ? "review" : u->m->labels[best], 0);
+        u->review += (size_t)res->review;
+        u->routed += (size_t)!res->review;
+        if (u->top > 1) {
             /* labels by probability, ties by label order */
             int *order = xcalloc(K, sizeof *order);
             for (size_t k = 0; k < K; k++)
@@ -85,39 +104,84 @@ static void write_batch(FILE *fp, const struct job *j, const struct batch *bt, s
                     order[b] = order[b - 1];
                     order[b - 1] = t;
                 }
-            for (size_t t = 1; t < j->top; t++) {
-                cell(fp, t < K ? j->m->labels[order[t]] : "", 0);
+            for (size_t t = 1; t < u->top; t++) {
+                cell(fp, t < K ? u->m->labels[order[t]] : "", 0);
                 snprintf(num, sizeof num, "%.4f", t < K ? pr[order[t]] : 0.0);
                 cell(fp, t < K ? num : "", 0);
             }
             free(order);
         }
-        if (j->explain)
-            cell(fp, bt->why[r], 0);
+        if (u->explain) {
+            /* "word (+0.123); word (+0.045)" */
+            size_t len = 0;
+            for (size_t q = 0; q < res->nwords; q++) {
+                char item[256];
+                int il = snprintf(item, sizeof item, "%s%.80s (%+.3f)", q ? "; " : "", res->words[q], res->push[q]);
+                u->why = xgrow(u->why, &u->whycap, len + (size_t)il + 1, 1);
+                memcpy(u->why + len, item, (size_t)il + 1);
+                len += (size_t)il;
+            }
+            fputc(',', fp);
+            csv_put(fp, len ? u->why : "", len, 1);
+        }
         fputs("\r\n", fp);
     }
+    u->rows += bt->n;
 }
 
-/* Refuse a batch holding a confidence that is not a finite number rather
+static int stream_read(void *ctx, void *chunk)
+{
+    struct run *u = ctx;
+    return predict_batch_read(chunk, u->r, u->ncols, u->textcol, u->ntext, &u->e);
+}
+
+static void stream_work(void *ctx, void *chunk, size_t worker)
+{
+    struct run *u = ctx;
+    predict_batch_route(chunk, u->w[worker], u->ntext, u->m->k);
+}
+
+/* The header goes out with the first chunk (the column names are fixed
+ * once the reader is open, so reading them here while another thread
+ * reads rows is safe): par_stream writes a chunk
+ * only once the next one has been read, so a bad row among the first
+ * 2 x PREDICT_CHUNK rows leaves nothing on stdout, where no temporary file
+ * can be thrown away (a file output is discarded anyway). */
+/* Refuse a chunk holding a confidence that is not a finite number rather
  * than route on it (NaN compares false with the cut-off, so the row would go
  * out automatically).  Open reads no vector row, so a NaN or infinity in a
- * damaged vector set first shows here.  'done' rows came before the batch. */
-static int batch_finite(const struct job *j, const struct batch *bt, size_t done, const char *in, struct err *e)
+ * damaged vector set first shows here. */
+static int batch_finite(struct run *u, const struct batch *bt)
 {
-    size_t K = j->m->k;
+    size_t K = u->m->k;
     for (size_t r = 0; r < bt->n; r++)
         for (size_t k = 0; k < K; k++)
             if (!isfinite(bt->prob[r * K + k])) {
-                err_set(e, in, 0, "data row %zu: the model's confidence is not a finite number, so it is not routed",
-                        done + r + 1);
-                return err_hint(e, "the vector set may be damaged: 'vecsift vectors info FILE --verify' checks every row");
+                err_set(&u->e, csv_path(u->r), 0,
+                        "data row %zu: the model's confidence is not a finite number, so it is not routed", u->rows + r + 1);
+                return err_hint(&u->e, "the vector set may be damaged: 'vecsift vectors info FILE --verify' checks every row");
             }
     return 0;
 }
 
-/* The header row.  Written only once the first batch has been read: a bad
- * row among the first BATCH rows then leaves nothing on stdout, where no
- * temporary file can be thrown away (a file output is discarded anyway). */
+static int stream_write(void *ctx, void *chunk)
+{
+    struct run *u = ctx;
+    if (batch_finite(u, chunk) < 0)
+        return -1;
+    if (!u->header_done) {
+        write_header(u->fp, u->r, u->ltop, u->lexplain);
+        u->header_done = 1;
+    }
+    write_batch(u, chunk);
+    if (ferror(u->fp)) { /* a full disk or a closed pipe: stop reading */
+        u->out_failed = 1;
+        return -1;
+    }
+    return 0;
+}
+
+/* The header row. */
 static void write_header(FILE *fp, const csv_reader *r, long top, long explain)
 {
     size_t ncols = csv_ncols(r);
@@ -194,13 +258,12 @@ int cmd_predict(int argc, char **argv)
     csv_reader *r = NULL;
     ofile *o = NULL;
     long *textcol = NULL;
-    struct job j;
-    memset(&j, 0, sizeof j);
-    struct batch bt[2];
-    memset(bt, 0, sizeof bt);
-    struct pool pool;
-    memset(&pool, 0, sizeof pool);
-    size_t routed = 0, review = 0, rows = 0;
+    struct run u;
+    memset(&u, 0, sizeof u);
+    err_clear(&u.e);
+    size_t T = da.threads > 1 ? (size_t)da.threads : 1, S = 2 * T + 2;
+    struct batch *bt = xcalloc(S, sizeof *bt);
+    void **slot = xcalloc(S, sizeof *slot);
 
     const char *ins[] = { model_path, in, vectors };
     if (ofile_check_distinct(out, ins, 3, &e) < 0)
@@ -241,49 +304,30 @@ int cmd_predict(int argc, char **argv)
     if (strcmp(out, "-") != 0)
         setvbuf(fp, outbuf, _IOFBF, sizeof outbuf);
 
-    j.pipe = m.pipe;
-    j.m = &m;
-    j.ncols = ncols;
-    j.ntextcol = ntext;
-    j.textcol = textcol;
-    j.top = (size_t)top;
-    j.explain = (size_t)explain;
-    j.cut = cut;
-    predict_batch_init(&bt[0], ncols, m.k);
-    predict_batch_init(&bt[1], ncols, m.k);
-    int more = predict_batch_read(&bt[0], r, ncols, &e);
-    if (more < 0)
+    struct route_params rp = { cut, (size_t)explain };
+    u.m = &m;
+    u.r = r;
+    u.fp = fp;
+    u.textcol = textcol;
+    u.ncols = ncols;
+    u.ntext = ntext;
+    u.top = (size_t)top;
+    u.explain = (size_t)explain;
+    u.ltop = top;
+    u.lexplain = explain;
+    u.w = xcalloc(T, sizeof *u.w);
+    for (size_t t = 0; t < T; t++)
+        u.w[t] = route_worker_new(&m, &rp);
+    for (size_t q = 0; q < S; q++) {
+        predict_batch_init(&bt[q], ncols, ntext, m.k);
+        slot[q] = &bt[q];
+    }
+    /* Chunks are read in order, routed on any thread and written in
+     * input order (par.h): the output does not depend on --threads. */
+    struct par_stream ps = { slot, S, stream_read, stream_work, stream_write, &u };
+    if (par_stream_run((int)T, &ps) < 0 && !u.out_failed) {
+        e = u.e;
         goto fail;
-    write_header(fp, r, top, explain);
-    predict_pool_init(&pool, &j, da.threads);
-    /* Batch 'cur' is scored while the previous one is written and the next
-     * one read. */
-    for (int cur = 0, have_prev = 0;; cur = 1 - cur, have_prev = 1) {
-        predict_pool_start(&pool, &bt[cur]);
-        if (have_prev) {
-            if (batch_finite(&j, &bt[1 - cur], rows, in, &e) < 0) {
-                predict_pool_finish(&pool);
-                goto fail;
-            }
-            write_batch(fp, &j, &bt[1 - cur], &routed, &review);
-            rows += bt[1 - cur].n;
-        }
-        int got = more ? predict_batch_read(&bt[1 - cur], r, ncols, &e) : 0;
-        if (!more)
-            predict_batch_clear(&bt[1 - cur]);
-        predict_pool_finish(&pool);
-        if (got < 0)
-            goto fail;
-        if (ferror(fp))
-            break; /* a full disk or a closed pipe: stop reading, ofile_commit says why */
-        if (!more) {
-            if (batch_finite(&j, &bt[cur], rows, in, &e) < 0)
-                goto fail;
-            write_batch(fp, &j, &bt[cur], &routed, &review);
-            rows += bt[cur].n;
-            break;
-        }
-        more = got;
     }
     if (ofile_commit(o, &e) < 0) {
         o = NULL;
@@ -292,17 +336,21 @@ int cmd_predict(int argc, char **argv)
     o = NULL;
     if (csv_replaced(r))
         cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", in, csv_replaced(r));
-    cli_warn_too_long(in, 0, predict_pool_too_long(&pool));
-    cli_note("%zu rows: %zu routed automatically, %zu to review (cut-off %.3f)", rows, routed, review, cut);
+    cli_note("%zu rows: %zu routed automatically, %zu to review (cut-off %.3f)", u.rows, u.routed, u.review, cut);
     cli_note("note: a classifier misroutes some tickets; keep a person on the 'review' route and watch "
              "each queue's precision over time (README, Cautions)");
     goto done;
 fail:
     rc = cli_fail(&e);
 done:
-    predict_pool_release(&pool);
-    predict_batch_release(&bt[0]);
-    predict_batch_release(&bt[1]);
+    for (size_t t = 0; u.w && t < T; t++)
+        route_worker_free(u.w[t]);
+    free(u.w);
+    free(u.why);
+    for (size_t q = 0; q < S; q++)
+        predict_batch_release(&bt[q]);
+    free(bt);
+    free(slot);
     free(textcol);
     ofile_abort(o);
     csv_close(r);

@@ -16,7 +16,7 @@
 
 #include "commands.h"
 #include "common.h"
-#include "scored.h"
+#include "suggest_pool.h"
 #include "vecsift/csv.h"
 #include "vecsift/err.h"
 #include "vecsift/fmat.h"
@@ -153,7 +153,7 @@ int cmd_suggest(int argc, char **argv)
     struct err e = ERR_INIT;
     struct model m = MODEL_INIT;
     struct vecset *vs = NULL;
-    struct scored pl;
+    struct suggest_pool pl;
     memset(&pl, 0, sizeof pl);
     struct cand *cands = NULL;
     size_t *picked = NULL;
@@ -169,7 +169,7 @@ int cmd_suggest(int argc, char **argv)
     if (model_load(&m, model_path, vectors, &vs, &e) < 0)
         goto fail;
     reserved[0] = m.label_col;
-    if (scored_load(&pl, in, &m, &da, reserved, 4, &e) < 0)
+    if (suggest_pool_load(&pl, in, &m, &da, reserved, 4, &e) < 0)
         goto fail;
     cands = xcalloc(pl.n, sizeof *cands);
     why = xcalloc(pl.n, sizeof *why);
@@ -194,7 +194,7 @@ int cmd_suggest(int argc, char **argv)
         for (; q < npicked; q++) {
             size_t s = picked[q];
             double den = pl.norm[r] * pl.norm[s];
-            if (den > 0 && scored_dot(&pl.X, r, s) / den > similar)
+            if (den > 0 && suggest_pool_dot(&pl.X, r, s) / den > similar)
                 break;
         }
         if (q < npicked) {
@@ -249,7 +249,7 @@ done:
     free(picked);
     free(picked_u);
     free(cands);
-    scored_release(&pl);
+    suggest_pool_release(&pl);
     model_release(&m);
     vecset_close(vs);
     cli_parser_release(&p);

@@ -16,7 +16,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "mapout.h"
+#include "map_out.h"
 #include "vecsift/err.h"
 #include "vecsift/ofile.h"
 #include "vecsift/svgplot.h"

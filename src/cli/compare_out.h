@@ -1,8 +1,8 @@
 /* compare_out.h -- what `compare` and `curve` write: the ranked table of
  * set-ups with the corrected resampled t-test against the best, the Compare
- * JSON of DESIGN.md, the HTML pages, and the learning curve's table, plot
- * and estimate.  The commands run the cross-validations; this file only
- * presents them (and computes the test and the fit it presents).
+ * JSON of DESIGN.md and the HTML page; the helpers curve_out.h shares.
+ * The command runs the cross-validations; this file only presents them
+ * (and computes the test it presents).
  */
 #ifndef VECSIFT_CLI_COMPARE_OUT_H
 #define VECSIFT_CLI_COMPARE_OUT_H
@@ -66,40 +66,5 @@ struct cJSON *compare_spread_json(struct metrics_spread sp);
 
 /* Print 'text' with its lines broken at spaces to at most 'width' bytes. */
 void compare_wrap(FILE *fp, const char *text, size_t width);
-
-/* ---- learning curve ---- */
-
-struct curve_point {
-    double fraction;
-    double train_rows;      /* mean training rows per fit */
-    struct metrics_spread macro_f1, accuracy;
-};
-
-struct curve_setup {
-    const char *data;
-    const struct fit_args *fa;
-    const struct cv_params *cp;
-    size_t n_rows, n_labels;
-};
-
-/* What doubling the labelled set might bring: the power law fit of error =
- * 1 - macro-F1 against training rows, and whether to say anything. */
-struct curve_estimate {
-    int fitted;             /* the fit ran (else 'why' says why not) */
-    int tell;               /* reliable and the predicted gain exceeds the noise */
-    struct stats_powerlaw fit;
-    double f1_now, f1_2n;   /* fitted macro-F1 at the largest size and at twice it */
-    double se;              /* corrected standard error of the largest size's mean */
-    char why[1200];
-};
-void curve_estimate(const struct curve_point *pt, size_t m, const struct curve_setup *s, struct curve_estimate *est);
-
-void curve_terminal(FILE *fp, const struct curve_point *pt, size_t m, const struct curve_setup *s,
-                    const struct curve_estimate *est);
-int curve_svg(const char *path, const struct curve_point *pt, size_t m, struct err *e);
-int curve_html(const char *path, const struct curve_point *pt, size_t m, const struct curve_setup *s,
-               const struct curve_estimate *est, struct err *e);
-struct cJSON *curve_json(const struct curve_point *pt, size_t m, const struct curve_setup *s,
-                         const struct curve_estimate *est);
 
 #endif

@@ -1,12 +1,14 @@
 /* curve_out.c -- the learning curve's estimate and outputs (see
- * compare_out.h): table, SVG plot, HTML page, JSON. */
+ * curve_out.h): table, SVG plot, HTML page, JSON. */
+#include "curve_out.h"
+
 #include <cjson/cJSON.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "compare_out.h"
-#include "evalout.h"
+#include "evaluate_out.h"
 #include "vecsift/chart.h"
 #include "vecsift/err.h"
 #include "vecsift/jsonv.h"
@@ -105,7 +107,7 @@ void curve_terminal(FILE *fp, const struct curve_point *pt, size_t m, const stru
                     const struct curve_estimate *est)
 {
     char what[512], text[2048];
-    evalout_describe(s->fa, what, sizeof what);
+    evaluate_describe(s->fa, what, sizeof what);
     fprintf(fp, "\nLearning curve: %s\n%zu rows, %zu labels, %d folds x %zu repeats (seed %llu); each fit uses a "
                 "stratified share of its fold's training rows and is scored on the whole held-out fold\n\n",
             what, s->n_rows, s->n_labels, s->cp->folds, s->cp->repeats, (unsigned long long)s->cp->seed);
@@ -155,7 +157,7 @@ int curve_html(const char *path, const struct curve_point *pt, size_t m, const s
         return -1;
     FILE *fp = ofile_fp(o);
     char what[512], sub[1024], text[2048];
-    evalout_describe(s->fa, what, sizeof what);
+    evaluate_describe(s->fa, what, sizeof what);
     snprintf(sub, sizeof sub, "%s: %s; %zu rows, %zu labels, %d folds x %zu repeats, seed %llu; vecsift %s", s->data,
              what, s->n_rows, s->n_labels, s->cp->folds, s->cp->repeats, (unsigned long long)s->cp->seed,
              VECSIFT_VERSION);

@@ -1,7 +1,8 @@
 /* model_proba.c -- test-only: load a model file written by `vecsift train`
  * (model_load: validation, fingerprint check) and print, as JSON, the
  * probabilities of every row of a CSV file at full precision, where
- * `vecsift predict` rounds to 4 decimals.  For tests/ext/classifiers_vs_sklearn.py.
+ * `vecsift predict` rounds to 4 decimals.  The rows go through the
+ * library's one prediction path (route.h), as predict's do.  For tests/ext/classifiers_vs_sklearn.py.
  * Not installed.
  *
  *   model_proba MODEL.json DATA.csv
@@ -10,10 +11,10 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "vecsift/corpus.h"
+#include "vecsift/dataset.h"
 #include "vecsift/err.h"
 #include "vecsift/model.h"
-#include "vecsift/pipeline.h"
+#include "vecsift/route.h"
 #include "vecsift/vecset.h"
 
 int main(int argc, char **argv)
@@ -35,19 +36,21 @@ int main(int argc, char **argv)
     o.text_cols = (const char *const *)m.text_cols;
     o.ntext = m.ntext;
     o.csv = co;
-    struct corpus c;
-    if (corpus_load(&c, argv[2], &o, &m.text, &e) < 0) {
+    struct dataset d;
+    if (dataset_load(&d, argv[2], &o, &e) < 0) {
         fprintf(stderr, "model_proba: %s\n", e.msg);
         model_release(&m);
         vecset_close(vs);
         return 2;
     }
-    size_t n = c.docs.n, K = m.k;
-    size_t *rows = calloc(n ? n : 1, sizeof *rows);
+    size_t n = d.n, K = m.k;
     double *P = calloc(n ? n * K : 1, sizeof *P);
-    for (size_t i = 0; i < n; i++)
-        rows[i] = i;
-    pipeline_proba(m.pipe, &c.docs, rows, n, P, NULL);
+    struct route_result *res = calloc(n ? n : 1, sizeof *res);
+    struct route_params rp = ROUTE_PARAMS_INIT;
+    if (route_batch(&m, &rp, 1, (const char *const *)d.text, 1, n, P, res, NULL, &e) < 0) {
+        fprintf(stderr, "model_proba: %s\n", e.msg);
+        return 2;
+    }
     printf("{\"labels\": [");
     for (size_t k = 0; k < K; k++)
         printf("%s\"%s\"", k ? ", " : "", m.labels[k]);
@@ -59,9 +62,9 @@ int main(int argc, char **argv)
         printf("]%s\n", i + 1 < n ? "," : "");
     }
     printf("]}\n");
-    free(rows);
+    free(res);
     free(P);
-    corpus_release(&c);
+    dataset_release(&d);
     model_release(&m);
     vecset_close(vs);
     return ferror(stdout) ? 1 : 0;

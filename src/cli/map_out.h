@@ -1,7 +1,7 @@
-/* mapout.h -- what `map` and `vectors map` share: the t-SNE options, the
+/* map_out.h -- what `map` and `vectors map` share: the t-SNE options, the
  * run itself, the caption and the coordinates file.  Private to src/cli. */
-#ifndef VECSIFT_CLI_MAPOUT_H
-#define VECSIFT_CLI_MAPOUT_H
+#ifndef VECSIFT_CLI_MAP_OUT_H
+#define VECSIFT_CLI_MAP_OUT_H
 
 #include <stddef.h>
 #include <stdio.h>

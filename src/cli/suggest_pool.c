@@ -1,30 +1,29 @@
-/* scored.c -- rows of a CSV file scored by a saved model (see scored.h). */
-#include "scored.h"
+/* suggest_pool.c -- the pool rows suggest ranks, scored by a saved model
+ * (see suggest_pool.h),
+ * through the library's one prediction path (route.h). */
+#include "suggest_pool.h"
 
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "vecsift/csv.h"
-#include "vecsift/dataset.h"
 #include "vecsift/err.h"
 #include "vecsift/model.h"
-#include "vecsift/pipeline.h"
+#include "vecsift/route.h"
 #include "vecsift/xalloc.h"
 
-int scored_load(struct scored *pl, const char *path, const struct model *m, const struct data_args *da,
+int suggest_pool_load(struct suggest_pool *pl, const char *path, const struct model *m, const struct data_args *da,
                 const char *const *reserved, size_t nreserved, struct err *e)
 {
     csv_reader *r = csv_open(path, &da->csv, e);
     if (!r)
         return -1;
     int rc = -1;
-    size_t ntext = da->ntext ? da->ntext : m->ntext, cap = 0, tcap = 0, pcap = 0;
+    size_t ntext = da->ntext ? da->ntext : m->ntext, cap = 0;
     long *tc = xcalloc(ntext, sizeof *tc);
-    char *text = NULL;
     const char **parts = NULL;
-    const char **ptr = NULL;
-    struct text_tokens tt = TEXT_TOKENS_INIT;
+    struct route_result *res = NULL;
     for (size_t t = 0; t < ntext; t++)
         if ((tc[t] = csv_require_col(r, da->ntext ? da->text_cols[t] : m->text_cols[t], e)) < 0)
             goto out;
@@ -54,40 +53,31 @@ int scored_load(struct scored *pl, const char *path, const struct model *m, cons
         err_set(e, csv_path(r), 0, "no data rows after the header");
         goto out;
     }
-    const featurizer *f = pipeline_featurizer(m->pipe);
-    features_alloc(f, pl->n, &pl->X);
     pl->P = xcalloc(xmul(pl->n, m->k), sizeof *pl->P);
     pl->empty = xcalloc(pl->n, sizeof *pl->empty);
     pl->norm = xcalloc(pl->n, sizeof *pl->norm);
-    parts = xcalloc(ntext ? ntext : 1, sizeof *parts);
-    for (size_t i = 0; i < pl->n; i++) {
+    res = xcalloc(pl->n, sizeof *res);
+    parts = xcalloc(xmul(pl->n, ntext ? ntext : 1), sizeof *parts);
+    for (size_t i = 0; i < pl->n; i++)
         for (size_t t = 0; t < ntext; t++)
-            parts[t] = pl->cells[i * pl->ncols + (size_t)tc[t]];
-        size_t len = dataset_join_text(&text, &tcap, parts, ntext);
-        text_tokens_clear(&tt);
-        if (text_tokenize(text, len, &m->text, &tt, e) < 0)
-            text_tokens_clear(&tt); /* cannot happen: the reader checked UTF-8 */
-        ptr = xgrow(ptr, &pcap, tt.n + 1, sizeof *ptr);
-        for (size_t q = 0; q < tt.n; q++)
-            ptr[q] = text_token(&tt, q);
-        struct features_stats st = { 0, 0, 0 };
-        features_transform_tokens(f, ptr, tt.n, &pl->X, i, &st);
-        pl->empty[i] = st.with_vector == 0;
-        pipeline_proba_row(m->pipe, &pl->X, i, pl->P + i * m->k);
-        pl->norm[i] = sqrt(scored_dot(&pl->X, i, i));
+            parts[i * ntext + t] = pl->cells[i * pl->ncols + (size_t)tc[t]];
+    /* The reader has checked the UTF-8: route_batch cannot fail here. */
+    struct route_params rp = ROUTE_PARAMS_INIT;
+    (void)route_batch(m, &rp, da->threads, parts, ntext, pl->n, pl->P, res, &pl->X, e);
+    for (size_t i = 0; i < pl->n; i++) {
+        pl->empty[i] = res[i].empty;
+        pl->norm[i] = sqrt(suggest_pool_dot(&pl->X, i, i));
     }
     rc = 0;
 out:
-    text_tokens_release(&tt);
-    free(ptr);
-    free(text);
+    free(res);
     free(parts);
     free(tc);
     csv_close(r);
     return rc;
 }
 
-void scored_release(struct scored *pl)
+void suggest_pool_release(struct suggest_pool *pl)
 {
     for (size_t q = 0; pl->cells && q < pl->n * pl->ncols; q++)
         free(pl->cells[q]);
@@ -101,7 +91,7 @@ void scored_release(struct scored *pl)
     fmat_release(&pl->X);
 }
 
-double scored_dot(const struct fmat *X, size_t i, size_t j)
+double suggest_pool_dot(const struct fmat *X, size_t i, size_t j)
 {
     double s = 0;
     if (!X->sparse) {

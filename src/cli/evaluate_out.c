@@ -1,5 +1,5 @@
-/* evalout.c -- evaluate's outputs (see evalout.h). */
-#include "evalout.h"
+/* evaluate_out.c -- evaluate's outputs (see evaluate_out.h). */
+#include "evaluate_out.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -11,10 +11,9 @@
 #include "vecsift/jsonv.h"
 #include "vecsift/metrics.h"
 #include "vecsift/ofile.h"
-#include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
 
-void evalout_describe(const struct fit_args *fa, char *buf, size_t n)
+void evaluate_describe(const struct fit_args *fa, char *buf, size_t n)
 {
     const struct pipeline_spec *s = &fa->spec;
     if (s->feat.pool == POOL_BOW)
@@ -24,7 +23,7 @@ void evalout_describe(const struct fit_args *fa, char *buf, size_t n)
                  features_pool_name(s->feat.pool), fa->vectors ? fa->vectors : "?");
 }
 
-void evalout_cut(const struct cv_result *r, double target, struct eval_cut *out)
+void evaluate_cut(const struct cv_result *r, double target, struct evaluate_advice *out)
 {
     size_t n = 0;
     struct metrics_cutoff *c = metrics_cutoffs(r->all, &n);
@@ -57,7 +56,7 @@ void evalout_cut(const struct cv_result *r, double target, struct eval_cut *out)
 
 /* ---- before fitting ---- */
 
-void evalout_label_table(FILE *fp, const struct corpus *c, int folds)
+void evaluate_label_table(FILE *fp, const struct corpus *c, int folds)
 {
     size_t K = c->ds.nlabels;
     size_t *cnt = xcalloc(K ? K : 1, sizeof *cnt);
@@ -76,46 +75,6 @@ void evalout_label_table(FILE *fp, const struct corpus *c, int folds)
                 "otherwise lower --folds or merge the label into a related one.\n",
             folds);
     free(cnt);
-}
-
-size_t evalout_duplicates(const struct corpus *c, size_t *conflicting)
-{
-    /* Hash each row's token-id sequence; equal hashes are compared exactly. */
-    size_t n = c->ds.n, dup = 0;
-    *conflicting = 0;
-    uint64_t *h = xcalloc(n ? n : 1, sizeof *h);
-    for (size_t i = 0; i < n; i++) {
-        size_t a = c->docs.off[i], z = c->docs.off[i + 1];
-        h[i] = vocab_hash((const char *)(c->docs.tok + a), (z - a) * sizeof *c->docs.tok) ^ (uint64_t)(z - a);
-    }
-    size_t *idx = xcalloc(n ? n : 1, sizeof *idx);
-    for (size_t i = 0; i < n; i++)
-        idx[i] = i;
-    /* sort row indices by hash (insertion into buckets would do; n is small) */
-    for (size_t i = 1; i < n; i++) {
-        size_t v = idx[i], j = i;
-        for (; j > 0 && (h[idx[j - 1]] > h[v] || (h[idx[j - 1]] == h[v] && idx[j - 1] > v)); j--)
-            idx[j] = idx[j - 1];
-        idx[j] = v;
-    }
-    for (size_t q = 1; q < n; q++) {
-        size_t i = idx[q];
-        if (c->docs.off[i + 1] == c->docs.off[i])
-            continue; /* empty texts are reported elsewhere */
-        for (size_t p = q; p-- > 0 && h[idx[p]] == h[i];) {
-            size_t j = idx[p];
-            size_t la = c->docs.off[i + 1] - c->docs.off[i], lb = c->docs.off[j + 1] - c->docs.off[j];
-            if (la == lb && memcmp(c->docs.tok + c->docs.off[i], c->docs.tok + c->docs.off[j],
-                                   la * sizeof *c->docs.tok) == 0) {
-                dup++;
-                *conflicting += c->ds.y[i] != c->ds.y[j];
-                break;
-            }
-        }
-    }
-    free(idx);
-    free(h);
-    return dup;
 }
 
 /* ---- terminal ---- */
@@ -141,11 +100,11 @@ static int worst_first(const void *a, const void *b)
     return x->k < y->k ? -1 : 1;
 }
 
-void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *c, const struct eval_setup *s)
+void evaluate_terminal(FILE *fp, const struct cv_result *r, const struct corpus *c, const struct evaluate_setup *s)
 {
     size_t K = r->k, T = r->repeats * (size_t)r->folds;
     char what[512];
-    evalout_describe(s->fa, what, sizeof what);
+    evaluate_describe(s->fa, what, sizeof what);
     fprintf(fp, "\nCross-validated %s\n%zu rows, %zu labels, %d folds x %zu repeats (seed %llu), "
                 "about %zu training rows per fit\n\n",
             what, r->n, K, r->folds, r->repeats, (unsigned long long)s->cp->seed, r->train_rows);
@@ -202,8 +161,8 @@ void evalout_terminal(FILE *fp, const struct cv_result *r, const struct corpus *
             fprintf(fp, " x the default (one per fold)\n");
         }
     }
-    struct eval_cut cut;
-    evalout_cut(r, s->target, &cut);
+    struct evaluate_advice cut;
+    evaluate_cut(r, s->target, &cut);
     if (cut.reachable)
         fprintf(fp, "\nCut-off: route automatically when confidence >= %s. Out of fold this kept %.1f%% of rows "
                     "at precision %.3f (target %.2f); the other %.1f%% go to a person.\n"
@@ -232,7 +191,7 @@ static cJSON *num(double x)
     return isfinite(x) ? jsonv_number_new(x) : cJSON_CreateNull();
 }
 
-cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const struct eval_setup *s)
+cJSON *evaluate_json(const struct cv_result *r, const struct corpus *c, const struct evaluate_setup *s)
 {
     size_t K = r->k;
     cJSON *root = cJSON_CreateObject();
@@ -285,8 +244,8 @@ cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const str
     }
 
     cJSON *th = cJSON_AddObjectToObject(root, "threshold");
-    struct eval_cut cut;
-    evalout_cut(r, s->target, &cut);
+    struct evaluate_advice cut;
+    evaluate_cut(r, s->target, &cut);
     cJSON_AddItemToObject(th, "target_precision", jsonv_number_new(s->target));
     if (cut.reachable) {
         cJSON_AddItemToObject(th, "cutoff", jsonv_number_new(cut.threshold));
@@ -357,7 +316,7 @@ cJSON *evalout_json(const struct cv_result *r, const struct corpus *c, const str
     return root;
 }
 
-int evalout_write_json(const char *path, const cJSON *obj, struct err *e)
+int evaluate_write_json(const char *path, const cJSON *obj, struct err *e)
 {
     ofile *o = ofile_open(path, e);
     if (!o)
@@ -369,7 +328,7 @@ int evalout_write_json(const char *path, const cJSON *obj, struct err *e)
     return ofile_commit(o, e);
 }
 
-int evalout_predictions(const char *path, const struct cv_result *r, const struct corpus *c, struct err *e)
+int evaluate_predictions(const char *path, const struct cv_result *r, const struct corpus *c, struct err *e)
 {
     ofile *o = ofile_open(path, e);
     if (!o)

@@ -1,5 +1,5 @@
-/* mapout.c -- shared parts of `map` and `vectors map` (see mapout.h). */
-#include "mapout.h"
+/* map_out.c -- shared parts of `map` and `vectors map` (see map_out.h). */
+#include "map_out.h"
 
 #include <stdio.h>
 #include <stdlib.h>

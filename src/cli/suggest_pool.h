@@ -1,7 +1,7 @@
-/* scored.h -- the rows of a CSV file scored by a saved model, held in
+/* suggest_pool.h -- the rows of a CSV file scored by a saved model, held in
  * memory with their features: what `suggest` ranks.  Private to src/cli. */
-#ifndef VECSIFT_CLI_SCORED_H
-#define VECSIFT_CLI_SCORED_H
+#ifndef VECSIFT_CLI_SUGGEST_POOL_H
+#define VECSIFT_CLI_SUGGEST_POOL_H
 
 #include <stddef.h>
 
@@ -11,7 +11,7 @@
 struct err;
 struct model;
 
-struct scored {
+struct suggest_pool {
     size_t n, ncols;
     char **cells;       /* (n, ncols), owned */
     char **header;      /* (ncols), owned */
@@ -21,15 +21,15 @@ struct scored {
     double *norm;       /* (n) Euclidean norms of the rows of X */
 };
 
-/* Read every row of 'path' (text columns from 'da', else the model's),
- * featurize each with the model's featurizer and score it.  The header may
+/* Read every row of 'path' (text columns from 'da', else the model's) and
+ * route each (route_batch, keeping the feature rows).  The header may
  * not hold a column named in 'reserved' (nreserved names): the output adds
  * them.  Returns 0, or -1 with 'e' set (file:line). */
-int scored_load(struct scored *pl, const char *path, const struct model *m, const struct data_args *da,
+int suggest_pool_load(struct suggest_pool *pl, const char *path, const struct model *m, const struct data_args *da,
                 const char *const *reserved, size_t nreserved, struct err *e);
-void scored_release(struct scored *pl);
+void suggest_pool_release(struct suggest_pool *pl);
 
 /* Row i of X dotted with row j (dense, or sparse with ascending columns). */
-double scored_dot(const struct fmat *X, size_t i, size_t j);
+double suggest_pool_dot(const struct fmat *X, size_t i, size_t j);
 
 #endif

@@ -1,10 +1,11 @@
-/* evalreport.c -- evaluate's HTML page, drawn with report.h and chart.h. */
+/* evaluate_report.c -- evaluate's HTML page (see evaluate_report.h). */
+#include "evaluate_report.h"
+
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "evalout.h"
 #include "vecsift/chart.h"
 #include "vecsift/err.h"
 #include "vecsift/metrics.h"
@@ -19,7 +20,7 @@ static const char *CAUTION =
     "them to make decisions about people. Tickets hold personal data: models and vector files store words "
     "from them, so handle those files under the applicable law and your organisation's policy.";
 
-int evalout_html(const char *path, const struct cv_result *r, const struct corpus *c, const struct eval_setup *s,
+int evaluate_html(const char *path, const struct cv_result *r, const struct corpus *c, const struct evaluate_setup *s,
                  struct err *e)
 {
     ofile *o = ofile_open(path, e);
@@ -28,14 +29,14 @@ int evalout_html(const char *path, const struct cv_result *r, const struct corpu
     FILE *fp = ofile_fp(o);
     size_t K = r->k, T = r->repeats * (size_t)r->folds;
     char what[512], sub[1024], buf[128];
-    evalout_describe(s->fa, what, sizeof what);
+    evaluate_describe(s->fa, what, sizeof what);
     snprintf(sub, sizeof sub, "%s: %zu rows, %zu labels, %d folds x %zu repeats, seed %llu; vecsift %s", s->data,
              r->n, K, r->folds, r->repeats, (unsigned long long)s->cp->seed, VECSIFT_VERSION);
     report_html_begin(fp, "Cross-validated evaluation", sub);
 
     /* Summary table */
-    struct eval_cut cut;
-    evalout_cut(r, s->target, &cut);
+    struct evaluate_advice cut;
+    evaluate_cut(r, s->target, &cut);
     char p1[64], p2[64], p3[64], p4[64], p5[64];
     report_fmt_mean_sd(p1, sizeof p1, r->pooled.accuracy, r->spread.accuracy.sd, 3);
     report_fmt_mean_sd(p2, sizeof p2, r->pooled.macro_f1, r->spread.macro_f1.sd, 3);
