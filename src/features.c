@@ -11,6 +11,7 @@
 #include <assert.h>
 #include <cjson/cJSON.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -35,13 +36,28 @@ struct featurizer {
     size_t D;
     double *mean, *sd;  /* (D) scaler, NULL for bow or when not scaling */
     double *u;          /* (D) sif component, unit length, or NULL */
+    /* combined (bow+...): the two blocks, and the pooled block's weight */
+    featurizer *bag, *pooled;
+    double wbow, wdense;
 };
+
+/* the combined route, in its own section below */
+static featurizer *combined_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows,
+                                size_t n, const vecset *vs, const features_cache *cache, struct fmat *X,
+                                struct features_stats *st, struct err *e);
+static void combined_doc(const featurizer *f, const char *const *toks, size_t ntok, struct fmat *X,
+                         struct features_stats *st);
+static void combined_save(const featurizer *f, cJSON *obj);
+static featurizer *combined_load(const struct jsonv_ctx *c, const cJSON *obj, enum features_pool pool,
+                                 const vecset *vs);
+
+static const char *const pool_names[FEATURES_POOLS] = { "mean", "tfidf", "sif", "bow", "bow+mean", "bow+tfidf",
+                                                        "bow+sif" };
 
 int features_pool_parse(const char *name, enum features_pool *out)
 {
-    static const char *names[] = { "mean", "tfidf", "sif", "bow" };
-    for (int i = 0; i < 4; i++)
-        if (strcmp(name, names[i]) == 0) {
+    for (int i = 0; i < FEATURES_POOLS; i++)
+        if (strcmp(name, pool_names[i]) == 0) {
             *out = (enum features_pool)i;
             return 0;
         }
@@ -50,17 +66,28 @@ int features_pool_parse(const char *name, enum features_pool *out)
 
 const char *features_pool_name(enum features_pool p)
 {
-    switch (p) {
-    case POOL_MEAN: return "mean";
-    case POOL_TFIDF: return "tfidf";
-    case POOL_SIF: return "sif";
-    case POOL_BOW: return "bow";
-    }
-    return "?";
+    return (unsigned)p < FEATURES_POOLS ? pool_names[p] : "?";
 }
 
+int features_pool_combined(enum features_pool p)
+{
+    return p == POOL_BOW_MEAN || p == POOL_BOW_TFIDF || p == POOL_BOW_SIF;
+}
+
+enum features_pool features_pool_dense(enum features_pool p)
+{
+    switch (p) {
+    case POOL_BOW_MEAN: return POOL_MEAN;
+    case POOL_BOW_TFIDF: return POOL_TFIDF;
+    case POOL_BOW_SIF: return POOL_SIF;
+    default: return p;
+    }
+}
+
+int features_pool_needs_vectors(enum features_pool p) { return p != POOL_BOW; }
+
 size_t features_dim(const featurizer *f) { return f->D; }
-int features_sparse(const featurizer *f) { return f->p.pool == POOL_BOW; }
+int features_sparse(const featurizer *f) { return f->p.pool == POOL_BOW || features_pool_combined(f->p.pool); }
 const struct features_params *features_params(const featurizer *f) { return &f->p; }
 const double *features_sif_component(const featurizer *f) { return f->u; }
 const struct vecset *features_vectors(const featurizer *f) { return f->p.pool == POOL_BOW ? NULL : f->vs; }
@@ -73,6 +100,8 @@ void features_scaler(const featurizer *f, const double **mean, const double **sd
 
 const char *features_term(const featurizer *f, size_t j)
 {
+    if (f->bag)
+        return features_term(f->bag, j);
     return f->p.pool == POOL_BOW && j < f->D ? vocab_word(f->words, (int32_t)j) : NULL;
 }
 
@@ -86,6 +115,8 @@ void features_free(featurizer *f)
     free(f->mean);
     free(f->sd);
     free(f->u);
+    features_free(f->bag);
+    features_free(f->pooled);
     free(f);
 }
 
@@ -179,12 +210,25 @@ struct term_facts {
     int32_t id;  /* its id among the training words, or -1 */
 };
 
-/* The facts of a term whose vocab_hash is 'h' ('tf' is left alone). */
-static void look_up(const featurizer *f, const char *term, uint64_t h, struct term_facts *t)
+/* The facts of a term whose vocab_hash is 'h' ('tf' is left alone).  A
+ * term the store has no row for, in a store with pieces, gets a vector
+ * composed from its pieces (vecset_compose) into 'slab' ((k, E), grown,
+ * k counted in *nslab) and row PIECE_ROW(k); slab NULL leaves it at -1. */
+#define PIECE_ROW(k) (-2 - (long)(k))
+static void look_up_pieces(const featurizer *f, const char *term, uint64_t h, struct term_facts *t, float **slab,
+                           size_t *nslab, size_t *cap)
 {
     t->row = vecset_find_hashed(f->vs, term, h);
-    t->id = t->row >= 0 ? vocab_find_hashed(f->words, term, h) : -1;
+    if (t->row < 0 && slab && vecset_pieces(f->vs)) {
+        size_t E = vecset_dim(f->vs);
+        if ((*nslab + 1) * E > *cap)
+            *slab = xgrow(*slab, cap, (*nslab + 1) * E, sizeof **slab);
+        if (vecset_compose(f->vs, term, strlen(term), *slab + *nslab * E) > 0)
+            t->row = PIECE_ROW((*nslab)++);
+    }
+    t->id = t->row != -1 ? vocab_find_hashed(f->words, term, h) : -1;
 }
+
 
 /* Per distinct term t[0..n) (in order of first appearance): its
  * coefficient in the pooled (unscaled, before SIF component removal)
@@ -201,10 +245,10 @@ static size_t word_coefs(const featurizer *f, const struct term_facts *t, size_t
         long r = t[i].row;
         if (st) {
             st->tokens += (uint64_t)tf;
-            st->with_vector += r >= 0 ? (uint64_t)tf : 0;
+            st->with_vector += r != -1 ? (uint64_t)tf : 0;
         }
-        if (r < 0)
-            continue;
+        if (r == -1)
+            continue; /* no vector, neither whole nor from pieces */
         int32_t id = t[i].id;
         double weight;
         switch (f->p.pool) {
@@ -296,12 +340,14 @@ static void sum_rows(const float *const *v, const double *c, size_t m, size_t E,
             x[d] += c[j] * (double)v[j][d];
 }
 
-static void weighted_sum(const vecset *vs, const long *row, const double *c, size_t m, size_t E, double *x)
+/* 'composed' holds the vectors of rows PIECE_ROW(k), (k, E). */
+static void weighted_sum(const vecset *vs, const long *row, const float *composed, const double *c, size_t m,
+                         size_t E, double *x)
 {
     const float *stackv[64] = { NULL }; /* zeroed: GCC cannot see that sum_rows reads only v[0..m) */
     const float **v = m <= 64 ? stackv : xcalloc(m, sizeof *v);
     for (size_t j = 0; j < m; j++)
-        v[j] = vecset_row(vs, (size_t)row[j]);
+        v[j] = row[j] >= 0 ? vecset_row(vs, (size_t)row[j]) : composed + (size_t)(-2 - row[j]) * E;
     sum_rows(v, c, m, E, x);
     if (v != stackv)
         free(v);
@@ -309,10 +355,11 @@ static void weighted_sum(const vecset *vs, const long *row, const double *c, siz
 
 /* x = sum_j c[j] v_j, then for sif the component removed: the pooled row
  * before scaling. */
-static void pool_rows(const featurizer *f, const long *row, const double *c, size_t m, double *x)
+static void pool_rows(const featurizer *f, const long *row, const float *composed, const double *c, size_t m,
+                      double *x)
 {
     size_t E = f->D;
-    weighted_sum(f->vs, row, c, m, E, x);
+    weighted_sum(f->vs, row, composed, c, m, E, x);
     if (f->u) {
         double dot = 0;
         for (size_t d = 0; d < E; d++)
@@ -325,16 +372,19 @@ static void pool_rows(const featurizer *f, const long *row, const double *c, siz
 /* The bag's distinct terms looked up, and the per-word arrays of
  * word_coefs, in one block ('c' owns it: free(c)): this runs once per row,
  * where malloc and free showed up in the profile. */
-static struct term_facts *bag_facts(const featurizer *f, const struct bag *b, double **c, long **row, size_t **keep)
+static struct term_facts *bag_facts(const featurizer *f, const struct bag *b, double **c, long **row, size_t **keep,
+                                    float **composed)
 {
     size_t nw = b->n ? b->n : 1;
     *c = xmalloc(xmul(nw, sizeof(double) + sizeof(long) + sizeof(size_t) + sizeof(struct term_facts)));
     *row = (long *)(void *)(*c + nw);
     *keep = (size_t *)(void *)(*row + nw);
     struct term_facts *t = (struct term_facts *)(void *)(*keep + nw);
+    size_t nc = 0, ccap = 0;
+    *composed = NULL;
     for (size_t i = 0; i < b->n; i++) {
         t[i].tf = b->tf[i];
-        look_up(f, b->term[i], b->hash[i], &t[i]);
+        look_up_pieces(f, b->term[i], b->hash[i], &t[i], composed, &nc, &ccap);
     }
     return t;
 }
@@ -348,9 +398,11 @@ static int pool_doc(const featurizer *f, const char *const *toks, size_t ntok, d
     double *c;
     long *row;
     size_t *keep;
-    struct term_facts *t = bag_facts(f, &b, &c, &row, &keep);
+    float *composed;
+    struct term_facts *t = bag_facts(f, &b, &c, &row, &keep, &composed);
     size_t m = word_coefs(f, t, b.n, keep, c, row, st);
-    pool_rows(f, row, c, m, x);
+    pool_rows(f, row, composed, c, m, x);
+    free(composed);
     free(c);
     bag_release(&b);
     return m > 0;
@@ -580,9 +632,19 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
     }
 
     V = vocab_size(all);
+    /* bow: terms of fewer than min_df training rows are dropped, unless
+     * that would drop every term (a handful of rows sharing no word): then
+     * all are kept, and the model records min_df 1. */
+    if (p->pool == POOL_BOW && f->p.min_df > 1) {
+        size_t kept = 0;
+        for (size_t id = 0; id < V; id++)
+            kept += df[id] >= (double)f->p.min_df;
+        if (kept == 0)
+            f->p.min_df = 1;
+    }
     f->words = vocab_new();
     for (size_t id = 0; id < V; id++) {
-        if (p->pool == POOL_BOW && df[id] < (double)p->min_df)
+        if (p->pool == POOL_BOW && df[id] < (double)f->p.min_df)
             continue;
         int32_t nid = vocab_add(f->words, vocab_word(all, (int32_t)id));
         f->idf = xreallocarray(f->idf, (size_t)nid + 1, sizeof *f->idf);
@@ -674,6 +736,8 @@ static featurizer *fit(const struct features_params *p, const struct tokdocs *d,
 featurizer *features_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows, size_t n,
                          const vecset *vs, struct err *e)
 {
+    if (features_pool_combined(p->pool))
+        return combined_fit(p, d, rows, n, vs, NULL, NULL, NULL, e);
     return fit(p, d, rows, n, vs, NULL, NULL, NULL, e);
 }
 
@@ -692,7 +756,10 @@ void features_transform_tokens(const featurizer *f, const char *const *toks, siz
 {
     if (features_sparse(f)) {
         assert(X->sparse && X->n == i);
-        bow_doc(f, toks, ntok, X, st);
+        if (f->bag)
+            combined_doc(f, toks, ntok, X, st);
+        else
+            bow_doc(f, toks, ntok, X, st);
         return;
     }
     assert(!X->sparse && i < X->n && X->d == f->D);
@@ -741,6 +808,8 @@ struct features_memo {
     long *row;
     size_t *keep;
     size_t dcap;
+    float *composed;       /* (ncomposed, E) vectors of words from their pieces */
+    size_t ncomposed, ccap;
 };
 
 /* Room for 'need' distinct words in the document arrays, keeping doc[0..n). */
@@ -777,6 +846,7 @@ void features_memo_free(features_memo *mm)
     free(mm->w);
     free(mm->text);
     free(mm->doc);
+    free(mm->composed);
     free(mm);
 }
 
@@ -785,6 +855,7 @@ static void memo_clear(features_memo *mm)
     mm->n = 0;
     mm->tlen = 0;
     mm->stamp = 0;
+    mm->ncomposed = 0;
     if (mm->slot)
         memset(mm->slot, 0, mm->nslots * sizeof *mm->slot);
 }
@@ -836,7 +907,7 @@ static struct memo_word *memo_get(features_memo *mm, const char *tok, size_t len
     w->seen = 0;
     w->at = 0;
     struct term_facts t;
-    look_up(mm->f, tok, h, &t);
+    look_up_pieces(mm->f, tok, h, &t, &mm->composed, &mm->ncomposed, &mm->ccap);
     w->row = t.row;
     w->id = t.id;
     if (len <= MEMO_INLINE) {
@@ -887,7 +958,7 @@ void features_transform_memo(const featurizer *f, features_memo *mm, const char 
     }
     double *x = X->x + i * f->D;
     size_t m = word_coefs(f, mm->doc, nd, mm->keep, mm->c, mm->row, st);
-    pool_rows(f, mm->row, mm->c, m, x);
+    pool_rows(f, mm->row, mm->composed, mm->c, m, x);
     if (m == 0 && st)
         st->empty_rows++;
     scale_row(f, x);
@@ -908,8 +979,12 @@ void features_transform(const featurizer *f, const struct tokdocs *d, const size
 
 /* ---- fitting and transforming at once ---- */
 
-features_cache *features_cache_new(const struct features_params *p, const struct tokdocs *d, const vecset *vs)
+features_cache *features_cache_new(const struct features_params *pin, const struct tokdocs *d, const vecset *vs)
 {
+    /* a combined route caches what its pooled block needs */
+    struct features_params pq = *pin;
+    pq.pool = features_pool_dense(pin->pool);
+    const struct features_params *p = &pq;
     features_cache *c = xcalloc(1, sizeof *c);
     c->n = d->n;
     if (p->pool == POOL_BOW || !vs || d->n == 0)
@@ -972,6 +1047,8 @@ featurizer *features_fit_transform(const struct features_params *p, const struct
                                    size_t n, const vecset *vs, const features_cache *cache, struct fmat *X,
                                    struct features_stats *st, struct err *e)
 {
+    if (features_pool_combined(p->pool))
+        return combined_fit(p, d, rows, n, vs, cache, X, st, e);
     if (p->pool == POOL_BOW) {
         featurizer *f = fit(p, d, rows, n, vs, NULL, NULL, NULL, e);
         if (f)
@@ -1019,8 +1096,10 @@ size_t features_word_weights(const featurizer *f, const char *const *toks, size_
     double *c;
     long *row;
     size_t *keep;
-    struct term_facts *t = bag_facts(f, &b, &c, &row, &keep);
+    float *composed;
+    struct term_facts *t = bag_facts(f, &b, &c, &row, &keep, &composed);
     size_t m = word_coefs(f, t, b.n, keep, c, row, NULL);
+    free(composed);
     /* bag terms point into 'toks' (no pairs), so they stay valid */
     for (size_t j = 0; j < m; j++) {
         words[j] = b.term[keep[j]];
@@ -1031,10 +1110,211 @@ size_t features_word_weights(const featurizer *f, const char *const *toks, size_
     return m;
 }
 
+/* ---- the combined route: a bow block beside a pooled block ---- */
+
+/* What each block of combined pooling 'p' is fitted with: the same
+ * settings, with the pooling of the block. */
+static void block_params(const struct features_params *p, struct features_params *pb, struct features_params *pd)
+{
+    *pb = *p;
+    pb->pool = POOL_BOW;
+    *pd = *p;
+    pd->pool = features_pool_dense(p->pool);
+}
+
+/* w_p = sqrt(E / mean_i ||z_i||^2) over the n standardised pooled rows
+ * Z (n x E): see features.h for why.  1 when every row is zero (no row
+ * has a vector: fit() refuses that before we get here). */
+static double block_weight(const double *Z, size_t n, size_t E)
+{
+    double s = 0;
+    for (size_t i = 0; i < n * E; i++)
+        s += Z[i] * Z[i];
+    s /= (double)n;
+    return s > 0 ? sqrt((double)E / s) : 1.0;
+}
+
+/* Append one combined row: the bow block's row i of Xb times its weight,
+ * then the pooled block's standardised row z (E) times its weight, in
+ * columns Vb .. Vb+E-1.  Every pooled column is stored, zero or not, so each row
+ * has the same E trailing entries. */
+static void push_combined(const featurizer *f, const struct fmat *Xb, size_t i, const double *z, struct fmat *X)
+{
+    size_t a = Xb->rowptr[i], nb = Xb->rowptr[i + 1] - a, E = f->pooled->D, Vb = f->bag->D;
+    uint32_t *cols = xmalloc(xmul(nb + E, sizeof *cols));
+    double *vals = xmalloc(xmul(nb + E, sizeof *vals));
+    if (nb) {
+        memcpy(cols, Xb->col + a, nb * sizeof *cols);
+        for (size_t q = 0; q < nb; q++)
+            vals[q] = f->wbow * Xb->val[a + q];
+    }
+    for (size_t q = 0; q < E; q++) {
+        cols[nb + q] = (uint32_t)(Vb + q);
+        vals[nb + q] = f->wdense * z[q];
+    }
+    fmat_push_row(X, cols, vals, nb + E);
+    free(cols);
+    free(vals);
+}
+
+/* Fit both blocks on the same rows and the block weight; with 'X', the
+ * training rows' combined features too.  Counts in 'st' are the pooled
+ * block's (tokens with a vector), as for pooling alone. */
+static featurizer *combined_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows,
+                                size_t n, const vecset *vs, const features_cache *cache, struct fmat *X,
+                                struct features_stats *st, struct err *e)
+{
+    if (!vs) {
+        err_set(e, NULL, 0, "pooling '%s' needs a vector set", features_pool_name(p->pool));
+        err_hint(e, "pass --vectors FILE.vecs, or use --pool bow");
+        return NULL;
+    }
+    struct features_params pb, pd;
+    block_params(p, &pb, &pd);
+    /* the cache holds unigram bags and pooled rows: the bow block (with
+     * its word pairs) counts its own */
+    featurizer *bag = fit(&pb, d, rows, n, NULL, NULL, NULL, NULL, e);
+    if (!bag)
+        return NULL;
+    struct fmat Z = FMAT_INIT;
+    featurizer *pooled = fit(&pd, d, rows, n, vs, cache, &Z, st, e);
+    if (!pooled) {
+        features_free(bag);
+        return NULL;
+    }
+    size_t E = pooled->D;
+    assert(bag->D + E < UINT32_MAX);
+    for (size_t i = 0; i < n; i++)
+        scale_row(pooled, Z.x + i * E);
+    featurizer *f = xcalloc(1, sizeof *f);
+    f->p = *p;
+    f->vs = vs;
+    f->n_train = n;
+    f->bag = bag;
+    f->pooled = pooled;
+    f->D = bag->D + E;
+    f->wbow = sqrt((double)E);
+    f->wdense = block_weight(Z.x, n, E);
+    if (X) {
+        struct fmat Xb = FMAT_INIT;
+        features_transform(bag, d, rows, n, &Xb, NULL);
+        fmat_sparse(X, f->D);
+        for (size_t i = 0; i < n; i++)
+            push_combined(f, &Xb, i, Z.x + i * E, X);
+        fmat_release(&Xb);
+    }
+    fmat_release(&Z);
+    return f;
+}
+
+/* One text's combined row, appended to X: the same numbers as
+ * combined_fit gives a training row. */
+static void combined_doc(const featurizer *f, const char *const *toks, size_t ntok, struct fmat *X,
+                         struct features_stats *st)
+{
+    struct fmat Xb = FMAT_INIT;
+    fmat_sparse(&Xb, f->bag->D);
+    bow_doc(f->bag, toks, ntok, &Xb, NULL);
+    size_t E = f->pooled->D;
+    double *z = xcalloc(E, sizeof *z);
+    if (!pool_doc(f->pooled, toks, ntok, z, st) && st)
+        st->empty_rows++;
+    scale_row(f->pooled, z);
+    push_combined(f, &Xb, 0, z, X);
+    free(z);
+    fmat_release(&Xb);
+}
+
+int features_blocks(const featurizer *f, const featurizer **bow, const featurizer **pooled, double w[2])
+{
+    if (!f->bag)
+        return -1;
+    *bow = f->bag;
+    *pooled = f->pooled;
+    w[0] = f->wbow;
+    w[1] = f->wdense;
+    return 0;
+}
+
+/* A combined featurizer's fields: its pooling, width and block weights,
+ * and each block's own fields in an object of its own. */
+static void combined_save(const featurizer *f, cJSON *obj)
+{
+    cJSON_AddStringToObject(obj, "pool", features_pool_name(f->p.pool));
+    cJSON_AddNumberToObject(obj, "training_rows", (double)f->n_train);
+    cJSON_AddNumberToObject(obj, "dimensions", (double)f->D);
+    cJSON_AddItemToObject(obj, "bow_weight", jsonv_number_new(f->wbow));
+    cJSON_AddItemToObject(obj, "pooled_weight", jsonv_number_new(f->wdense));
+    features_save(f->bag, cJSON_AddObjectToObject(obj, "bag_of_words"));
+    features_save(f->pooled, cJSON_AddObjectToObject(obj, "pooled"));
+}
+
+static featurizer *combined_load(const struct jsonv_ctx *c, const cJSON *obj, enum features_pool pool,
+                                 const vecset *vs)
+{
+    if (!vs) {
+        jsonv_fail(c, "pool", "'%s' needs a vector set", features_pool_name(pool));
+        return NULL;
+    }
+    size_t dims, ntrain;
+    double w, wb;
+    if (jsonv_size(c, obj, "training_rows", 1, (size_t)1 << 40, &ntrain) < 0 ||
+        jsonv_size(c, obj, "dimensions", 2, (size_t)UINT32_MAX - 1, &dims) < 0 ||
+        jsonv_num(c, obj, "bow_weight", 1e-300, 1e300, &wb) < 0 ||
+        jsonv_num(c, obj, "pooled_weight", 1e-300, 1e300, &w) < 0)
+        return NULL;
+    const cJSON *bo = jsonv_get(c, obj, "bag_of_words");
+    const cJSON *po = bo ? jsonv_get(c, obj, "pooled") : NULL;
+    if (!po)
+        return NULL;
+    char pathb[200], pathd[200];
+    snprintf(pathb, sizeof pathb, "%s%sbag_of_words", c->path, *c->path ? "." : "");
+    snprintf(pathd, sizeof pathd, "%s%spooled", c->path, *c->path ? "." : "");
+    struct jsonv_ctx cb = *c, cd = *c;
+    cb.path = pathb;
+    cd.path = pathd;
+    featurizer *bag = features_load(&cb, bo, NULL);
+    featurizer *pooled = bag ? features_load(&cd, po, vs) : NULL;
+    if (!pooled) {
+        features_free(bag);
+        return NULL;
+    }
+    int bad = 0;
+    if (bag->p.pool != POOL_BOW)
+        bad = jsonv_fail(&cb, "pool", "is '%s', not bow", features_pool_name(bag->p.pool));
+    else if (pooled->p.pool != features_pool_dense(pool))
+        bad = jsonv_fail(&cd, "pool", "is '%s', but the route is '%s'", features_pool_name(pooled->p.pool),
+                         features_pool_name(pool));
+    else if (dims != bag->D + pooled->D)
+        bad = jsonv_fail(c, "dimensions", "is %zu but the blocks have %zu and %zu", dims, bag->D, pooled->D);
+    if (bad) {
+        features_free(bag);
+        features_free(pooled);
+        return NULL;
+    }
+    featurizer *f = xcalloc(1, sizeof *f);
+    f->p = pooled->p;
+    f->p.pool = pool;
+    f->p.bigrams = bag->p.bigrams;
+    f->p.min_df = bag->p.min_df;
+    f->vs = vs;
+    f->n_train = ntrain;
+    f->bag = bag;
+    f->pooled = pooled;
+    f->D = dims;
+    f->wbow = wb;
+    f->wdense = w;
+    return f;
+}
+
 /* ---- persistence ---- */
 
 void features_save(const featurizer *f, cJSON *obj)
 {
+    if (f->bag) {
+        combined_save(f, obj);
+        return;
+    }
     cJSON_AddStringToObject(obj, "pool", features_pool_name(f->p.pool));
     cJSON_AddBoolToObject(obj, "sublinear_tf", f->p.sublinear_tf);
     cJSON_AddItemToObject(obj, "sif_a", jsonv_number_new(f->p.sif_a));
@@ -1079,8 +1359,13 @@ featurizer *features_load(const struct jsonv_ctx *c, const cJSON *obj, const vec
     if (!pool)
         goto fail;
     if (features_pool_parse(pool, &f->p.pool) < 0) {
-        jsonv_fail(c, "pool", "is '%s', not one of mean, tfidf, sif, bow", pool);
+        jsonv_fail(c, "pool", "is '%s', not one of " FEATURES_POOL_NAMES, pool);
         goto fail;
+    }
+    if (features_pool_combined(f->p.pool)) {
+        enum features_pool pp = f->p.pool;
+        features_free(f);
+        return combined_load(c, obj, pp, vs);
     }
     size_t dims, min_df, ntrain;
     if (get_bool(c, obj, "sublinear_tf", &f->p.sublinear_tf) < 0 || get_bool(c, obj, "bigrams", &f->p.bigrams) < 0 ||

@@ -3,7 +3,7 @@
  * The model is the multinomial logit (softmax) regression; see e.g.
  * C. M. Bishop, "Pattern Recognition and Machine Learning" (Springer,
  * 2006), section 4.3.4, for the gradient used here:
- *     dJ/dw_k = w_k + C sum_i s_i (p_ik - [y_i = k]) x_i,
+ *     dJ/dw_k = w_k + C sum_i s_i (p_ik - [y_i = k]) x_i   (2 w_k when K = 2),
  *     dJ/db_k =       C sum_i s_i (p_ik - [y_i = k]).
  * The objective is written out in linear.h.  Minimisation is L-BFGS
  * (lbfgs.c).  One pass over the rows computes the value and the gradient
@@ -210,11 +210,20 @@ struct problem {
     const double *s;   /* (N) row weights */
     size_t k, d;
     double C;
+    double pen;        /* J's penalty is pen * ||W||^2: 0.5, or 1 when K = 2 (linear.h) */
     double scale;      /* L-BFGS sees J * scale */
     double *mx, *zy;   /* (N) scratch: each row's largest score, its label's score */
     double *R;         /* (N, K) scratch: s_i (p_ik - [y_i = k]) */
     double *XP;        /* dense X with K <= KMAX: its packed copy, else NULL */
 };
+
+/* The factor of ||W||^2 in J (linear.h): 0.5, and 1 for K = 2, where the
+ * two rows' optimum is w_1 = -w_0, so ||W||^2 = 0.5 |w_1 - w_0|^2 and J is
+ * the binary (sigmoid) objective 0.5 |delta|^2 + C sum loss. */
+static double penalty_factor(size_t k)
+{
+    return k == 2 ? 1.0 : 0.5;
+}
 
 /* P's scratch (mx, zy, R, and XP for a dense X with K <= KMAX), from its
  * X and k; problem_release frees it. */
@@ -282,14 +291,14 @@ static double objective(struct problem *P, const double *theta, double *grad)
         dense_gemm_tn(P->XP, X->x, X->n, d, P->R, k, gW);
     else
         fmat_gemm_tn(X, P->R, k, gW);
-    double ww = 0;
+    double ww = 0, pen2 = 2 * P->pen; /* 1 for K > 2: the same bits as W[j] */
     for (size_t j = 0; j < kd; j++) {
         ww += W[j] * W[j];
-        gW[j] = W[j] + P->C * gW[j];
+        gW[j] = pen2 * W[j] + P->C * gW[j];
     }
     for (size_t c = 0; c < k; c++)
         gb[c] *= P->C;
-    return 0.5 * ww + P->C * loss;
+    return P->pen * ww + P->C * loss;
 }
 
 static double objective_scaled(void *ctx, const double *theta, double *grad)
@@ -372,7 +381,7 @@ int linear_fit(struct linear_model *m, const struct fmat *X, const int *y, size_
     for (size_t i = 0; i < X->n; i++)
         ssum += s[i];
     null_intercepts(y, s, X->n, k, ssum, theta + k * d);
-    struct problem P = { X, y, s, k, d, p->C, 1.0 / (p->C * ssum), NULL, NULL, NULL, NULL };
+    struct problem P = { X, y, s, k, d, p->C, penalty_factor(k), 1.0 / (p->C * ssum), NULL, NULL, NULL, NULL };
     problem_scratch(&P);
 
     /* ftol: stop once the relative decrease is a few dozen ulps, where the
@@ -423,7 +432,7 @@ double linear_gradient(const struct linear_model *m, const struct fmat *X, const
     memcpy(theta, m->W, k * d * sizeof *theta);
     memcpy(theta + k * d, m->b, k * sizeof *theta);
     double *s = row_weights(y, X->n, k, p->balanced);
-    struct problem P = { X, y, s, k, d, p->C, 1, NULL, NULL, NULL, NULL };
+    struct problem P = { X, y, s, k, d, p->C, penalty_factor(k), 1, NULL, NULL, NULL, NULL };
     problem_scratch(&P);
     double f = objective(&P, theta, grad);
     problem_release(&P);

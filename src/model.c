@@ -49,6 +49,7 @@ void model_release(struct model *m)
     free(m->data_path);
     free(m->label_rows);
     cJSON_Delete(m->evaluation);
+    cJSON_Delete(m->choice);
     memset(m, 0, sizeof *m);
 }
 
@@ -119,6 +120,8 @@ int model_save(const struct model *m, const char *path, struct err *e)
         cJSON_AddItemToObject(root, "evaluation", cJSON_Duplicate(m->evaluation, 1));
     else
         cJSON_AddNullToObject(root, "evaluation");
+    if (m->choice)
+        cJSON_AddItemToObject(root, "choice", cJSON_Duplicate(m->choice, 1));
 
     pipeline_save(m->pipe, cJSON_AddObjectToObject(root, "pipeline"));
 
@@ -255,6 +258,14 @@ int model_load(struct model *m, const char *path, const char *vectors, vecset **
     const cJSON *ev = cJSON_GetObjectItemCaseSensitive(root, "evaluation");
     if (ev && cJSON_IsObject(ev))
         m->evaluation = cJSON_Duplicate(ev, 1);
+    /* optional: only `train --choose` writes it; shown, never acted on */
+    const cJSON *ch = cJSON_GetObjectItemCaseSensitive(root, "choice");
+    if (ch && !cJSON_IsObject(ch)) {
+        jsonv_fail(&c, "choice", "is not an object");
+        goto fail;
+    }
+    if (ch)
+        m->choice = cJSON_Duplicate(ch, 1);
 
     const cJSON *pl = jsonv_get(&c, root, "pipeline");
     if (!pl)

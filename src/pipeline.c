@@ -192,6 +192,18 @@ static int by_push(const void *a, const void *b)
     return strcmp(x->w, y->w);
 }
 
+/* Sort pu[0..m) by push, largest first, and copy out the first 'top'. */
+static size_t top_pushes(struct push *pu, size_t m, size_t top, const char **words, double *push)
+{
+    qsort(pu, m, sizeof *pu, by_push);
+    size_t out = m < top ? m : top;
+    for (size_t j = 0; j < out; j++) {
+        words[j] = pu[j].w;
+        push[j] = pu[j].v;
+    }
+    return out;
+}
+
 /* bow: z_j = b_j + sum_t W[j][t] x_t over the row's non-zero terms, so the
  * same split holds per term. */
 static size_t explain_bow(const pipeline *p, const char *const *toks, size_t ntok, const double *prob, int label,
@@ -211,13 +223,110 @@ static size_t explain_bow(const pipeline *p, const char *const *toks, size_t nto
         pu[q].w = features_term(p->f, t);
         pu[q].v = p->lin.W[(size_t)label * D + t] * X.val[q] - mix;
     }
-    qsort(pu, nnz, sizeof *pu, by_push);
-    size_t out = nnz < top ? nnz : top;
-    for (size_t q = 0; q < out; q++) {
-        words[q] = pu[q].w;
-        push[q] = pu[q].v;
-    }
+    size_t out = top_pushes(pu, nnz, top, words, push);
     free(pu);
+    fmat_release(&X);
+    return out;
+}
+
+/* One pooled word's share of every label's score: a_w(j) = wt * c_w *
+ * sum_q W[j][off+q] v_q / sd_q, v the word's vector (the SIF component
+ * removal is linear: applied per word), c_w its pooling coefficient; the
+ * scaler's mean goes into the constant.  Pooling alone: fd is the
+ * pipeline's featurizer, off 0, wt 1; combined: fd the pooled block, off
+ * the bow block's width, wt the block weight.  Writes a (K); v is scratch
+ * (E). */
+static void pooled_word_scores(const pipeline *p, const featurizer *fd, size_t off, double wt, const char *word,
+                               double cw, double *v, double *a)
+{
+    size_t K = p->k, D = features_dim(p->f), E = features_dim(fd);
+    const vecset *vs = features_vectors(fd);
+    const double *mean, *sd, *u = features_sif_component(fd);
+    features_scaler(fd, &mean, &sd);
+    long r = vecset_find(vs, word);
+    float *composed = NULL;
+    const float *row;
+    if (r >= 0) {
+        row = vecset_row(vs, (size_t)r);
+    } else {
+        /* a word pooled with the vector composed from its pieces
+         * (features_word_weights keeps only words with a vector) */
+        composed = xcalloc(E, sizeof *composed);
+        if (vecset_compose(vs, word, strlen(word), composed) == 0)
+            memset(composed, 0, E * sizeof *composed); /* cannot happen: kept words have one */
+        row = composed;
+    }
+    for (size_t q = 0; q < E; q++)
+        v[q] = row[q];
+    free(composed);
+    if (u) {
+        double dot = 0;
+        for (size_t q = 0; q < E; q++)
+            dot += u[q] * v[q];
+        for (size_t q = 0; q < E; q++)
+            v[q] -= dot * u[q];
+    }
+    for (size_t kk = 0; kk < K; kk++) {
+        double s = 0;
+        for (size_t q = 0; q < E; q++)
+            s += p->lin.W[kk * D + off + q] * v[q] / (sd ? sd[q] : 1.0);
+        a[kk] = wt * cw * s;
+    }
+}
+
+/* combined: z_j = b_j + sum_t W[j][t] w_b x_t (bow block) + the pooled
+ * block's terms, linear in the words as for pooling alone (its scaler's
+ * mean goes into the constant).  A word's share is its bow term's plus its
+ * pooled share; word pairs count on their own. */
+static size_t explain_combined(const pipeline *p, const char *const *toks, size_t ntok, const double *prob,
+                               int label, size_t top, const char **words, double *push)
+{
+    const featurizer *fb, *fd;
+    double wt[2];
+    features_blocks(p->f, &fb, &fd, wt);
+    size_t K = p->k, D = features_dim(p->f), Vb = features_dim(fb), E = features_dim(fd);
+    struct fmat X = FMAT_INIT;
+    features_alloc(fb, 1, &X);
+    features_transform_tokens(fb, toks, ntok, &X, 0, NULL);
+    size_t nnz = X.rowptr[1];
+    const char **dw = xcalloc(ntok, sizeof *dw);
+    double *c = xcalloc(ntok, sizeof *c);
+    size_t m = features_word_weights(fd, toks, ntok, dw, c);
+    size_t cap = nnz + m ? nnz + m : 1;
+    const char **name = xcalloc(cap, sizeof *name);
+    double *A = xcalloc(xmul(cap, K), sizeof *A), *v = xcalloc(E, sizeof *v), *a = xcalloc(K, sizeof *a);
+    size_t ni = 0;
+    for (size_t q = 0; q < nnz; q++, ni++) {
+        name[ni] = features_term(fb, X.col[q]);
+        for (size_t kk = 0; kk < K; kk++)
+            A[ni * K + kk] = p->lin.W[kk * D + X.col[q]] * (wt[0] * X.val[q]);
+    }
+    for (size_t j = 0; j < m; j++) {
+        pooled_word_scores(p, fd, Vb, wt[1], dw[j], c[j], v, a);
+        size_t at = 0;
+        while (at < nnz && strcmp(name[at], dw[j]) != 0)
+            at++;
+        if (at == nnz)
+            name[at = ni++] = dw[j];
+        for (size_t kk = 0; kk < K; kk++)
+            A[at * K + kk] += a[kk];
+    }
+    struct push *pu = xcalloc(ni ? ni : 1, sizeof *pu);
+    for (size_t i = 0; i < ni; i++) {
+        double mix = 0;
+        for (size_t kk = 0; kk < K; kk++)
+            mix += prob[kk] * A[i * K + kk];
+        pu[i].w = name[i];
+        pu[i].v = A[i * K + (size_t)label] - mix;
+    }
+    size_t out = top_pushes(pu, ni, top, words, push);
+    free(pu);
+    free(name);
+    free(A);
+    free(v);
+    free(a);
+    free(dw);
+    free(c);
     fmat_release(&X);
     return out;
 }
@@ -227,47 +336,25 @@ size_t pipeline_explain(const pipeline *p, const char *const *toks, size_t ntok,
 {
     if (p->s.clf != CLF_LOGREG || ntok == 0)
         return 0;
+    if (features_pool_combined(p->s.feat.pool))
+        return explain_combined(p, toks, ntok, prob, label, top, words, push);
     if (features_sparse(p->f))
         return explain_bow(p, toks, ntok, prob, label, top, words, push);
     size_t K = p->k, E = features_dim(p->f);
-    const vecset *vs = features_vectors(p->f);
-    const double *mean, *sd, *u = features_sif_component(p->f);
-    features_scaler(p->f, &mean, &sd);
     const char **w = xcalloc(ntok, sizeof *w);
     double *c = xcalloc(ntok, sizeof *c);
     size_t m = features_word_weights(p->f, toks, ntok, w, c);
     struct push *pu = xcalloc(m ? m : 1, sizeof *pu);
     double *v = xcalloc(E, sizeof *v), *a = xcalloc(K, sizeof *a);
     for (size_t j = 0; j < m; j++) {
-        const float *row = vecset_row(vs, (size_t)vecset_find(vs, w[j]));
-        for (size_t q = 0; q < E; q++)
-            v[q] = row[q];
-        if (u) { /* the SIF component removal is linear: apply it per word */
-            double dot = 0;
-            for (size_t q = 0; q < E; q++)
-                dot += u[q] * v[q];
-            for (size_t q = 0; q < E; q++)
-                v[q] -= dot * u[q];
-        }
-        /* a_w(j) = c_w * sum_q W[j][q] * v[q] / sd[q]; the scaler's mean
-         * goes into the constant. */
+        pooled_word_scores(p, p->f, 0, 1.0, w[j], c[j], v, a);
         double mix = 0;
-        for (size_t kk = 0; kk < K; kk++) {
-            double s = 0;
-            for (size_t q = 0; q < E; q++)
-                s += p->lin.W[kk * E + q] * v[q] / (sd ? sd[q] : 1.0);
-            a[kk] = c[j] * s;
+        for (size_t kk = 0; kk < K; kk++)
             mix += prob[kk] * a[kk];
-        }
         pu[j].w = w[j];
         pu[j].v = a[label] - mix;
     }
-    qsort(pu, m, sizeof *pu, by_push);
-    size_t out = m < top ? m : top;
-    for (size_t j = 0; j < out; j++) {
-        words[j] = pu[j].w;
-        push[j] = pu[j].v;
-    }
+    size_t out = top_pushes(pu, m, top, words, push);
     free(pu);
     free(v);
     free(a);

@@ -11,6 +11,7 @@
  */
 #include "vecsift/vecset.h"
 
+#include <assert.h>
 #include <errno.h>
 #include <fcntl.h>
 #include <math.h>
@@ -24,6 +25,7 @@
 
 #include "vecsift/err.h"
 #include "vecsift/ofile.h"
+#include "vecsift/pieces.h"
 #include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
 
@@ -38,7 +40,9 @@ enum {
     VERSION_MAJOR = 1,  /* readers refuse a higher major version */
     VERSION_MINOR = 0,  /* a higher minor only adds header fields after byte 128 */
     HEADER_SIZE = 128,
-    ROW_ALIGN = 64
+    ROW_ALIGN = 64,
+    PIECES_MINOR = 1,   /* 1.1: the pieces fields after byte 128 */
+    PIECES_HEADER_SIZE = 192
 };
 #define MAX_DIM 1000000u
 #define MAX_COUNT 0xfffffffeu /* index entries are u32 row+1 */
@@ -56,6 +60,19 @@ struct header {
     uint64_t index_off, index_size;     /* power-of-two u32 slots, row+1 or 0 */
 };
 _Static_assert(sizeof(struct header) == HEADER_SIZE, "header layout");
+
+/* Format 1.1: the header's bytes 128..192 when the store keeps pieces
+ * (character n-gram rows, pieces.h).  Written only then: a store without
+ * pieces stays 1.0, byte for byte as before. */
+struct pieces_header {
+    uint32_t min_len, max_len;          /* piece lengths in characters */
+    uint64_t buckets;                   /* K: pieces hash into [0, K) */
+    uint64_t count;                     /* P: bucket rows kept, at most K */
+    uint64_t prows_off, prows_size;     /* P*dim float32, 64-aligned */
+    uint64_t pids_off, pids_size;       /* P uint32 bucket ids, ascending */
+    uint64_t reserved;                  /* 0 */
+};
+_Static_assert(sizeof(struct pieces_header) == PIECES_HEADER_SIZE - HEADER_SIZE, "pieces header layout");
 
 /* ---- fingerprint ---- */
 
@@ -98,6 +115,20 @@ static uint64_t fp_row(uint64_t h, const char *tok, size_t len, const float *row
     return h;
 }
 
+/* The pieces after the rows: lengths and K as 32-bit words (K low, then
+ * high), then each bucket id followed by its row's floats, as fp_row does
+ * after a token. */
+static uint64_t fp_pieces_start(uint64_t h, uint32_t min_len, uint32_t max_len, uint64_t buckets)
+{
+    h = fp_word(fp_word(h, min_len), max_len);
+    return fp_word(fp_word(h, (uint32_t)buckets), (uint32_t)(buckets >> 32));
+}
+
+static uint64_t fp_piece(uint64_t h, uint32_t id, const float *row, size_t dim)
+{
+    return fp_row(fp_word(h, id), "", 0, row, dim);
+}
+
 void vecset_fingerprint_hex(uint64_t fp, char out[17])
 {
     snprintf(out, 17, "%016llx", (unsigned long long)fp);
@@ -131,6 +162,8 @@ struct vecset_writer {
     size_t slen, scap;
     uint64_t *slots;        /* (nslots) row+1 or 0 in the low half, the hash's high half */
     size_t nslots;          /* above it, so most probes need no other memory */
+    const struct vecset_pieces *pieces; /* borrowed, written at commit; NULL for none */
+    size_t hsize;           /* header bytes before the rows */
 };
 
 #define HASH_HIGH 0xffffffff00000000ULL
@@ -143,7 +176,9 @@ static void index_put(uint64_t *slots, size_t nslots, uint64_t h, uint32_t row)
     slots[i] = (h & HASH_HIGH) | ((uint64_t)row + 1);
 }
 
-vecset_writer *vecset_writer_new(const char *out, size_t dim, struct err *e)
+/* A writer whose rows start after a header of 'hsize' bytes (a multiple
+ * of 64): HEADER_SIZE, or PIECES_HEADER_SIZE for a store with pieces. */
+static vecset_writer *writer_new(const char *out, size_t dim, size_t hsize, struct err *e)
 {
     if (strcmp(out, "-") == 0) {
         err_set(e, NULL, 0, "a packed store cannot be written to standard output");
@@ -167,10 +202,16 @@ vecset_writer *vecset_writer_new(const char *out, size_t dim, struct err *e)
     w->nslots = 16;
     w->slots = xcalloc(w->nslots, sizeof *w->slots);
     w->stroff = xcalloc(1, sizeof *w->stroff);
-    /* the header is rewritten at commit; rows start at HEADER_SIZE (64-aligned) */
-    char zero[HEADER_SIZE] = { 0 };
-    fwrite(zero, 1, sizeof zero, w->fp);
+    /* the header is rewritten at commit; rows start right after it (64-aligned) */
+    char zero[PIECES_HEADER_SIZE] = { 0 };
+    fwrite(zero, 1, hsize, w->fp);
+    w->hsize = hsize;
     return w;
+}
+
+vecset_writer *vecset_writer_new(const char *out, size_t dim, struct err *e)
+{
+    return writer_new(out, dim, HEADER_SIZE, e);
 }
 
 size_t vecset_writer_count(const vecset_writer *w)
@@ -252,12 +293,12 @@ int vecset_writer_commit(vecset_writer *w, struct err *e)
     memset(&h, 0, sizeof h);
     memcpy(h.magic, MAGIC, sizeof MAGIC);
     h.major = VERSION_MAJOR;
-    h.minor = VERSION_MINOR;
-    h.header_size = HEADER_SIZE;
+    h.minor = w->pieces ? PIECES_MINOR : VERSION_MINOR;
+    h.header_size = (uint32_t)w->hsize;
     h.count = w->n;
     h.dim = w->dim;
     h.fingerprint = w->fp_hash;
-    uint64_t pos = HEADER_SIZE;
+    uint64_t pos = h.header_size;
     h.rows_off = pos;
     h.rows_size = (uint64_t)w->n * w->dim * sizeof(float);
     pos += h.rows_size;
@@ -286,8 +327,31 @@ int vecset_writer_commit(vecset_writer *w, struct err *e)
     }
     fwrite(packed, sizeof(uint32_t), w->nslots, w->fp);
     pos += h.index_size;
+    struct pieces_header ph;
+    memset(&ph, 0, sizeof ph);
+    if (w->pieces) {
+        const struct vecset_pieces *pc = w->pieces;
+        ph.min_len = pc->p.min_len;
+        ph.max_len = pc->p.max_len;
+        ph.buckets = pc->p.buckets;
+        ph.count = pc->count;
+        pad_to(w->fp, &pos, ROW_ALIGN);
+        ph.prows_off = pos;
+        ph.prows_size = (uint64_t)pc->count * w->dim * sizeof(float);
+        fwrite(pc->rows, sizeof(float), pc->count * w->dim, w->fp);
+        pos += ph.prows_size;
+        ph.pids_off = pos;
+        ph.pids_size = (uint64_t)pc->count * sizeof(uint32_t);
+        fwrite(pc->bucket, sizeof(uint32_t), pc->count, w->fp);
+        pos += ph.pids_size;
+        uint64_t fp = fp_pieces_start(w->fp_hash, ph.min_len, ph.max_len, ph.buckets);
+        for (size_t i = 0; i < pc->count; i++)
+            fp = fp_piece(fp, pc->bucket[i], pc->rows + i * w->dim, w->dim);
+        h.fingerprint = fp;
+    }
     int rc = 0;
-    if (fseek(w->fp, 0, SEEK_SET) != 0 || fwrite(&h, sizeof h, 1, w->fp) != 1) {
+    if (fseek(w->fp, 0, SEEK_SET) != 0 || fwrite(&h, sizeof h, 1, w->fp) != 1 ||
+        (w->pieces && fwrite(&ph, sizeof ph, 1, w->fp) != 1)) {
         rc = err_io(e, ofile_path(w->of), 0, "write failed: %s", strerror(errno ? errno : EIO));
         ofile_abort(w->of);
     } else {
@@ -315,9 +379,25 @@ void vecset_writer_abort(vecset_writer *w)
 int vecset_write(const char *out, const char *const *words, const float *rows, size_t n, size_t dim,
                  struct err *e)
 {
-    vecset_writer *w = vecset_writer_new(out, dim, e);
+    return vecset_write_pieces(out, words, rows, n, dim, NULL, e);
+}
+
+int vecset_write_pieces(const char *out, const char *const *words, const float *rows, size_t n, size_t dim,
+                        const struct vecset_pieces *pieces, struct err *e)
+{
+    if (pieces) {
+        const struct pieces_params *pp = &pieces->p;
+        /* what a reader accepts (check_pieces), asserted: the caller's values */
+        assert(pp->min_len >= 1 && pp->min_len <= pp->max_len && pp->max_len <= PIECES_LONGEST);
+        assert(pp->buckets >= 1 && pieces->count <= pp->buckets);
+        for (size_t i = 0; i + 1 < pieces->count; i++)
+            assert(pieces->bucket[i] < pieces->bucket[i + 1]);
+        assert(pieces->count == 0 || pieces->bucket[pieces->count - 1] < pp->buckets);
+    }
+    vecset_writer *w = writer_new(out, dim, pieces ? PIECES_HEADER_SIZE : HEADER_SIZE, e);
     if (!w)
         return -1;
+    w->pieces = pieces;
     for (size_t i = 0; i < n; i++)
         if (!vecset_writer_add(w, words[i], strlen(words[i]), rows + i * dim)) {
             vecset_writer_abort(w);
@@ -339,6 +419,12 @@ struct vecset {
     const char *strings;    /* strings_size bytes, the last one NUL */
     const uint32_t *slots;  /* (nslots) */
     size_t nslots;
+    /* pieces (format 1.1), or ph.count == 0 and no_pieces set */
+    struct pieces_header ph;
+    int has_pieces;
+    struct pieces_params pp;
+    const float *prows;     /* (P, dim) */
+    const uint32_t *pids;   /* (P) ascending bucket ids */
 };
 
 /* Does [off, off+size) lie inside the file, after the header? */
@@ -350,6 +436,27 @@ static int within(uint64_t off, uint64_t size, uint64_t hsize, uint64_t len)
 static int overlap(uint64_t a, uint64_t as, uint64_t b, uint64_t bs)
 {
     return as && bs && a < b + bs && b < a + as;
+}
+
+/* One section of the header: its size is what the counts imply, it lies
+ * inside the file after the header, and it is aligned.  'hint' names what
+ * to do about a cut file. */
+static int check_section(const char *name, uint64_t off, uint64_t size, uint64_t want, uint64_t align,
+                         uint64_t hsize, uint64_t len, const char *path, const char *hint, struct err *e)
+{
+    if (size != want)
+        return err_set(e, path, 0, "damaged packed store: %s section has %llu bytes, expected %llu", name,
+                       (unsigned long long)size, (unsigned long long)want);
+    if (!within(off, size, hsize, len)) {
+        err_set(e, path, 0, "truncated or damaged packed store: %s section (%llu bytes at %llu) "
+                "runs past the end of the file (%llu bytes)", name, (unsigned long long)size,
+                (unsigned long long)off, (unsigned long long)len);
+        return err_hint(e, "%s", hint);
+    }
+    if (off % align)
+        return err_set(e, path, 0, "damaged packed store: %s section is not %llu-byte aligned", name,
+                       (unsigned long long)align);
+    return 0;
 }
 
 static int check_header(const struct header *h, uint64_t len, const char *path, struct err *e)
@@ -376,18 +483,9 @@ static int check_header(const struct header *h, uint64_t len, const char *path, 
         { "index", h->index_off, h->index_size, h->index_size, 4 },
     };
     for (int i = 0; i < 5; i++) {
-        if (sec[i].size != sec[i].want)
-            return err_set(e, path, 0, "damaged packed store: %s section has %llu bytes, expected %llu",
-                           sec[i].name, (unsigned long long)sec[i].size, (unsigned long long)sec[i].want);
-        if (!within(sec[i].off, sec[i].size, h->header_size, len)) {
-            err_set(e, path, 0, "truncated or damaged packed store: %s section (%llu bytes at %llu) "
-                    "runs past the end of the file (%llu bytes)", sec[i].name,
-                    (unsigned long long)sec[i].size, (unsigned long long)sec[i].off, (unsigned long long)len);
-            return err_hint(e, "the file may have been cut short while copying; pack it again");
-        }
-        if (sec[i].off % sec[i].align)
-            return err_set(e, path, 0, "damaged packed store: %s section is not %llu-byte aligned",
-                           sec[i].name, (unsigned long long)sec[i].align);
+        if (check_section(sec[i].name, sec[i].off, sec[i].size, sec[i].want, sec[i].align, h->header_size, len,
+                          path, "the file may have been cut short while copying; pack it again", e) < 0)
+            return -1;
         for (int j = 0; j < i; j++)
             if (overlap(sec[i].off, sec[i].size, sec[j].off, sec[j].size))
                 return err_set(e, path, 0, "damaged packed store: %s and %s sections overlap", sec[j].name,
@@ -399,6 +497,44 @@ static int check_header(const struct header *h, uint64_t len, const char *path, 
                        (unsigned long long)slots, (unsigned long long)h->count);
     if (h->count && h->strings_size == 0)
         return err_set(e, path, 0, "damaged packed store: empty string table");
+    return 0;
+}
+
+/* The pieces fields of a 1.1 header, checked as check_header checks the
+ * others: sizes from the counts, inside the file, aligned, clear of every
+ * other section.  O(1): the ids' order is checked by vecset_verify, and a
+ * lookup in a disordered list only finds nothing. */
+static int check_pieces(const struct header *h, const struct pieces_header *p, uint64_t len, const char *path,
+                        struct err *e)
+{
+    if (p->min_len < 1 || p->min_len > p->max_len || p->max_len > PIECES_LONGEST)
+        return err_set(e, path, 0, "damaged packed store: piece lengths %u to %u (1 to %d expected)", p->min_len,
+                       p->max_len, PIECES_LONGEST);
+    if (p->buckets < 1 || p->buckets > UINT32_MAX || p->count > p->buckets)
+        return err_set(e, path, 0, "damaged packed store: %llu piece rows in %llu buckets",
+                       (unsigned long long)p->count, (unsigned long long)p->buckets);
+    /* count <= 2^32 and dim <= 2^20: no overflow */
+    const struct {
+        const char *name;
+        uint64_t off, size, want, align;
+    } sec[2] = {
+        { "piece rows", p->prows_off, p->prows_size, p->count * h->dim * 4, ROW_ALIGN },
+        { "piece ids", p->pids_off, p->pids_size, p->count * 4, 4 },
+    };
+    const uint64_t other[5][2] = {
+        { h->rows_off, h->rows_size }, { h->norms_off, h->norms_size }, { h->stroff_off, h->stroff_size },
+        { h->strings_off, h->strings_size }, { h->index_off, h->index_size },
+    };
+    for (int i = 0; i < 2; i++) {
+        if (check_section(sec[i].name, sec[i].off, sec[i].size, sec[i].want, sec[i].align, h->header_size, len,
+                          path, "the file may have been cut short while copying; learn it again", e) < 0)
+            return -1;
+        for (int j = 0; j < 5; j++)
+            if (overlap(sec[i].off, sec[i].size, other[j][0], other[j][1]))
+                return err_set(e, path, 0, "damaged packed store: %s section overlaps another", sec[i].name);
+    }
+    if (overlap(sec[0].off, sec[0].size, sec[1].off, sec[1].size))
+        return err_set(e, path, 0, "damaged packed store: piece rows and piece ids sections overlap");
     return 0;
 }
 
@@ -433,6 +569,15 @@ vecset *vecset_open(const char *path, struct err *e)
     }
     if (check_header(&h, len, path, e) < 0)
         goto fail;
+    struct pieces_header ph;
+    memset(&ph, 0, sizeof ph);
+    int has_pieces = h.major == 1 && h.minor >= PIECES_MINOR && h.header_size >= PIECES_HEADER_SIZE;
+    if (has_pieces && (pread(fd, &ph, sizeof ph, HEADER_SIZE) != (ssize_t)sizeof ph ||
+                       check_pieces(&h, &ph, len, path, e) < 0)) {
+        if (e->code == ERR_OK)
+            err_set(e, path, 0, "truncated packed store: cannot read the pieces header");
+        goto fail;
+    }
     v = xcalloc(1, sizeof *v);
     v->path = xstrdup(path);
     v->h = h;
@@ -450,6 +595,13 @@ vecset *vecset_open(const char *path, struct err *e)
     v->strings = base + h.strings_off;
     v->slots = (const uint32_t *)(const void *)(base + h.index_off);
     v->nslots = (size_t)(h.index_size / 4);
+    if (has_pieces) {
+        v->ph = ph;
+        v->has_pieces = 1;
+        v->pp = (struct pieces_params){ ph.min_len, ph.max_len, (uint32_t)ph.buckets };
+        v->prows = (const float *)(const void *)(base + ph.prows_off);
+        v->pids = (const uint32_t *)(const void *)(base + ph.pids_off);
+    }
     /* One byte read, not a scan: every string offset below strings_size then
      * names a NUL-terminated string inside the section. */
     if (h.count && v->strings[h.strings_size - 1] != '\0') {
@@ -572,6 +724,14 @@ int vecset_verify(const vecset *v, struct err *e)
         if (vecset_check_row(v, i, e) < 0)
             return -1;
     }
+    if (v->has_pieces) {
+        h = fp_pieces_start(h, v->ph.min_len, v->ph.max_len, v->ph.buckets);
+        for (size_t i = 0; i < v->ph.count; i++) {
+            if (v->pids[i] >= v->ph.buckets || (i > 0 && v->pids[i] <= v->pids[i - 1]))
+                return err_set(e, v->path, 0, "damaged packed store: piece id %zu is out of order", i);
+            h = fp_piece(h, v->pids[i], v->prows + i * v->h.dim, (size_t)v->h.dim);
+        }
+    }
     if (h != v->h.fingerprint) {
         char want[17], got[17];
         vecset_fingerprint_hex(v->h.fingerprint, want);
@@ -579,6 +739,107 @@ int vecset_verify(const vecset *v, struct err *e)
         return err_set(e, v->path, 0, "content fingerprint %s does not match the header's %s", got, want);
     }
     return 0;
+}
+
+/* ---- pieces ---- */
+
+static void write_numbers(FILE *fp, const float *r, size_t dim);
+
+const struct pieces_params *vecset_pieces(const vecset *v)
+{
+    return v->has_pieces ? &v->pp : NULL;
+}
+
+size_t vecset_piece_count(const vecset *v)
+{
+    return v->has_pieces ? (size_t)v->ph.count : 0;
+}
+
+uint32_t vecset_piece_bucket(const vecset *v, size_t i)
+{
+    return i < vecset_piece_count(v) ? v->pids[i] : 0;
+}
+
+const float *vecset_piece_row(const vecset *v, size_t i)
+{
+    return i < vecset_piece_count(v) ? v->prows + i * v->h.dim : NULL;
+}
+
+long vecset_piece_find(const vecset *v, uint32_t bucket)
+{
+    size_t lo = 0, hi = vecset_piece_count(v); /* the first id >= bucket */
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        if (v->pids[mid] < bucket)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return lo < vecset_piece_count(v) && v->pids[lo] == bucket ? (long)lo : -1;
+}
+
+struct compose_sum {
+    const vecset *v;
+    double *acc;    /* (D) */
+    size_t n;       /* pieces held */
+    size_t all;     /* pieces */
+};
+
+static void add_piece(void *ud, const char *piece, size_t len)
+{
+    struct compose_sum *s = ud;
+    s->all++;
+    long r = vecset_piece_find(s->v, pieces_fnv1a32(piece, len) % s->v->pp.buckets);
+    if (r < 0)
+        return;
+    const float *row = s->v->prows + (size_t)r * s->v->h.dim;
+    for (size_t d = 0; d < s->v->h.dim; d++)
+        s->acc[d] += row[d];
+    s->n++;
+}
+
+size_t vecset_compose(const vecset *v, const char *tok, size_t len, float *out)
+{
+    size_t D = (size_t)v->h.dim;
+    if (!v->has_pieces || v->ph.count == 0)
+        return 0;
+    double sacc[512];
+    double *acc = D <= 512 ? sacc : xmalloc(xmul(D, sizeof *acc));
+    memset(acc, 0, D * sizeof *acc);
+    struct compose_sum s = { v, acc, 0, 0 };
+    pieces_each(tok, len, v->pp.min_len, v->pp.max_len, add_piece, &s);
+    /* a damaged row (inf or NaN: never written) gives no vector, not a
+     * NaN that pooling would spread over the whole row */
+    for (size_t d = 0; s.n && d < D; d++)
+        if (!isfinite(acc[d]))
+            s.n = 0;
+    if (s.n)
+        for (size_t d = 0; d < D; d++)
+            out[d] = (float)(acc[d] / (double)s.all);
+    if (acc != sacc)
+        free(acc);
+    return s.n;
+}
+
+int vecset_export_pieces(const vecset *v, const char *out, struct err *e)
+{
+    if (!v->has_pieces)
+        return err_set(e, v->path, 0, "the vector set has no pieces to export");
+    ofile *of = ofile_open(out, e);
+    if (!of)
+        return -1;
+    FILE *fp = ofile_fp(of);
+    size_t dim = (size_t)v->h.dim;
+    fprintf(fp, "%llu %zu %u %u %llu\n", (unsigned long long)v->ph.count, dim, v->ph.min_len, v->ph.max_len,
+            (unsigned long long)v->ph.buckets);
+    for (size_t i = 0; i < v->ph.count; i++) {
+        fprintf(fp, "%u", (unsigned)v->pids[i]);
+        write_numbers(fp, v->prows + i * dim, dim);
+        fputc('\n', fp);
+        if (ferror(fp))
+            break;
+    }
+    return ofile_commit(of, e);
 }
 
 /* ---- neighbours ---- */
@@ -726,6 +987,17 @@ static int shortest(char *buf, size_t n, float f)
     return len;
 }
 
+/* " x1 x2 ... xD", each in shortest form. */
+static void write_numbers(FILE *fp, const float *r, size_t dim)
+{
+    char buf[64];
+    for (size_t j = 0; j < dim; j++) {
+        buf[0] = ' ';
+        int len = shortest(buf + 1, sizeof buf - 1, r[j]);
+        fwrite(buf, 1, (size_t)len + 1, fp);
+    }
+}
+
 int vecset_export_text(const vecset *v, const char *out, struct err *e)
 {
     ofile *of = ofile_open(out, e);
@@ -734,15 +1006,9 @@ int vecset_export_text(const vecset *v, const char *out, struct err *e)
     FILE *fp = ofile_fp(of);
     size_t dim = (size_t)v->h.dim;
     fprintf(fp, "%llu %zu\n", (unsigned long long)v->h.count, dim);
-    char buf[64];
     for (size_t i = 0; i < v->h.count; i++) {
         fputs(vecset_word(v, i), fp);
-        const float *r = vecset_row(v, i);
-        for (size_t j = 0; j < dim; j++) {
-            buf[0] = ' ';
-            int len = shortest(buf + 1, sizeof buf - 1, r[j]);
-            fwrite(buf, 1, (size_t)len + 1, fp);
-        }
+        write_numbers(fp, vecset_row(v, i), dim);
         fputc('\n', fp);
         if (ferror(fp))
             break;

@@ -67,6 +67,7 @@ Test(features, bow_three_documents_worked_by_hand)
     struct features_params p = FEATURES_PARAMS_INIT;
     p.pool = POOL_BOW;
     p.bigrams = 0;
+    p.min_df = 1; /* keep "ran", seen once */
     struct err e = ERR_INIT;
     featurizer *f = features_fit(&p, &d, rows, 3, NULL, &e);
     cr_assert_not_null(f, "%s", e.msg);
@@ -87,6 +88,34 @@ Test(features, bow_three_documents_worked_by_hand)
         cr_assert_float_eq(bow_value(f, &X, cells[c].row, cells[c].term), cells[c].want, 1e-15, "row %zu term %s",
                            cells[c].row, cells[c].term);
     fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+}
+
+/* Default bow (features.h): words of a single training row are dropped
+ * (TfidfVectorizer's min_df=2), unless no word would be left. */
+Test(features, bow_keeps_words_of_two_training_rows)
+{
+    static const char *const texts[] = { "cat sat", "cat ran", "dog sat" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 3);
+    size_t rows[] = { 0, 1, 2 };
+    struct features_params p = FEATURES_PARAMS_INIT;
+    p.pool = POOL_BOW;
+    struct err e = ERR_INIT;
+    featurizer *f = features_fit(&p, &d, rows, 3, NULL, &e);
+    cr_assert_not_null(f, "%s", e.msg);
+    cr_assert_eq(features_dim(f), 2);
+    cr_assert_str_eq(features_term(f, 0), "cat");
+    cr_assert_str_eq(features_term(f, 1), "sat");
+    features_free(f);
+    tokdocs_release(&d);
+
+    static const char *const apart[] = { "apple", "pear plum" };
+    fx_docs(&d, apart, 2);
+    f = features_fit(&p, &d, rows, 2, NULL, &e);
+    cr_assert_not_null(f, "%s", e.msg);
+    cr_assert_eq(features_dim(f), 3, "no word in two rows: all are kept");
     features_free(f);
     tokdocs_release(&d);
 }
@@ -405,7 +434,7 @@ Test(features, save_and_load_give_identical_features)
     struct tokdocs d;
     fx_docs(&d, texts, 5);
     size_t train[] = { 0, 1, 2 }, all[] = { 0, 1, 2, 3, 4 };
-    for (int pool = POOL_MEAN; pool <= POOL_BOW; pool++) {
+    for (int pool = POOL_MEAN; pool < FEATURES_POOLS; pool++) {
         for (int sub = 0; sub <= 1; sub++) {
             struct features_params p = FEATURES_PARAMS_INIT;
             p.pool = (enum features_pool)pool;
@@ -491,7 +520,7 @@ Test(features, fit_transform_equals_fit_then_transform)
     struct tokdocs d;
     fx_docs(&d, texts, 7);
     size_t rows[] = { 6, 0, 3, 4, 2, 1 };
-    for (int pool = POOL_MEAN; pool <= POOL_BOW; pool++)
+    for (int pool = POOL_MEAN; pool < FEATURES_POOLS; pool++)
         for (int scale = 0; scale < 2; scale++) {
             struct features_params p = FEATURES_PARAMS_INIT;
             p.pool = (enum features_pool)pool;
@@ -558,6 +587,158 @@ Test(features, fit_transform_equals_fit_then_transform)
             fmat_release(&want);
             features_free(f);
         }
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* ---- the combined route (bow+mean, bow+tfidf, bow+sif) ---- */
+
+/* Row i of the combined matrix is w_b times the bow featurizer's row i in
+ * columns [0, Vb), then w_p times the pooled featurizer's row i in
+ * [Vb, Vb+E), every pooled column stored; the bow and pooled featurizers
+ * fitted alone on the same rows give the blocks; and the weights make each
+ * block's mean squared length over the training rows E (the rule in
+ * features.h). */
+Test(features, combined_row_is_bow_beside_weighted_pooled)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat cat", "ran dog hen", "hen owl", "dog dog sat ran",
+                                         "sat", "cat ran owl sat", "sat sat dog" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 7);
+    size_t rows[] = { 0, 1, 3, 4, 5, 6 }, all[] = { 0, 1, 2, 3, 4, 5, 6 };
+    static const enum features_pool pools[] = { POOL_BOW_MEAN, POOL_BOW_TFIDF, POOL_BOW_SIF };
+    for (size_t c = 0; c < 3; c++) {
+        cr_assert(features_pool_combined(pools[c]));
+        featurizer *f = fit(pools[c], 1, &d, rows, 6, vs);
+        featurizer *fb = fit(POOL_BOW, 1, &d, rows, 6, vs);
+        featurizer *fd = fit(features_pool_dense(pools[c]), 1, &d, rows, 6, vs);
+        const featurizer *b, *q;
+        double wt[2];
+        cr_assert_eq(features_blocks(f, &b, &q, wt), 0);
+        cr_assert_eq(features_blocks(fb, &b, &q, wt), -1);
+        features_blocks(f, &b, &q, wt);
+        double w = wt[1];
+        size_t Vb = features_dim(fb), E = features_dim(fd);
+        cr_assert_eq(features_dim(f), Vb + E);
+        cr_assert(features_sparse(f));
+        cr_assert_eq(features_vectors(f), vs);
+        cr_assert_str_eq(features_term(f, 0), features_term(fb, 0));
+        cr_assert_null(features_term(f, Vb));
+        struct fmat X = FMAT_INIT, XB = FMAT_INIT, XD = FMAT_INIT;
+        features_transform(f, &d, all, 7, &X, NULL);
+        features_transform(fb, &d, all, 7, &XB, NULL);
+        features_transform(fd, &d, all, 7, &XD, NULL);
+        cr_assert(X.sparse && X.n == 7 && X.d == Vb + E);
+        double sq = 0, sqb = 0;
+        for (size_t i = 0; i < 7; i++) {
+            size_t a = X.rowptr[i], nb = XB.rowptr[i + 1] - XB.rowptr[i];
+            cr_assert_eq(X.rowptr[i + 1] - a, nb + E, "row %zu has %zu entries", i, X.rowptr[i + 1] - a);
+            for (size_t k = 0; k < nb; k++) {
+                cr_assert_eq(X.col[a + k], XB.col[XB.rowptr[i] + k]);
+                cr_assert(X.val[a + k] == wt[0] * XB.val[XB.rowptr[i] + k], "row %zu bow entry %zu", i, k);
+                if (i != 2)
+                    sqb += X.val[a + k] * X.val[a + k];
+            }
+            for (size_t k = 0; k < E; k++) {
+                cr_assert_eq(X.col[a + nb + k], Vb + k);
+                cr_assert(X.val[a + nb + k] == w * XD.x[i * E + k], "row %zu pooled entry %zu", i, k);
+                if (i != 2) /* row 2 was held out of the fit */
+                    sq += XD.x[i * E + k] * XD.x[i * E + k];
+            }
+        }
+        cr_assert_float_eq(w, sqrt(3.0 / (sq / 6.0)), 1e-15);
+        cr_assert_float_eq(w * w * sq / 6.0, 3.0, 1e-12, "pooled block's mean squared length");
+        cr_assert_float_eq(sqb / 6.0, 3.0, 1e-12, "bow block's mean squared length (every training row has words)");
+        cr_assert_float_eq(wt[0], sqrt(3.0), 1e-15);
+        /* three standardised columns that all vary have mean squares of 1
+         * each (common practice): the pooled block is left as it is */
+        cr_assert_float_eq(w, 1.0, 1e-12);
+        fmat_release(&X);
+        fmat_release(&XB);
+        fmat_release(&XD);
+        features_free(f);
+        features_free(fb);
+        features_free(fd);
+    }
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* One text through features_transform_tokens and features_transform_memo
+ * (predict's path) gives the row the batch transform gives. */
+Test(features, combined_row_by_tokens_equals_batch)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat cat", "ran dog hen", "dog dog sat ran", "sat owl" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 4);
+    size_t rows[] = { 0, 1, 2, 3 };
+    featurizer *f = fit(POOL_BOW_TFIDF, 1, &d, rows, 3, vs);
+    struct fmat X = FMAT_INIT;
+    features_transform(f, &d, rows, 4, &X, NULL);
+    features_memo *mm = features_memo_new(f);
+    for (size_t i = 0; i < 4; i++) {
+        const char *toks[8];
+        size_t nt = 0;
+        for (size_t t = d.off[i]; t < d.off[i + 1]; t++)
+            toks[nt++] = vocab_word(d.v, d.tok[t]);
+        struct fmat Y = FMAT_INIT;
+        features_alloc(f, 1, &Y);
+        features_transform_memo(f, mm, toks, NULL, nt, &Y, 0, NULL);
+        size_t n = fmat_nnz_row(&X, i);
+        cr_assert_eq(fmat_nnz_row(&Y, 0), n);
+        cr_assert(memcmp(fmat_row_values(&Y, 0), fmat_row_values(&X, i), n * sizeof(double)) == 0, "row %zu", i);
+        cr_assert(memcmp(Y.col, X.col + X.rowptr[i], n * sizeof *Y.col) == 0, "row %zu columns", i);
+        fmat_release(&Y);
+    }
+    features_memo_free(mm);
+    fmat_release(&X);
+    features_free(f);
+    tokdocs_release(&d);
+    vecset_close(vs);
+}
+
+/* A damaged combined featurizer is refused with the field named. */
+Test(features, combined_load_rejects_damaged_fields)
+{
+    vecset *vs = four_words();
+    static const char *const texts[] = { "cat sat", "ran dog", "dog cat" };
+    struct tokdocs d;
+    fx_docs(&d, texts, 3);
+    size_t rows[] = { 0, 1, 2 };
+    featurizer *f = fit(POOL_BOW_SIF, 1, &d, rows, 3, vs);
+    static const struct {
+        const char *block, *key, *json, *says;
+    } cases[] = {
+        { NULL, "dimensions", "9", "field 'features.dimensions' is 9 but the blocks have" },
+        { NULL, "pooled_weight", "0", "field 'features.pooled_weight'" },
+        { NULL, "bow_weight", "\"1\"", "field 'features.bow_weight'" },
+        { NULL, "bag_of_words", "null", "field 'features.bag_of_words'" },
+        { "pooled", "pool", "\"mean\"", "field 'features.pooled.pool' is 'mean', but the route is 'bow+sif'" },
+        { "bag_of_words", "pool", "\"tfidf\"", "field 'features.bag_of_words." },
+        { "pooled", "scale_sd", "[1, 0, 1]", "field 'features.pooled.scale_sd' entry 1 is not positive" },
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        cJSON *obj = cJSON_CreateObject();
+        features_save(f, obj);
+        cJSON *at = cases[k].block ? cJSON_GetObjectItem(obj, cases[k].block) : obj;
+        cJSON_ReplaceItemInObjectCaseSensitive(at, cases[k].key, cJSON_Parse(cases[k].json));
+        obj = fx_reparse(obj);
+        struct err e = ERR_INIT;
+        struct jsonv_ctx c = { "m.json", "features", &e };
+        cr_assert_null(features_load(&c, obj, vs), "case %zu loaded", k);
+        cr_assert(strstr(e.msg, cases[k].says), "case %zu: %s", k, e.msg);
+        cJSON_Delete(obj);
+    }
+    struct err e = ERR_INIT;
+    cJSON *obj = cJSON_CreateObject();
+    features_save(f, obj);
+    struct jsonv_ctx c = { "m.json", "features", &e };
+    cr_assert_null(features_load(&c, obj, NULL));
+    cr_assert(strstr(e.msg, "'bow+sif' needs a vector set"), "%s", e.msg);
+    cJSON_Delete(obj);
+    features_free(f);
     tokdocs_release(&d);
     vecset_close(vs);
 }

@@ -133,15 +133,19 @@ static void gradient_case(const struct fmat *X, const int *y, size_t k, int bala
 
 Test(linear, gradient_matches_central_differences_dense_and_sparse)
 {
-    struct fmat D = FMAT_INIT, S = FMAT_INIT;
-    int y[40];
-    random_problem(40, 6, 3, 5, &D, &S, y);
-    for (int bal = 0; bal < 2; bal++) {
-        gradient_case(&D, y, 3, bal);
-        gradient_case(&S, y, 3, bal);
+    /* K = 3, and K = 2, whose penalty is ||W||^2 (linear.h) */
+    static const size_t ks[] = { 3, 2 };
+    for (size_t a = 0; a < 2; a++) {
+        struct fmat D = FMAT_INIT, S = FMAT_INIT;
+        int y[40];
+        random_problem(40, 6, ks[a], 5 + a, &D, &S, y);
+        for (int bal = 0; bal < 2; bal++) {
+            gradient_case(&D, y, ks[a], bal);
+            gradient_case(&S, y, ks[a], bal);
+        }
+        fmat_release(&D);
+        fmat_release(&S);
     }
-    fmat_release(&D);
-    fmat_release(&S);
 }
 
 Test(linear, sparse_and_dense_give_the_same_model)
@@ -321,8 +325,9 @@ static void reference_gradient(const struct linear_model *m, const struct fmat *
         }
     }
     fmat_gemm_tn(X, R, k, g);
+    double pen2 = k == 2 ? 2.0 : 1.0; /* J's penalty is ||W||^2 for K = 2 (linear.h) */
     for (size_t j = 0; j < k * d; j++)
-        g[j] = m->W[j] + C * g[j];
+        g[j] = pen2 * m->W[j] + C * g[j];
     for (size_t c = 0; c < k; c++)
         g[k * d + c] *= C;
     free(R);

@@ -64,17 +64,26 @@ static void check_explanation_adds_up(enum features_pool pool)
     pipeline *p = fit(pool, CLF_LOGREG, &d, rows, 8, vs);
     const featurizer *f = pipeline_featurizer(p);
     size_t D = features_dim(f);
-    double buf[K * 64 + K];
-    cr_assert(D <= 64);
+    double buf[K * 128 + K];
+    cr_assert(D <= 128);
     const double *W, *b;
     cJSON *obj = weights(p, &W, &b, buf);
     const double *mean, *sd;
-    features_scaler(f, &mean, &sd);
+    /* combined: the pooled block sits at columns [off, D), times wt */
+    const featurizer *fb, *fd;
+    double wts[2] = { 1, 1 };
+    size_t off = 0;
+    if (features_blocks(f, &fb, &fd, wts) == 0) {
+        off = features_dim(fb);
+        features_scaler(fd, &mean, &sd);
+    } else {
+        features_scaler(f, &mean, &sd);
+    }
     double c[K];
     for (size_t j = 0; j < K; j++) {
         c[j] = b[j];
-        for (size_t q = 0; mean && q < D; q++)
-            c[j] -= W[j * D + q] * mean[q] / sd[q];
+        for (size_t q = 0; mean && off + q < D; q++)
+            c[j] -= W[j * D + off + q] * wts[1] * mean[q] / sd[q];
     }
     for (size_t i = 0; i < N; i++) {
         const char *toks[8];
@@ -114,6 +123,9 @@ Test(pipeline, explanation_adds_up_mean) { check_explanation_adds_up(POOL_MEAN);
 Test(pipeline, explanation_adds_up_tfidf) { check_explanation_adds_up(POOL_TFIDF); }
 Test(pipeline, explanation_adds_up_sif) { check_explanation_adds_up(POOL_SIF); }
 Test(pipeline, explanation_adds_up_bow) { check_explanation_adds_up(POOL_BOW); }
+Test(pipeline, explanation_adds_up_bow_mean) { check_explanation_adds_up(POOL_BOW_MEAN); }
+Test(pipeline, explanation_adds_up_bow_tfidf) { check_explanation_adds_up(POOL_BOW_TFIDF); }
+Test(pipeline, explanation_adds_up_bow_sif) { check_explanation_adds_up(POOL_BOW_SIF); }
 
 Test(pipeline, svm_has_no_word_explanation)
 {
@@ -140,7 +152,7 @@ Test(pipeline, held_out_rows_do_not_leak_into_the_fit)
     fx_docs(&a, TEXTS, N);
     fx_docs(&b, OTHER, N);
     const size_t *rows = ALL;
-    for (int pool = POOL_MEAN; pool <= POOL_BOW; pool++) {
+    for (int pool = POOL_MEAN; pool < FEATURES_POOLS; pool++) {
         pipeline *pa = fit((enum features_pool)pool, CLF_LOGREG, &a, rows, 8, vs);
         pipeline *pb = fit((enum features_pool)pool, CLF_LOGREG, &b, rows, 8, vs);
         double P1[N * K], P2[N * K];
@@ -170,8 +182,9 @@ Test(pipeline, save_and_load_give_identical_probabilities)
     static const struct {
         enum features_pool pool;
         enum pipeline_classifier clf;
-    } cases[] = { { POOL_SIF, CLF_LOGREG }, { POOL_BOW, CLF_LOGREG }, { POOL_TFIDF, CLF_SVM_RBF },
-                  { POOL_BOW, CLF_SVM_LINEAR } };
+    } cases[] = { { POOL_SIF, CLF_LOGREG },       { POOL_BOW, CLF_LOGREG },       { POOL_TFIDF, CLF_SVM_RBF },
+                  { POOL_BOW, CLF_SVM_LINEAR },   { POOL_BOW_TFIDF, CLF_LOGREG }, { POOL_BOW_SIF, CLF_SVM_RBF },
+                  { POOL_BOW_MEAN, CLF_SVM_LINEAR } };
     for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
         pipeline *p = fit(cases[c].pool, cases[c].clf, &d, rows, N, vs);
         cJSON *obj = cJSON_CreateObject();

@@ -2,6 +2,7 @@
  * checks, neighbours, text import and export. */
 #include <criterion/criterion.h>
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -592,5 +593,311 @@ Test(vecset, damage_named_the_same_for_any_thread_count)
         cr_assert_eq(vecset_nearest(v, rows, 5, NULL, 0, t, h, &et), -1);
         cr_assert(strstr(et.msg, "'w1200' (row 1201) holds NaN at position 4"), "threads %d: %s", t, et.msg);
     }
+    vecset_close(v);
+}
+
+/* ---- pieces (format 1.1) ---- */
+
+/* A 2-word, 3-dimension store with pieces of 3 characters in 64 buckets:
+ * rows for the buckets of four pieces of "where" (<wh whe her ere). */
+static const char *const WP[] = { "where", "here" };
+static const float RP[] = { 1, 2, 3, -1, 0, 1 };
+static uint32_t PB[4];
+static float PR[12];
+
+static struct vecset_pieces make_pieces(void)
+{
+    static const char *const g[] = { "<wh", "whe", "her", "ere" };
+    uint32_t ids[4];
+    for (int i = 0; i < 4; i++)
+        ids[i] = pieces_fnv1a32(g[i], 3) % 64u;
+    /* ascending, as the store wants; the four differ for these pieces */
+    for (int i = 0; i < 4; i++) {
+        int r = 0;
+        for (int j = 0; j < 4; j++)
+            r += ids[j] < ids[i];
+        PB[r] = ids[i];
+    }
+    for (int i = 0; i < 12; i++)
+        PR[i] = (float)(i + 1) * 0.25f;
+    struct vecset_pieces pc = { { 3, 3, 64 }, 4, PB, PR };
+    return pc;
+}
+
+static vecset *with_pieces(struct err *e)
+{
+    struct vecset_pieces pc = make_pieces();
+    const char *p = tmp(2, "pieces.vecs");
+    cr_assert_eq(vecset_write_pieces(p, WP, RP, 2, 3, &pc, e), 0, "%s", e->msg);
+    vecset *v = vecset_open(p, e);
+    cr_assert_not_null(v, "%s", e->msg);
+    return v;
+}
+
+static uint32_t header_u32(const char *path, long off)
+{
+    FILE *fp = fopen(path, "rb");
+    uint32_t x = 0;
+    fseek(fp, off, SEEK_SET);
+    cr_assert_eq(fread(&x, 4, 1, fp), 1);
+    fclose(fp);
+    return x;
+}
+
+Test(vecset, pieces_round_trip)
+{
+    struct err e = ERR_INIT;
+    vecset *v = with_pieces(&e);
+    const struct pieces_params *pp = vecset_pieces(v);
+    cr_assert_not_null(pp);
+    cr_assert_eq(pp->min_len, 3);
+    cr_assert_eq(pp->max_len, 3);
+    cr_assert_eq(pp->buckets, 64);
+    cr_assert_eq(vecset_piece_count(v), 4);
+    for (size_t i = 0; i < 4; i++) {
+        cr_assert_eq(vecset_piece_bucket(v, i), PB[i]);
+        cr_assert_eq(memcmp(vecset_piece_row(v, i), PR + 3 * i, 12), 0);
+        cr_assert_eq(vecset_piece_find(v, PB[i]), (long)i);
+    }
+    cr_assert_null(vecset_piece_row(v, 4));
+    cr_assert_eq(vecset_find(v, "where"), 0);
+    cr_assert_eq(memcmp(vecset_row(v, 1), RP + 3, 12), 0);
+    cr_assert_eq(vecset_verify(v, &e), 0, "%s", e.msg);
+    cr_assert_eq(header_u32(tmp(2, "pieces.vecs"), 12), 1, "minor version 1.1");
+    cr_assert_eq(header_u32(tmp(2, "pieces.vecs"), 16), 192, "header size");
+    /* the fingerprint covers the pieces: the same words without them differ */
+    uint64_t f = vecset_fingerprint(v);
+    vecset_close(v);
+    cr_assert_eq(vecset_write(tmp(3, "plain.vecs"), WP, RP, 2, 3, &e), 0);
+    v = vecset_open(tmp(3, "plain.vecs"), &e);
+    cr_assert_neq(vecset_fingerprint(v), f);
+    vecset_close(v);
+}
+
+/* A store without pieces is format 1.0 as before: 128-byte header, minor 0;
+ * and it answers "no pieces". */
+Test(vecset, store_without_pieces_stays_1_0)
+{
+    struct err e = ERR_INIT;
+    vecset *v = four(&e);
+    cr_assert_null(vecset_pieces(v));
+    cr_assert_eq(vecset_piece_count(v), 0);
+    float out[2] = { 9, 9 };
+    cr_assert_eq(vecset_compose(v, "northwest", 9, out), 0);
+    cr_assert_eq(out[0], 9);
+    vecset_close(v);
+    cr_assert_eq(header_u32(tmp(0, "four.vecs"), 12), 0);
+    cr_assert_eq(header_u32(tmp(0, "four.vecs"), 16), 128);
+}
+
+/* Files written before pieces existed still open: the committed fuzz seed
+ * small.vecs was packed by an early 1.0 writer (its fingerprint predates
+ * the current definition, so only the content is checked). */
+Test(vecset, old_1_0_file_opens)
+{
+    struct err e = ERR_INIT;
+    const char *p = VECSIFT_SOURCE_DIR "/tests/fuzz/corpus/vecopen/small.vecs";
+    vecset *v = vecset_open(p, &e);
+    cr_assert_not_null(v, "%s", e.msg);
+    cr_assert_eq(header_u32(p, 12), 0);
+    cr_assert_gt(vecset_count(v), 0);
+    cr_assert_null(vecset_pieces(v));
+    for (size_t i = 0; i < vecset_count(v); i++)
+        cr_assert_eq(vecset_find(v, vecset_word(v, i)), (long)i);
+    vecset_close(v);
+}
+
+/* Composition: the rows of the word's pieces that the store holds, summed
+ * and divided by the number of its pieces (a piece not held counts as a
+ * zero row).  "wherever" has the 8 pieces <wh whe her ere (held) and rev
+ * eve ver er> (in buckets the store may or may not hold: counted here). */
+Test(vecset, compose_is_mean_of_held_pieces)
+{
+    struct err e = ERR_INIT;
+    vecset *v = with_pieces(&e);
+    static const char *const g[] = { "<wh", "whe", "her", "ere", "rev", "eve", "ver", "er>" };
+    double want[3] = { 0, 0, 0 };
+    size_t n = 0;
+    for (int i = 0; i < 8; i++) {
+        long r = vecset_piece_find(v, pieces_fnv1a32(g[i], 3) % 64u);
+        if (r < 0)
+            continue;
+        for (int d = 0; d < 3; d++)
+            want[d] += vecset_piece_row(v, (size_t)r)[d];
+        n++;
+    }
+    cr_assert_geq(n, 4);
+    float out[3];
+    cr_assert_eq(vecset_compose(v, "wherever", 8, out), n);
+    for (int d = 0; d < 3; d++)
+        cr_assert_eq(out[d], (float)(want[d] / 8.0));
+    /* a word none of whose pieces is held leaves 'out' alone */
+    float keep[3] = { 7, 7, 7 };
+    size_t got = vecset_compose(v, "zq", 2, keep);
+    if (got == 0)
+        cr_assert_eq(keep[0], 7);
+    vecset_close(v);
+}
+
+struct compose_job {
+    const vecset *v;
+    float out[50][3];
+};
+
+static void *compose_many(void *arg)
+{
+    struct compose_job *j = arg;
+    char w[32];
+    for (int i = 0; i < 50; i++) {
+        snprintf(w, sizeof w, "where%d", i);
+        memset(j->out[i], 0, sizeof j->out[i]);
+        vecset_compose(j->v, w, strlen(w), j->out[i]);
+    }
+    return NULL;
+}
+
+/* vecset_compose on four threads at once gives what it gives on one. */
+Test(vecset, compose_thread_safe)
+{
+    struct err e = ERR_INIT;
+    vecset *v = with_pieces(&e);
+    static struct compose_job one, four_[4];
+    one.v = v;
+    compose_many(&one);
+    pthread_t t[4];
+    for (int i = 0; i < 4; i++) {
+        four_[i].v = v;
+        cr_assert_eq(pthread_create(&t[i], NULL, compose_many, &four_[i]), 0);
+    }
+    for (int i = 0; i < 4; i++) {
+        pthread_join(t[i], NULL);
+        cr_assert_eq(memcmp(four_[i].out, one.out, sizeof one.out), 0);
+    }
+    vecset_close(v);
+}
+
+/* Overwrite 'size' bytes at 'off' of 'src' into 'dst'. */
+static void patched(const char *src, const char *dst, long off, const void *val, size_t size)
+{
+    FILE *fp = fopen(src, "rb");
+    unsigned char buf[8192];
+    size_t len = fread(buf, 1, sizeof buf, fp);
+    fclose(fp);
+    cr_assert_lt(len, sizeof buf);
+    memcpy(buf + off, val, size);
+    fp = fopen(dst, "wb");
+    fwrite(buf, 1, len, fp);
+    fclose(fp);
+}
+
+static void assert_refused(const char *path, const char *what)
+{
+    struct err e = ERR_INIT;
+    vecset *v = vecset_open(path, &e);
+    cr_assert_null(v, "damaged pieces header (%s) opened", what);
+    cr_assert_eq(e.code, ERR_INPUT, "%s: %s", what, e.msg);
+    cr_assert(strstr(e.msg, "damaged.vecs"), "%s: %s", what, e.msg);
+}
+
+/* Every way the pieces fields can lie is refused at open, naming the file;
+ * the piece ids' order is checked by verify. */
+Test(vecset, damaged_pieces_refused)
+{
+    struct err e = ERR_INIT;
+    vecset_close(with_pieces(&e));
+    const char *src = tmp(2, "pieces.vecs"), *dst = tmp(3, "damaged.vecs");
+    uint64_t hdr[24];
+    FILE *fp = fopen(src, "rb");
+    cr_assert_eq(fread(hdr, 8, 24, fp), 24);
+    fclose(fp);
+    /* byte offsets of the 1.1 fields (docs/vecs-format.md) */
+    uint32_t zero = 0, big = 17, two = 2;
+    patched(src, dst, 128, &zero, 4);
+    assert_refused(dst, "min length 0");
+    patched(src, dst, 132, &big, 4);
+    assert_refused(dst, "max length 17");
+    patched(src, dst, 128, &(uint32_t){ 4 }, 4);
+    assert_refused(dst, "min above max");
+    patched(src, dst, 136, &(uint64_t){ 2 }, 8);
+    assert_refused(dst, "more rows than buckets");
+    patched(src, dst, 136, &(uint64_t){ 1ULL << 33 }, 8);
+    assert_refused(dst, "buckets beyond 32 bits");
+    patched(src, dst, 144, &(uint64_t){ 5 }, 8);
+    assert_refused(dst, "count disagrees with sizes");
+    patched(src, dst, 152, &(uint64_t){ hdr[19] + 4096 }, 8);
+    assert_refused(dst, "rows past the end");
+    patched(src, dst, 152, &(uint64_t){ hdr[19] + 4 }, 8);
+    assert_refused(dst, "rows misaligned");
+    patched(src, dst, 152, &(uint64_t){ hdr[6] }, 8);
+    assert_refused(dst, "rows over the word rows");
+    patched(src, dst, 168, &(uint64_t){ hdr[19] }, 8);
+    assert_refused(dst, "ids over the piece rows");
+    patched(src, dst, 176, &(uint64_t){ 12 }, 8);
+    assert_refused(dst, "ids size wrong");
+    /* ids out of order: opens (O(1) checks), verify refuses */
+    patched(src, dst, (long)hdr[21], &two, 4);
+    patched(dst, dst, (long)hdr[21] + 4, &two, 4);
+    vecset *v = vecset_open(dst, &e);
+    cr_assert_not_null(v, "%s", e.msg);
+    cr_assert_eq(vecset_verify(v, &e), -1);
+    cr_assert(strstr(e.msg, "piece id"), "%s", e.msg);
+    vecset_close(v);
+    /* cut short anywhere: refused */
+    fp = fopen(src, "rb");
+    unsigned char buf[8192];
+    size_t len = fread(buf, 1, sizeof buf, fp);
+    fclose(fp);
+    for (size_t cut = 0; cut < len; cut++) {
+        fp = fopen(dst, "wb");
+        fwrite(buf, 1, cut, fp);
+        fclose(fp);
+        assert_refused(dst, "cut short");
+    }
+}
+
+Test(vecset, export_pieces_text)
+{
+    struct err e = ERR_INIT;
+    vecset *v = with_pieces(&e);
+    const char *out = tmp(3, "pieces.txt");
+    cr_assert_eq(vecset_export_pieces(v, out, &e), 0, "%s", e.msg);
+    FILE *fp = fopen(out, "r");
+    unsigned long long n, d, lo, hi, k;
+    cr_assert_eq(fscanf(fp, "%llu %llu %llu %llu %llu", &n, &d, &lo, &hi, &k), 5);
+    cr_assert(n == 4 && d == 3 && lo == 3 && hi == 3 && k == 64);
+    for (size_t i = 0; i < 4; i++) {
+        unsigned id;
+        float x[3];
+        cr_assert_eq(fscanf(fp, "%u %f %f %f", &id, &x[0], &x[1], &x[2]), 4);
+        cr_assert_eq(id, PB[i]);
+        cr_assert_eq(memcmp(x, PR + 3 * i, 12), 0);
+    }
+    fclose(fp);
+    vecset_close(v);
+    v = four(&e);
+    err_clear(&e);
+    cr_assert_eq(vecset_export_pieces(v, tmp(3, "none.txt"), &e), -1);
+    cr_assert(access(tmp(3, "none.txt"), F_OK) != 0);
+    vecset_close(v);
+}
+
+/* A piece row holding NaN (never written by vecsift: a damaged file) gives
+ * no composed vector rather than a NaN one. */
+Test(vecset, compose_refuses_non_finite_rows)
+{
+    struct err e = ERR_INIT;
+    struct vecset_pieces pc = make_pieces();
+    float bad[12];
+    memcpy(bad, PR, sizeof bad);
+    bad[0] = NAN;
+    pc.rows = bad;
+    const char *p = tmp(2, "nan.vecs");
+    cr_assert_eq(vecset_write_pieces(p, WP, RP, 2, 3, &pc, &e), 0, "%s", e.msg);
+    vecset *v = vecset_open(p, &e);
+    cr_assert_not_null(v, "%s", e.msg);
+    float out[3] = { 7, 7, 7 };
+    /* "wherever" has all four held pieces, so the NaN row among them */
+    cr_assert_eq(vecset_compose(v, "wherever", 8, out), 0);
+    cr_assert_eq(out[0], 7);
     vecset_close(v);
 }

@@ -15,6 +15,8 @@
 #include <stddef.h>
 #include <stdint.h>
 
+#include "vecsift/pieces.h"
+
 struct err;
 struct text_options;
 struct csv_options;
@@ -100,6 +102,36 @@ int embed_train(const struct embed_corpus *c, const struct embed_params *p, floa
  * 'e' set when the dimensions differ. */
 long embed_start_from(const struct embed_corpus *c, const vecset *from, size_t dim, float *vec,
                       unsigned char *known, struct err *e);
+
+/* ---- learning with pieces ---- */
+
+/* Bojanowski, Grave, Joulin and Mikolov (2017), "Enriching Word Vectors with
+ * Subword Information": a word's input vector is the mean of its own row
+ * and the rows of its character n-gram pieces (pieces.h), so words that
+ * share pieces share what is learned, and a word never seen gets a vector
+ * from its pieces alone (vecset_compose).  Only the buckets the corpus's
+ * words reach get a row (P of them, in ascending bucket order), so memory
+ * follows the vocabulary, not the bucket count. */
+struct embed_pieces {
+    struct pieces_params p;
+    size_t nrows;           /* P */
+    uint32_t *bucket;       /* (P) bucket of each piece row, ascending */
+    size_t *off;            /* (V+1): word i's piece rows are row[off[i] .. off[i+1]) */
+    uint32_t *row;          /* piece row indices in [0, P), each word's distinct, ascending */
+};
+#define EMBED_PIECES_INIT { PIECES_PARAMS_INIT, 0, NULL, NULL, NULL }
+
+/* The pieces of every word of 'c' under 'p' (checked by the caller). */
+void embed_pieces_build(struct embed_pieces *pc, const struct embed_corpus *c, const struct pieces_params *p);
+void embed_pieces_release(struct embed_pieces *pc);
+
+/* embed_train with pieces: 'pvec' ((P, D), caller owned) gets the piece
+ * rows, and on return each row of 'vec' holds its word's vector, the mean
+ * of its own row and its pieces' rows.  Rows marked known start from
+ * 'vec' as in embed_train; piece rows always start at random. */
+int embed_train_pieces(const struct embed_corpus *c, const struct embed_params *p, const struct embed_pieces *pc,
+                       float *vec, float *pvec, const unsigned char *known, embed_progress_fn progress, void *ud,
+                       struct err *e);
 
 /* ---- pieces, exposed for tests ---- */
 

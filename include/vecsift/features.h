@@ -17,8 +17,30 @@
  *          and Ma 2017, "A Simple but Tough-to-Beat Baseline for Sentence
  *          Embeddings", ICLR), p(t) the word's relative frequency in the
  *          training rows
- *   bow    sparse tf-idf over unigrams and bigrams of the training rows'
- *          vocabulary, each row scaled to unit length (no vectors)
+ *   bow    sparse tf-idf over the words of at least min_df (2) training
+ *          rows (word pairs too when 'bigrams' is set), each row scaled to
+ *          unit length (no vectors); TfidfVectorizer(min_df=2) on our
+ *          tokens
+ *   bow+mean, bow+tfidf, bow+sif
+ *          the combined route: the bow row and the pooled row side by side
+ *          in one sparse row, columns [0, V) the bow block and [V, V+E)
+ *          the pooled block, each block multiplied by its weight so that
+ *          its mean squared row length over the training rows is E:
+ *            bow     w_b = sqrt(E)        (every bow row has length 1)
+ *            pooled  w_p = sqrt(E / mean_i ||z_i||^2), z_i the training
+ *                    rows' pooled rows after standardisation (w_p = 1 when
+ *                    every column varies: the block is then exactly what
+ *                    the pooled route alone gives the classifier)
+ *          Why equal energy: a standardised E-column block has squared
+ *          length about E (300 against the bow row's 1), so an
+ *          L2-penalised classifier, which charges every weight alike, would
+ *          reach its fit almost only through the pooled block; with equal
+ *          energy the data decide which block earns weight.  Why E and not
+ *          1: the pooled block keeps the scale at which --C was tuned for
+ *          pooling (C = 1 means the same for it as in the pooled route);
+ *          scaling both blocks to 1 is the same as dividing C by E, which
+ *          cost 2 to 4.5 points of macro-F1 on tests/bench/bench_accuracy's
+ *          spam and sotu sets (0.928 against 0.948, 0.592 against 0.637).
  * Dense features are then standardised: (x - mean) / sd per column, fitted
  * on the training rows (sd 0 -> 1).  A text with no token that has a vector
  * becomes the zero vector before scaling, and is counted.
@@ -36,39 +58,52 @@ struct vecset;
 struct cJSON;
 struct jsonv_ctx;
 
-enum features_pool { POOL_MEAN = 0, POOL_TFIDF, POOL_SIF, POOL_BOW };
+enum features_pool { POOL_MEAN = 0, POOL_TFIDF, POOL_SIF, POOL_BOW, POOL_BOW_MEAN, POOL_BOW_TFIDF, POOL_BOW_SIF };
+#define FEATURES_POOLS 7
+/* Every pooling name, as --pool and the model file spell them. */
+#define FEATURES_POOL_NAMES "mean, tfidf, sif, bow, bow+mean, bow+tfidf, bow+sif"
 
 struct features_params {
     enum features_pool pool;
     int sublinear_tf;   /* tf -> 1 + ln(tf) in tfidf and bow */
     double sif_a;       /* SIF's a; the paper recommends 1e-3 */
-    int bigrams;        /* bow: add word pairs */
-    size_t min_df;      /* bow: keep terms in at least this many training rows */
+    int bigrams;        /* bow: add word pairs (default 0) */
+    size_t min_df;      /* bow: keep terms in at least this many training rows
+                         * (default 2; 1 when no term would be left) */
     int scale;          /* standardise dense features */
 };
-#define FEATURES_PARAMS_INIT { POOL_TFIDF, 0, 1e-3, 1, 1, 1 }
+/* bow's defaults (unigrams seen in at least 2 training rows, raw tf) won
+ * on every dataset of tests/bench/bench_accuracy.py: docs/accuracy.md. */
+#define FEATURES_PARAMS_INIT { POOL_TFIDF, 0, 1e-3, 0, 2, 1 }
 
-/* "mean" "tfidf" "sif" "bow" <-> enum.  Returns 0, or -1 for an unknown name. */
+/* "mean" "tfidf" "sif" "bow" "bow+mean" "bow+tfidf" "bow+sif" <-> enum.
+ * Returns 0, or -1 for an unknown name. */
 int features_pool_parse(const char *name, enum features_pool *out);
 const char *features_pool_name(enum features_pool p);
+/* Whether 'p' is a combined route (bow+...), and the pooling of its dense
+ * block (the pooling itself for the others; POOL_BOW for bow). */
+int features_pool_combined(enum features_pool p);
+enum features_pool features_pool_dense(enum features_pool p);
+/* Whether 'p' needs a vector set (every pooling but bow). */
+int features_pool_needs_vectors(enum features_pool p);
 
 typedef struct featurizer featurizer;
 
 /* What a transform saw. */
 struct features_stats {
     uint64_t tokens;        /* token occurrences */
-    uint64_t with_vector;   /* of which had a vector (pooling) or a column (bow) */
+    uint64_t with_vector;   /* of which had a vector (pooling, combined) or a column (bow) */
     size_t empty_rows;      /* rows that became the zero vector */
 };
 
-/* Fit on documents rows[0..n) of 'd'.  'vs' is required for mean/tfidf/sif
- * and ignored for bow; the featurizer borrows it (keep it open).  Returns a
+/* Fit on documents rows[0..n) of 'd'.  'vs' is required for every pooling
+ * but bow and ignored for bow; the featurizer borrows it (keep it open).  Returns a
  * featurizer owned by the caller (features_free), or NULL with 'e' set. */
 featurizer *features_fit(const struct features_params *p, const struct tokdocs *d, const size_t *rows, size_t n,
                          const struct vecset *vs, struct err *e);
 void features_free(featurizer *f); /* NULL-safe */
 
-/* Output width D, and whether the output is sparse (bow). */
+/* Output width D, and whether the output is sparse (bow and combined). */
 size_t features_dim(const featurizer *f);
 int features_sparse(const featurizer *f);
 const struct features_params *features_params(const featurizer *f);
@@ -141,8 +176,16 @@ const double *features_sif_component(const featurizer *f);
 /* The vector set the featurizer uses (NULL for bow). */
 const struct vecset *features_vectors(const featurizer *f);
 
-/* bow: the term of output column j ("word" or "word word"). */
+/* bow: the term of output column j ("word" or "word word"); combined: the
+ * same for the bow block's columns, NULL for the pooled block's. */
 const char *features_term(const featurizer *f, size_t j);
+
+/* The two blocks of a combined route: the bow featurizer (columns [0, Vb)),
+ * the pooled one (columns [Vb, D)), and the weights their values are
+ * multiplied by: w[0] the bow block's, w[1] the pooled block's (after its
+ * standardisation).  Borrowed.  Returns 0, or -1 (and sets nothing) when
+ * 'f' is not combined. */
+int features_blocks(const featurizer *f, const featurizer **bow, const featurizer **pooled, double w[2]);
 
 /* Persistence as JSON fields of 'obj'; load validates everything and needs
  * the same vector set (the caller checks its fingerprint). */

@@ -4,18 +4,22 @@
  * rows, also when K = 2) and an intercept per class; the probability of
  * class k for a row x is softmax(W x + b)_k.  Fitting minimises
  *
- *     J(W, b) = 0.5 * ||W||_F^2  +  C * sum_i s_i * ( -log softmax(W x_i + b)_{y_i} )
+ *     J(W, b) = a * ||W||_F^2  +  C * sum_i s_i * ( -log softmax(W x_i + b)_{y_i} )
  *
- * over W (K x D) and b (K) with L-BFGS (lbfgs.h).  The intercept b is not
- * penalised.  s_i = 1, or with balanced class weights s_i = N / (K_present *
- * N_{y_i}), where N_c counts the rows of class c and K_present the classes
- * that have rows.  This is the objective scikit-learn's LogisticRegression
- * minimises with multi_class='multinomial' (up to a constant factor that does
- * not move the minimiser), so C means the same thing here as there.
+ * over W (K x D) and b (K) with L-BFGS (lbfgs.h), with a = 0.5 for K > 2
+ * and a = 1 for K = 2.  The intercept b is not penalised.  s_i = 1, or with
+ * balanced class weights s_i = N / (K_present * N_{y_i}), where N_c counts
+ * the rows of class c and K_present the classes that have rows.  For K > 2
+ * this is the objective scikit-learn's LogisticRegression minimises with
+ * multi_class='multinomial'.
  *
- * With K = 2 the penalty falls on both rows; at the optimum w_1 = -w_0, and
- * the fit equals a binary (sigmoid) logistic regression on delta = w_1 - w_0
- * with C doubled: 0.5 (|w_0|^2 + |w_1|^2) = 0.25 |delta|^2.
+ * For K = 2 the optimum is symmetric, w_1 = -w_0 (from a start whose
+ * intercepts sum to zero), so with delta = w_1 - w_0, ||W||^2 = 0.5
+ * |delta|^2 and J = 0.5 |delta|^2 + C sum_i s_i logloss(delta): the binary
+ * (sigmoid) logistic regression that scikit-learn's LogisticRegression()
+ * fits by default on two classes, so C means the same there as here for
+ * any K.  (With a = 0.5 for K = 2 the fit would be scikit-learn's binary
+ * one at 2C: issue 14 found probabilities up to 0.19 apart on mail.)
  *
  * A class in [0, K) with no rows has no finite optimum (its intercept falls
  * without bound); the fit still ends, by L-BFGS's relative-decrease test,

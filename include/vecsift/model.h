@@ -4,7 +4,8 @@
  * tokeniser settings, labels, the fitted pipeline (featurizer state and
  * classifier), the vector set's fingerprint and path, the training data's
  * fingerprint and counts, the cross-validated summary when there is one and
- * the suggested review cut-off.  Loading validates every field and refuses
+ * the suggested review cut-off, and for `train --choose` the table of
+ * set-ups it chose from.  Loading validates every field and refuses
  * a vector set whose fingerprint differs.  A model stores vocabulary from
  * the training texts: it is personal data wherever those texts are.
  */
@@ -39,6 +40,8 @@ struct model {
     size_t rows;                /* training rows */
     size_t *label_rows;         /* (K) rows per label */
     struct cJSON *evaluation;   /* cross-validated summary or NULL; owned */
+    struct cJSON *choice;       /* train --choose: the rule, the table and the
+                                 * choice (docs/formats.md), or NULL; owned */
     double review_below;        /* suggested cut-off, or -1 */
 };
 #define MODEL_INIT { 0 }

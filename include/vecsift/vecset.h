@@ -13,6 +13,8 @@
 #include <stddef.h>
 #include <stdint.h>
 
+#include "vecsift/pieces.h"
+
 struct err;
 struct text_options;
 typedef struct vecset vecset;
@@ -46,6 +48,40 @@ const float *vecset_row(const vecset *v, size_t i);   /* (D) as imported */
 float vecset_norm(const vecset *v, size_t i);         /* Euclidean norm of row i */
 const char *vecset_word(const vecset *v, size_t i);
 
+/* ---- pieces: vectors for words the store does not hold ---- */
+
+/* A store learned with character n-gram pieces (pieces.h; format 1.1,
+ * docs/vecs-format.md) keeps, besides its words, one row for each bucket
+ * its training saw.  Stores without pieces (every packed text file) answer
+ * NULL and 0 here. */
+const struct pieces_params *vecset_pieces(const vecset *v); /* NULL: no pieces */
+size_t vecset_piece_count(const vecset *v);                 /* P, bucket rows kept */
+/* For i < P: the bucket of row i (ascending in i) and its D floats
+ * (borrowed, valid until vecset_close); 0 and NULL beyond. */
+uint32_t vecset_piece_bucket(const vecset *v, size_t i);
+const float *vecset_piece_row(const vecset *v, size_t i);
+/* Row index of 'bucket' among the piece rows, or -1 (binary search). */
+long vecset_piece_find(const vecset *v, uint32_t bucket);
+
+/* A vector for tok[0..len) (normalised, like any token) composed from its
+ * pieces: the rows of the buckets of its distinct pieces that the store
+ * holds, summed in double, divided by the number of its pieces (held or
+ * not) and rounded to float.  A piece whose bucket training never saw
+ * counts as a zero row, as an untrained bucket would be near zero in a
+ * store that kept every bucket; so a word few of whose pieces are known
+ * gets a short vector and weighs little once pooled (docs/vecs-format.md
+ * gives the measurement behind this).  Writes D floats into the caller's
+ * 'out' and returns how many rows were summed; returns 0 and leaves 'out'
+ * alone when the store has no pieces or none of tok's.  It does not look
+ * at the whole-word rows: callers try vecset_find first.  Reads only the
+ * mapping, so any number of threads may call it at once. */
+size_t vecset_compose(const vecset *v, const char *tok, size_t len, float *out);
+
+/* The piece rows as text: a first line "P D MIN MAX K", then per row its
+ * bucket id and D numbers (shortest form, as vecset_export_text).  An
+ * ERR_INPUT error when the store has no pieces. */
+int vecset_export_pieces(const vecset *v, const char *out, struct err *e);
+
 /* ---- writing ---- */
 
 struct vecset_pack_stats {
@@ -67,6 +103,21 @@ int vecset_pack_text(const char *in, const char *out, const struct text_options 
  * and 'rows' (n x dim, row-major).  Used by vector learning. */
 int vecset_write(const char *out, const char *const *words, const float *rows, size_t n, size_t dim,
                  struct err *e);
+
+/* Pieces for vecset_write_pieces: 'count' bucket rows ('rows', count x
+ * dim) for strictly ascending bucket ids below p.buckets. */
+struct vecset_pieces {
+    struct pieces_params p;
+    size_t count;
+    const uint32_t *bucket;     /* (count) */
+    const float *rows;          /* (count, dim) */
+};
+
+/* vecset_write with pieces (format 1.1); 'pieces' NULL is vecset_write.
+ * The whole-word rows are the caller's (learning writes each word's
+ * composed vector there).  The fingerprint then also covers the pieces. */
+int vecset_write_pieces(const char *out, const char *const *words, const float *rows, size_t n, size_t dim,
+                        const struct vecset_pieces *pieces, struct err *e);
 
 /* Write the text form ("COUNT DIM" first line, then token and numbers).
  * Each number is the shortest of %.6g .. %.9g that reads back as the same

@@ -1,31 +1,22 @@
 /* cmd_compare.c -- `vecsift compare`: every combination of vector sets,
  * poolings and classifiers (plus the bow baseline) cross-validated on
- * exactly the same folds, ranked by macro-F1, each tested against the best.
- *
- * Every set-up is cross-validated with the same cv_params (folds, repeats,
- * seed), which makes the same fold assignment, so per-fold scores pair up.
- * Set-ups that differ only in the classifier form a group and go through
- * one cv_run_shared, which featurizes each fold once for all of them.  The
- * groups run side by side, one per thread; cv's results do not depend on
- * the thread count (svmfit's rand() is per thread), so neither does the
- * comparison.
+ * exactly the same folds (compare_grid.c), ranked by macro-F1, each tested
+ * against the best (compare_out.c).
  */
 #include <cjson/cJSON.h>
 #include <errno.h>
-#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
-#include <time.h>
 
 #include "commands.h"
 #include "common.h"
+#include "compare_grid.h"
 #include "compare_out.h"
 #include "evaluate_out.h"
 #include "vecsift/err.h"
 #include "vecsift/ofile.h"
-#include "vecsift/par.h"
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 
@@ -33,7 +24,8 @@
 
 static const struct cli_opt opts[] = {
     { "vectors", 'v', "<file>", "packed vector set (.vecs); repeat to compare several" },
-    { "pool", 'p', "<list>", "comma-separated: mean, tfidf, sif, bow (default: tfidf; bow is always added)" },
+    { "pool", 'p', "<list>", "comma-separated: mean, tfidf, sif, bow, bow+mean, bow+tfidf,\n"
+      "                              bow+sif (default: tfidf and bow+tfidf; bow is always added)" },
     { "classifier", 'c', "<list>", "comma-separated: logreg, svm-linear, svm-rbf (default: logreg)" },
     { "C", 'C', "<x>", "inverse regularisation strength, > 0, for every set-up (default: 1)" },
     { "gamma", 0, "<x>", "svm-rbf kernel width (default: 1 / (dimensions * variance))" },
@@ -66,7 +58,7 @@ struct cmp_args {
     struct cv_params cp;
     const char *vectors[MAX_VECTORS];
     size_t nvec;
-    int pools[4];                    /* by enum features_pool: asked for */
+    int pools[FEATURES_POOLS];       /* by enum features_pool: asked for */
     int clfs[3];                     /* by enum pipeline_classifier */
     const char *json, *report;
 };
@@ -134,7 +126,7 @@ static int parse(int argc, char **argv, struct cmp_args *a, const char **data)
             continue;
         }
         if (strcmp(name, "pool") == 0) {
-            if (parse_list(cmd, name, val, a->pools, 4, one_pool, "mean, tfidf, sif, bow") < 0)
+            if (parse_list(cmd, name, val, a->pools, FEATURES_POOLS, one_pool, FEATURES_POOL_NAMES) < 0)
                 break;
             continue;
         }
@@ -168,9 +160,10 @@ static int parse(int argc, char **argv, struct cmp_args *a, const char **data)
 /* Open every vector set before any work; a missing file is bad input. */
 static int open_all(struct cmp_args *a, vecset **vs, struct err *e)
 {
-    int dense = a->pools[POOL_MEAN] || a->pools[POOL_TFIDF] || a->pools[POOL_SIF];
-    if (dense && a->nvec == 0) {
-        int p = a->pools[POOL_MEAN] ? POOL_MEAN : a->pools[POOL_TFIDF] ? POOL_TFIDF : POOL_SIF;
+    int p = 0;
+    while (p < FEATURES_POOLS && !(a->pools[p] && features_pool_needs_vectors((enum features_pool)p)))
+        p++;
+    if (p < FEATURES_POOLS && a->nvec == 0) {
         err_set(e, NULL, 0, "pooling '%s' needs word vectors", features_pool_name((enum features_pool)p));
         return err_hint(e, "pass one or more --vectors FILE.vecs, or compare --pool bow alone");
     }
@@ -184,62 +177,6 @@ static int open_all(struct cmp_args *a, vecset **vs, struct err *e)
             return -1;
     }
     return 0;
-}
-
-/* A group: the consecutive set-ups rows[first..first+n) that share one
- * vector set and pooling and differ in the classifier only. */
-struct group {
-    size_t first, n;
-};
-
-struct job {
-    struct compare_row *rows;
-    const struct group *groups;
-    const struct corpus *c;
-    const struct pipeline_spec *base;
-    vecset **vs;
-    const size_t *vidx;             /* vector set of each row (unused for bow) */
-    struct cv_params cp;
-    struct err *errs;               /* (groups) */
-    int *failed;                    /* (groups) */
-};
-
-/* One group's cross-validation: cv_run_shared fits each fold's featurizer
- * once for all its classifiers (the same numbers as one cv_run per set-up). */
-static void run_group(void *arg, size_t g)
-{
-    struct job *j = arg;
-    const struct group *gr = &j->groups[g];
-    struct compare_row *rows = j->rows + gr->first;
-    struct pipeline_spec s[3];
-    struct cv_result r[3];
-    for (size_t q = 0; q < gr->n; q++) {
-        s[q] = *j->base;
-        s[q].feat.pool = rows[q].pool;
-        s[q].clf = rows[q].clf;
-    }
-    const vecset *vs = rows[0].pool == POOL_BOW ? NULL : j->vs[j->vidx[gr->first]];
-    if (cv_run_shared(r, s, gr->n, j->c, vs, &j->cp, &j->errs[g]) < 0) {
-        j->failed[g] = 1;
-        return;
-    }
-    for (size_t q = 0; q < gr->n; q++) {
-        struct compare_row *row = &rows[q];
-        row->r = r[q];
-        size_t J = row->r.repeats * (size_t)row->r.folds;
-        row->f1 = xcalloc(J, sizeof *row->f1);
-        cv_fold_scores(&row->r, "macro_f1", row->f1);
-        row->coverage = row->r.held_out.tokens
-                            ? (double)row->r.held_out.with_vector / (double)row->r.held_out.tokens
-                            : NAN;
-    }
-}
-
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
 int cmd_compare(int argc, char **argv)
@@ -256,10 +193,13 @@ int cmd_compare(int argc, char **argv)
     if (rc != 0)
         return rc < 0 ? ERR_OK : rc;
     int any = 0;
-    for (int p = 0; p < 4; p++)
+    for (int p = 0; p < FEATURES_POOLS; p++)
         any |= a.pools[p];
-    if (!any)
+    if (!any) {
+        /* with vectors: the default pooling and the combined route on it */
         a.pools[a.nvec ? POOL_TFIDF : POOL_BOW] = 1;
+        a.pools[POOL_BOW_TFIDF] = a.nvec > 0;
+    }
     a.pools[POOL_BOW] = 1; /* the baseline is always there */
     if (!(a.clfs[0] | a.clfs[1] | a.clfs[2]))
         a.clfs[CLF_LOGREG] = 1;
@@ -272,9 +212,6 @@ int cmd_compare(int argc, char **argv)
     vecset *vs[MAX_VECTORS] = { 0 };
     struct compare_row *rows = NULL;
     size_t n = 0, *vidx = NULL, *order = NULL;
-    struct group *groups = NULL;
-    struct err *errs = NULL;
-    int *failed = NULL;
     cJSON *js = NULL;
     const char *ins[MAX_VECTORS + 1] = { data };
     for (size_t v = 0; v < a.nvec; v++)
@@ -292,53 +229,14 @@ int cmd_compare(int argc, char **argv)
     cli_warn_too_long(data, c.too_long_line, c.too_long);
 
     /* The set-ups: bow with each classifier, then vectors x pool x classifier. */
-    size_t cap = 3 + a.nvec * 3 * 3;
-    rows = xcalloc(cap, sizeof *rows);
-    vidx = xcalloc(cap, sizeof *vidx);
-    for (int k = 0; k < 3; k++)
-        if (a.clfs[k])
-            rows[n++] = (struct compare_row){ .pool = POOL_BOW, .clf = (enum pipeline_classifier)k };
-    for (size_t v = 0; v < a.nvec; v++)
-        for (int p = 0; p < 3; p++)
-            for (int k = 0; k < 3 && a.pools[p]; k++)
-                if (a.clfs[k]) {
-                    vidx[n] = v;
-                    rows[n++] = (struct compare_row){ .vectors = a.vectors[v], .pool = (enum features_pool)p,
-                                                      .clf = (enum pipeline_classifier)k };
-                }
-
-    /* Groups of set-ups that differ in the classifier only (rows are in
-     * that order above), side by side, one thread each; with fewer groups
-     * than threads, each cross-validation uses the threads instead. */
-    groups = xcalloc(n, sizeof *groups);
-    size_t ng = 0;
-    for (size_t i = 0; i < n; i++)
-        if (i > 0 && rows[i].pool == rows[i - 1].pool && rows[i].vectors == rows[i - 1].vectors)
-            groups[ng - 1].n++;
-        else
-            groups[ng++] = (struct group){ i, 1 };
-    struct job job = { rows, groups, &c, &a.fa.spec, vs, vidx, a.cp, NULL, NULL };
-    errs = xcalloc(ng, sizeof *errs);
-    failed = xcalloc(ng, sizeof *failed);
-    job.errs = errs;
-    job.failed = failed;
-    int outer = (size_t)a.da.threads <= ng ? a.da.threads : 1;
-    job.cp.threads = outer > 1 ? 1 : a.da.threads;
+    rows = compare_grid_rows(a.vectors, a.nvec, a.pools, a.clfs, &vidx, &n);
     if (!cli_quiet)
         fprintf(stderr, "compare: %zu set-ups x %zu folds on %d threads\n", n,
                 (size_t)a.cp.folds * a.cp.repeats, a.da.threads);
-    double t0 = now();
-    par_for(outer, ng, run_group, &job);
-    double wall = now() - t0;
-    for (size_t g = 0; g < ng; g++)
-        if (failed[g]) {
-            e = errs[g];
-            goto fail;
-        }
-    for (size_t i = 0; i < n; i++)
-        if (rows[i].r.unconverged)
-            cli_warn("%zu: %d of %zu fits stopped at the iteration cap; raise --max-iter or lower --C", i + 1,
-                     rows[i].r.unconverged, rows[i].r.repeats * (size_t)rows[i].r.folds);
+    a.cp.threads = a.da.threads;
+    double wall;
+    if (compare_grid_run(rows, n, vidx, &c, &a.fa.spec, vs, &a.cp, &wall, &e) < 0)
+        goto fail;
 
     double nte = (double)c.ds.n / (double)a.cp.folds;
     struct compare_setup s = { data, &a.da, &a.fa.spec, &a.cp, c.ds.n, c.ds.nlabels, nte, (double)c.ds.n - nte,
@@ -359,16 +257,9 @@ fail:
     rc = cli_fail(&e);
 done:
     cJSON_Delete(js);
-    for (size_t i = 0; rows && i < n; i++) {
-        cv_release(&rows[i].r);
-        free(rows[i].f1);
-    }
-    free(rows);
+    compare_grid_free(rows, n);
     free(vidx);
-    free(groups);
     free(order);
-    free(errs);
-    free(failed);
     for (size_t v = 0; v < a.nvec; v++)
         vecset_close(vs[v]);
     corpus_release(&c);

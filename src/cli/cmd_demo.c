@@ -76,7 +76,8 @@ static int step(int (*fn)(int, char **), ...)
     return rc;
 }
 
-/* The cut-off evaluate chose, from its JSON. */
+/* The cut-off evaluate advised (its review_below, the number it printed),
+ * from its JSON. */
 static int read_cut(const char *path, double *cut, double *cover, double *macro, struct err *e)
 {
     cJSON *root = jsonv_load(path, "evaluation", (size_t)1 << 30, e);
@@ -85,11 +86,11 @@ static int read_cut(const char *path, double *cut, double *cover, double *macro,
     struct jsonv_ctx c = { path, "threshold", e };
     const cJSON *th = cJSON_GetObjectItemCaseSensitive(root, "threshold");
     const cJSON *po = cJSON_GetObjectItemCaseSensitive(root, "pooled");
-    const cJSON *co = th ? cJSON_GetObjectItemCaseSensitive(th, "cutoff") : NULL;
+    const cJSON *co = th ? cJSON_GetObjectItemCaseSensitive(th, "review_below") : NULL;
     int rc = 0;
     *cut = -1;
     if (co && cJSON_IsNumber(co)) {
-        if (jsonv_num(&c, th, "cutoff", 0, 1, cut) < 0 || jsonv_num(&c, th, "coverage", 0, 1, cover) < 0)
+        if (jsonv_num(&c, th, "review_below", 0, 1, cut) < 0 || jsonv_num(&c, th, "coverage", 0, 1, cover) < 0)
             rc = -1;
     }
     struct jsonv_ctx cp = { path, "pooled", e };
@@ -202,10 +203,13 @@ int cmd_demo(int argc, char **argv)
            "  %-32s the incoming tickets with predicted, confidence and route\n",
            vecs, unlabelled, report, cmpreport, json, oof, model, routed);
     printf("\nReading: out of fold, macro F1 was %.3f with learned vectors. ", macro);
-    if (cut >= 0)
-        printf("Routing automatically only above confidence %.3f kept %.0f%% of tickets at 95%% precision;\n"
+    if (cut >= 0) {
+        char cuts[40];
+        cut_format(cut, cuts, sizeof cuts);
+        printf("Routing automatically only at confidence %s or above kept %.0f%% of tickets at 95%% precision;\n"
                "the rest go to a person (route 'review').\n",
-               cut, 100 * cover);
+               cuts, 100 * cover);
+    }
     else
         printf("No cut-off reached 95%% precision: every ticket goes to a person.\n");
     printf("Cautions: a classifier misroutes some tickets; keep a person on the review route and watch each\n"

@@ -23,6 +23,7 @@
 #include "vecsift/vecset.h"
 #include "vecsift/xalloc.h"
 #include "predict_run.h"
+#include "predict_fields.h"
 
 static const struct cli_opt opts[] = {
     { "output", 'o', "<file>", "where to write the routed rows (default: - for stdout)" },
@@ -94,16 +95,8 @@ static void write_batch(struct run *u, const struct batch *bt)
         u->review += (size_t)res->review;
         u->routed += (size_t)!res->review;
         if (u->top > 1) {
-            /* labels by probability, ties by label order */
             int *order = xcalloc(K, sizeof *order);
-            for (size_t k = 0; k < K; k++)
-                order[k] = (int)k;
-            for (size_t a = 1; a < K; a++)
-                for (size_t b = a; b > 0 && pr[order[b]] > pr[order[b - 1]]; b--) {
-                    int t = order[b];
-                    order[b] = order[b - 1];
-                    order[b - 1] = t;
-                }
+            predict_label_order(pr, K, order);
             for (size_t t = 1; t < u->top; t++) {
                 cell(fp, t < K ? u->m->labels[order[t]] : "", 0);
                 snprintf(num, sizeof num, "%.4f", t < K ? pr[order[t]] : 0.0);
@@ -112,17 +105,9 @@ static void write_batch(struct run *u, const struct batch *bt)
             free(order);
         }
         if (u->explain) {
-            /* "word (+0.123); word (+0.045)" */
-            size_t len = 0;
-            for (size_t q = 0; q < res->nwords; q++) {
-                char item[256];
-                int il = snprintf(item, sizeof item, "%s%.80s (%+.3f)", q ? "; " : "", res->words[q], res->push[q]);
-                u->why = xgrow(u->why, &u->whycap, len + (size_t)il + 1, 1);
-                memcpy(u->why + len, item, (size_t)il + 1);
-                len += (size_t)il;
-            }
+            size_t len = predict_evidence(res, &u->why, &u->whycap);
             fputc(',', fp);
-            csv_put(fp, len ? u->why : "", len, 1);
+            csv_put(fp, u->why, len, 1);
         }
         fputs("\r\n", fp);
     }
@@ -336,7 +321,9 @@ int cmd_predict(int argc, char **argv)
     o = NULL;
     if (csv_replaced(r))
         cli_warn("%s: %zu invalid UTF-8 sequences replaced by U+FFFD", in, csv_replaced(r));
-    cli_note("%zu rows: %zu routed automatically, %zu to review (cut-off %.3f)", u.rows, u.routed, u.review, cut);
+    char cuts[40];
+    cut_format(cut, cuts, sizeof cuts);
+    cli_note("%zu rows: %zu routed automatically, %zu to review (cut-off %s)", u.rows, u.routed, u.review, cuts);
     cli_note("note: a classifier misroutes some tickets; keep a person on the 'review' route and watch "
              "each queue's precision over time (README, Cautions)");
     goto done;

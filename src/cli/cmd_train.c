@@ -7,6 +7,7 @@
 
 #include "commands.h"
 #include "common.h"
+#include "compare_grid.h"
 #include "vecsift/cv.h"
 #include "vecsift/err.h"
 #include "vecsift/jsonv.h"
@@ -24,6 +25,10 @@ static const struct cli_opt opts[] = {
       "                              (default: the --evaluation file's cut-off, else none)" },
     { "evaluation", 'e', "<file>", "an 'evaluate --json' file of these settings: its summary is stored in the model" },
     { "search", 0, NULL, "choose C (and gamma) by 3-fold cross-validation on all rows, as evaluate --search does" },
+    { "choose", 0, NULL, "pick --pool and --classifier: cross-validate compare's grid on all rows, keep the best\n"
+      "                              or a simpler set-up not significantly worse (table in the model)" },
+    { "folds", 'k', "<n>", "with --choose: folds, >= 2 (default: 5)" },
+    { "repeats", 'R', "<n>", "with --choose: repeats with fresh shuffles (default: 3)" },
     RUN_OPTIONS,
     { NULL, 0, NULL, NULL }
 };
@@ -37,7 +42,17 @@ const struct cli_cmd cmd_train_info = {
     "the vector set; predict refuses other vectors.  It also stores words from\n"
     "the training texts: treat the model file as personal data wherever those\n"
     "texts are, under the applicable law and your organisation's policy.\n"
-    "Measure before you deploy: 'vecsift evaluate' with the same options."
+    "Measure before you deploy: 'vecsift evaluate' with the same options.\n"
+    "\n"
+    "--choose cross-validates, on the same folds, the bag of words and (with\n"
+    "--vectors) every pooling and combined route, each with logreg and\n"
+    "svm-rbf, as compare does.  Of the set-ups not significantly worse than\n"
+    "the best (corrected resampled t-test, one-sided at 5%), it keeps the\n"
+    "simpler kind (a linear classifier, whose top words explain each\n"
+    "prediction, before the RBF kernel) and within it the highest mean\n"
+    "macro-F1; then it fits that set-up on every row.  The table and the\n"
+    "choice are printed and stored in the model.  The choice is only as good\n"
+    "as the labelled rows are like the texts to come."
 };
 
 /* The summary of an `evaluate --json` file, checked to describe the same
@@ -71,7 +86,12 @@ static int read_evaluation(const char *path, const struct fit_args *fa, cJSON **
                 cJSON_AddItemToObject(*summary, keep[i], cJSON_Duplicate(it, 1));
         }
         const cJSON *th = cJSON_GetObjectItemCaseSensitive(root, "threshold");
-        const cJSON *cut = th ? cJSON_GetObjectItemCaseSensitive(th, "cutoff") : NULL;
+        /* the cut-off evaluate advised (review_below: the shortest decimal
+         * that keeps the same out-of-fold rows), so the model, predict and
+         * demo print the number evaluate printed; older files: cutoff */
+        const cJSON *cut = th ? cJSON_GetObjectItemCaseSensitive(th, "review_below") : NULL;
+        if (!cut || !cJSON_IsNumber(cut))
+            cut = th ? cJSON_GetObjectItemCaseSensitive(th, "cutoff") : NULL;
         if (th) {
             cJSON *t = cJSON_Duplicate(th, 1);
             cJSON_DeleteItemFromObjectCaseSensitive(t, "curve"); /* the curve stays in the evaluation file */
@@ -115,16 +135,23 @@ int cmd_train(int argc, char **argv)
     const char *out = NULL;
     double review = -1;
     const char *evaluation = NULL;
-    int search = 0;
+    int search = 0, choose = 0, folds_given = 0;
+    const char *fixed = NULL; /* --pool or --classifier, which --choose picks */
+    struct cv_params cp = CV_PARAMS_INIT;
     struct cli_parser p;
     cli_parser_init(&p, cmd, argc, argv);
     int rc = ERR_OK, i;
     const char *val;
     while ((i = cli_next(&p, &val)) >= 0) {
         const char *name = opt_name(cmd, i);
+        if (strcmp(name, "pool") == 0 || strcmp(name, "classifier") == 0)
+            fixed = name;
         int t = data_args_option(&da, cmd, name, val);
         if (t == 0)
             t = fit_args_option(&fa, cmd, name, val);
+        if (t == 0 && (strcmp(name, "folds") == 0 || strcmp(name, "repeats") == 0))
+            t = cv_args_option(&cp, cmd, name, val);
+        folds_given |= strcmp(name, "folds") == 0;
         if (t < 0) {
             cli_parser_release(&p);
             return ERR_INPUT;
@@ -137,6 +164,8 @@ int cmd_train(int argc, char **argv)
             evaluation = val;
         else if (strcmp(name, "search") == 0)
             search = 1;
+        else if (strcmp(name, "choose") == 0)
+            choose = 1;
         else if (strcmp(name, "review-below") == 0 && cli_double(cmd, name, val, 0, 1, &review) < 0) {
             cli_parser_release(&p);
             return ERR_INPUT;
@@ -146,8 +175,13 @@ int cmd_train(int argc, char **argv)
         cli_parser_release(&p);
         return i == CLI_HELP ? ERR_OK : ERR_INPUT;
     }
-    if (p.npos != 1 || !out) {
-        rc = cli_usage(cmd, p.npos != 1 ? "train takes one data file" : "train needs -o MODEL.json");
+    if (p.npos != 1 || !out || (choose && fixed)) {
+        if (p.npos != 1)
+            rc = cli_usage(cmd, "train takes one data file");
+        else if (!out)
+            rc = cli_usage(cmd, "train needs -o MODEL.json");
+        else
+            rc = cli_usage(cmd, "--choose picks the pooling and classifier: leave out --%s", fixed);
         cli_parser_release(&p);
         return rc;
     }
@@ -163,7 +197,7 @@ int cmd_train(int argc, char **argv)
     const char *ins[] = { data, fa.vectors, evaluation };
     if (ofile_check_distinct(out, ins, 3, &e) < 0)
         goto fail;
-    if (evaluation && read_evaluation(evaluation, &fa, &m.evaluation, &review, &e) < 0)
+    if (!choose && evaluation && read_evaluation(evaluation, &fa, &m.evaluation, &review, &e) < 0)
         goto fail;
     struct dataset_options dopt;
     data_args_dataset(&da, 1, &dopt);
@@ -173,6 +207,10 @@ int cmd_train(int argc, char **argv)
     rows_per = xcalloc(c.ds.nlabels ? c.ds.nlabels : 1, sizeof *rows_per);
     if (check_labels(&c, rows_per, &e) < 0)
         goto fail;
+    if (choose && fa.vectors) /* --pool's default needs vectors; the grid uses them when given */
+        fa.spec.feat.pool = POOL_TFIDF;
+    else if (choose)
+        fa.spec.feat.pool = POOL_BOW;
     if (fit_args_open_vectors(&fa, &vs, &e) < 0)
         goto fail;
     if (c.ds.replaced)
@@ -189,6 +227,34 @@ int cmd_train(int argc, char **argv)
     rows = xcalloc(c.ds.n, sizeof *rows);
     for (size_t r = 0; r < c.ds.n; r++)
         rows[r] = r;
+    if (choose) {
+        /* Stratified folds need a row of every label in each: unless told
+         * otherwise, use no more folds than the smallest label has rows
+         * (check_labels made sure it has two). */
+        size_t small = 0;
+        for (size_t k = 1; k < c.ds.nlabels; k++)
+            if (rows_per[k] < rows_per[small])
+                small = k;
+        if (!folds_given && rows_per[small] < (size_t)cp.folds) {
+            cp.folds = (int)rows_per[small];
+            if (!cli_quiet)
+                fprintf(stderr, "note: label '%s' has %zu rows, so the choice cross-validates with %d folds\n",
+                        c.ds.labels[small], rows_per[small], cp.folds);
+        }
+        cp.seed = da.seed;
+        cp.threads = da.threads;
+        struct pipeline_spec pick;
+        if (compare_grid_choose(&c, data, &da, &fa, vs, &cp, cli_quiet ? NULL : strcmp(out, "-") ? stdout : stderr,
+                                &pick, &m.choice, &e) < 0)
+            goto fail;
+        fa.spec = pick;
+        if (!features_pool_needs_vectors(pick.feat.pool)) { /* the model then holds no vectors */
+            vecset_close(vs);
+            vs = NULL;
+        }
+        if (evaluation && read_evaluation(evaluation, &fa, &m.evaluation, &review, &e) < 0)
+            goto fail;
+    }
     if (search) {
         /* The grid and inner folds of evaluate --search, on every row. */
         struct pipeline_spec best;
@@ -203,6 +269,7 @@ int cmd_train(int argc, char **argv)
         }
     }
     struct pipeline_fit_info info;
+    fa.spec.tol = PIPELINE_FINAL_TOL; /* the one fit users keep: near the exact optimum (pipeline.h) */
     m.pipe = pipeline_fit(&fa.spec, &c.docs, c.ds.y, c.ds.nlabels, rows, c.ds.n, vs, &info, &e);
     if (!m.pipe) {
         err_name_file(&e, data);

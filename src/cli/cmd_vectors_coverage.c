@@ -31,7 +31,10 @@ const struct cli_cmd vectors_coverage_info = {
     "Counts every token of the text columns (running tokens) and every\n"
     "distinct token, and how many of each have a vector; then lists the most\n"
     "frequent tokens without one (ties in order of first appearance).  Use the\n"
-    "same text options as when packing the vectors.",
+    "same text options as when packing the vectors.  For a set learned with\n"
+    "--pieces, tokens without a vector of their own but with pieces the set\n"
+    "knows are counted apart ('from pieces'): they get a composed vector, a\n"
+    "guess from spelling; the list then shows only tokens with neither.",
 };
 
 struct miss {
@@ -66,6 +69,7 @@ int vectors_coverage(int argc, char **argv)
     int rc = ERR_INPUT, o;
     vecset *v = NULL;
     vocab *voc = NULL;
+    float *scratch = NULL;
     struct miss *miss = NULL;
     data_args_init(&a);
     cli_parser_init(&p, cmd, argc, argv);
@@ -108,13 +112,19 @@ int vectors_coverage(int argc, char **argv)
             vocab_add(voc, text_token(&t, j));
     }
     size_t nd = vocab_size(voc), nmiss = 0;
-    uint64_t total = vocab_total(voc), found = 0, dfound = 0;
+    uint64_t total = vocab_total(voc), found = 0, dfound = 0, pfound = 0, dpfound = 0;
+    int pieces = vecset_pieces(v) != NULL;
+    scratch = xcalloc(vecset_dim(v), sizeof *scratch);
     miss = xcalloc(nd ? nd : 1, sizeof *miss);
     for (size_t id = 0; id < nd; id++) {
         uint64_t c = vocab_count(voc, (int32_t)id);
-        if (vecset_find(v, vocab_word(voc, (int32_t)id)) >= 0) {
+        const char *w = vocab_word(voc, (int32_t)id);
+        if (vecset_find(v, w) >= 0) {
             found += c;
             dfound++;
+        } else if (pieces && vecset_compose(v, w, strlen(w), scratch) > 0) {
+            pfound += c;
+            dpfound++;
         } else {
             miss[nmiss++] = (struct miss){ (int32_t)id, c };
         }
@@ -126,9 +136,16 @@ int vectors_coverage(int argc, char **argv)
            (unsigned long long)found, pct(found, total));
     printf("%-16s %10zu  with a vector %10llu  (%.1f%%)\n", "distinct tokens", nd, (unsigned long long)dfound,
            pct(dfound, nd));
+    if (pieces) {
+        printf("%-16s %10s  from pieces   %10llu  (%.1f%%)\n", "tokens", "", (unsigned long long)pfound,
+               pct(pfound, total));
+        printf("%-16s %10s  from pieces   %10llu  (%.1f%%)\n", "distinct tokens", "", (unsigned long long)dpfound,
+               pct(dpfound, nd));
+    }
     size_t show = nmiss < (size_t)top ? nmiss : (size_t)top;
     if (show) {
-        printf("\nmost frequent tokens without a vector:\n%8s  %s\n", "count", "token");
+        printf("\nmost frequent tokens without a vector%s:\n%8s  %s\n", pieces ? " (whole or from pieces)" : "",
+               "count", "token");
         for (size_t i = 0; i < show; i++)
             printf("%8llu  %s\n", (unsigned long long)miss[i].count, vocab_word(voc, miss[i].id));
     }
@@ -138,6 +155,7 @@ fail:
     rc = cli_fail(&e);
 out:
     free(miss);
+    free(scratch);
     vocab_free(voc);
     text_tokens_release(&t);
     dataset_release(&d);

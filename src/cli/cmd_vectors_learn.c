@@ -23,7 +23,8 @@
 #include "vecsift/xalloc.h"
 
 enum {
-    O_OUTPUT, O_DIM, O_WINDOW, O_NEG, O_EPOCHS, O_MIN_FREQ, O_SUBSAMPLE, O_LR, O_START, O_TOKENS
+    O_OUTPUT, O_DIM, O_WINDOW, O_NEG, O_EPOCHS, O_MIN_FREQ, O_SUBSAMPLE, O_LR, O_START, O_TOKENS,
+    O_PIECES, O_PIECE_LENGTHS, O_PIECE_BUCKETS
 };
 
 /* Text, CSV and run options are parsed by common.c's data_args, so the
@@ -39,6 +40,9 @@ static const struct cli_opt opts[] = {
     [O_LR] = { "learning-rate", 0, "<r>", "starting step size, decays linearly (default: 0.025)" },
     [O_START] = { "start-from", 0, "<file>", "begin known words at their vectors in this .vecs" },
     [O_TOKENS] = { "write-tokens", 0, "<file>", "also write the corpus as training sees it, one document a line" },
+    [O_PIECES] = { "pieces", 0, NULL, "also learn vectors of character pieces, so misspelt and unseen words get one (default: off)" },
+    [O_PIECE_LENGTHS] = { "piece-lengths", 0, "<a-b>", "with --pieces: piece lengths in characters, 1..16 (default: 3-6)" },
+    [O_PIECE_BUCKETS] = { "piece-buckets", 0, "<n>", "with --pieces: rows pieces are hashed into (default: 2000000)" },
     { "text-col", 0, "<name>", "CSV column holding text; repeat to join several (default: text)" },
     { "encoding", 0, "<name>", "CSV input: utf-8 | windows-1252 | latin-1 (default: utf-8)" },
     { "replace-invalid", 0, NULL, "CSV input: replace invalid UTF-8 by U+FFFD instead of stopping" },
@@ -61,7 +65,15 @@ const struct cli_cmd cmd_vectors_learn_info = {
     "classification, so give both the same text options.  Words are\n"
     "written most frequent first.  With --threads 1 the same --seed gives the\n"
     "same file byte for byte; with more threads updates race (by design, for\n"
-    "speed) and results differ slightly from run to run.",
+    "speed) and results differ slightly from run to run.\n"
+    "\n"
+    "With --pieces each word is learned together with its character pieces\n"
+    "(Bojanowski et al. 2017): the store then also keeps the pieces, and a\n"
+    "word it does not hold, misspelt or new, gets the mean of its pieces'\n"
+    "vectors wherever the store is used.  Training takes about three times as\n"
+    "long; docs/vecs-format.md says why it is off by default.  A composed\n"
+    "vector is a guess from spelling: a misspelt urgent word may still land\n"
+    "near the wrong queue, so keep a person on the review route.",
 };
 
 /* ---- progress ---- */
@@ -122,7 +134,11 @@ int cmd_vectors_learn(int argc, char **argv)
     struct data_args da;
     struct err e = ERR_INIT;
     struct cli_parser ps;
-    const char *out = NULL, *start = NULL, *tokens = NULL;
+    const char *out = NULL, *start = NULL, *tokens = NULL, *piece_opt = NULL;
+    struct pieces_params pp = PIECES_PARAMS_INIT;
+    struct embed_pieces pc = EMBED_PIECES_INIT;
+    float *pvec = NULL;
+    int pieces = 0;
     long min_freq = 5;
     float *vec = NULL;
     unsigned char *known = NULL;
@@ -144,6 +160,26 @@ int cmd_vectors_learn(int argc, char **argv)
         case O_OUTPUT: out = val; break;
         case O_START: start = val; break;
         case O_TOKENS: tokens = val; break;
+        case O_PIECES: pieces = 1; break;
+        case O_PIECE_LENGTHS: {
+            unsigned a, b;
+            char tail;
+            piece_opt = "--piece-lengths";
+            if (sscanf(val, "%u-%u%c", &a, &b, &tail) != 2 || a < 1 || a > b || b > PIECES_LONGEST) {
+                cli_usage(cmd, "--piece-lengths must be two lengths a-b with 1 <= a <= b <= %d, not '%s'",
+                          PIECES_LONGEST, val);
+                goto out;
+            }
+            pp.min_len = a;
+            pp.max_len = b;
+            break;
+        }
+        case O_PIECE_BUCKETS:
+            piece_opt = "--piece-buckets";
+            if (cli_long(cmd, opts[opt].name, val, 1, 4294967295L, &n) < 0)
+                goto out;
+            pp.buckets = (uint32_t)n;
+            break;
         case O_SUBSAMPLE:
             if (cli_double(cmd, opts[opt].name, val, 0, 0.999, &p.subsample) < 0)
                 goto out;
@@ -196,6 +232,10 @@ int cmd_vectors_learn(int argc, char **argv)
         cli_usage(cmd, "no output file given (-o FILE)");
         goto out;
     }
+    if (piece_opt && !pieces) {
+        cli_usage(cmd, "%s only applies with --pieces", piece_opt);
+        goto out;
+    }
     const char *corpus = ps.pos[0];
     const char *inputs[2] = { corpus, start ? start : corpus };
     if (ofile_check_distinct(out, inputs, 2, &e) < 0 ||
@@ -222,15 +262,25 @@ int cmd_vectors_learn(int argc, char **argv)
     struct progress pr = { .last = -1 };
     clock_gettime(CLOCK_MONOTONIC, &pr.start);
     int show = !cli_quiet && isatty(STDERR_FILENO);
-    if (embed_train(&c, &p, vec, known, show ? show_progress : NULL, &pr, &e) < 0)
+    if (pieces) {
+        embed_pieces_build(&pc, &c, &pp);
+        pvec = xcalloc(pc.nrows ? pc.nrows : 1, xmul(p.dim, sizeof *pvec));
+        if (embed_train_pieces(&c, &p, &pc, vec, pvec, known, show ? show_progress : NULL, &pr, &e) < 0)
+            goto fail;
+    } else if (embed_train(&c, &p, vec, known, show ? show_progress : NULL, &pr, &e) < 0) {
         goto fail;
+    }
     if (pr.shown)
         fputc('\n', stderr);
     double secs = since(&pr.start);
     if (tokens && write_tokens(&c, tokens, &e) < 0)
         goto fail;
-    if (vecset_write(out, (const char *const *)c.words, vec, c.nwords, p.dim, &e) < 0)
+    struct vecset_pieces vp = { pp, pc.nrows, pc.bucket, pvec };
+    if (vecset_write_pieces(out, (const char *const *)c.words, vec, c.nwords, p.dim, pieces ? &vp : NULL, &e) < 0)
         goto fail;
+    if (pieces)
+        cli_note("vecsift: %zu piece rows (%u to %u characters, %lu buckets) kept for words not in the set",
+                 pc.nrows, pp.min_len, pp.max_len, (unsigned long)pp.buckets);
     cli_note("vecsift: %zu words x %zu dimensions from %zu documents (%llu words, %llu kept) "
              "in %.1f s -> %s",
              c.nwords, p.dim, c.lines, (unsigned long long)c.tokens_read,
@@ -241,6 +291,8 @@ fail:
     status = cli_fail(&e);
 out:
     vecset_close(from);
+    embed_pieces_release(&pc);
+    free(pvec);
     free(vec);
     free(known);
     embed_corpus_release(&c);

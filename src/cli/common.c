@@ -2,6 +2,8 @@
 #include "common.h"
 
 #include <malloc.h>
+#include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
 
@@ -14,6 +16,15 @@
 int cores(void)
 {
     return cli_default_threads();
+}
+
+void cut_format(double p, char *buf, size_t n)
+{
+    for (int d = 3; d <= 17; d++) {
+        snprintf(buf, n, "%.*f", d, p);
+        if (strtod(buf, NULL) == p)
+            return;
+    }
 }
 
 void data_args_init(struct data_args *a)
@@ -93,7 +104,7 @@ int fit_args_option(struct fit_args *f, const struct cli_cmd *cmd, const char *n
         f->vectors = val;
     } else if (strcmp(name, "pool") == 0) {
         if (features_pool_parse(val, &f->spec.feat.pool) < 0) {
-            cli_usage(cmd, "option '--pool' takes mean, tfidf, sif or bow, not '%s'", val);
+            cli_usage(cmd, "option '--pool' takes one of " FEATURES_POOL_NAMES ", not '%s'", val);
             return -1;
         }
     } else if (strcmp(name, "classifier") == 0) {
@@ -203,7 +214,7 @@ int cv_command_option(struct data_args *da, struct fit_args *fa, struct cv_param
 int fit_args_open_vectors(const struct fit_args *f, struct vecset **vs, struct err *e)
 {
     *vs = NULL;
-    if (f->spec.feat.pool == POOL_BOW)
+    if (!features_pool_needs_vectors(f->spec.feat.pool))
         return 0;
     if (!f->vectors) {
         err_set(e, NULL, 0, "pooling '%s' needs word vectors", features_pool_name(f->spec.feat.pool));

@@ -48,7 +48,8 @@ struct data_args {
 
 #define PIPELINE_OPTIONS \
     { "vectors", 'v', "<file>", "packed vector set (.vecs); needed unless --pool bow" }, \
-    { "pool", 'p', "<how>", "mean | tfidf | sif | bow (default: tfidf; bow needs no vectors)" }, \
+    { "pool", 'p', "<how>", "mean | tfidf | sif | bow | bow+mean | bow+tfidf | bow+sif\n" \
+      "                              (default: tfidf; bow needs no vectors; bow+P: both side by side)" }, \
     { "classifier", 'c', "<name>", "logreg | svm-linear | svm-rbf (default: logreg)" }, \
     { "C", 'C', "<x>", "inverse regularisation strength, > 0 (default: 1)" }, \
     { "gamma", 0, "<x>", "svm-rbf kernel width (default: 1 / (dimensions * variance))" }, \
@@ -106,5 +107,10 @@ static inline const char *opt_name(const struct cli_cmd *cmd, int i)
 
 /* Online cores, at least 1. */
 int cores(void);
+
+/* A confidence cut-off as every command prints it: the shortest decimal
+ * with at least three places that reads back as 'p' (evaluate's advice
+ * 0.884 stays "0.884", 0.9 is "0.900", 0.8841 is "0.8841"). */
+void cut_format(double p, char *buf, size_t n);
 
 #endif

@@ -18,6 +18,9 @@ void evaluate_describe(const struct fit_args *fa, char *buf, size_t n)
     const struct pipeline_spec *s = &fa->spec;
     if (s->feat.pool == POOL_BOW)
         snprintf(buf, n, "%s on a tf-idf bag of words", pipeline_classifier_name(s->clf));
+    else if (features_pool_combined(s->feat.pool))
+        snprintf(buf, n, "%s on a tf-idf bag of words beside %s-pooled vectors (%s)", pipeline_classifier_name(s->clf),
+                 features_pool_name(features_pool_dense(s->feat.pool)), fa->vectors ? fa->vectors : "?");
     else
         snprintf(buf, n, "%s on %s-pooled vectors (%s)", pipeline_classifier_name(s->clf),
                  features_pool_name(s->feat.pool), fa->vectors ? fa->vectors : "?");

@@ -37,6 +37,7 @@ static const struct cmd_entry cmds[] = {
     { &cmd_features_info, cmd_features },
     { &cmd_map_info, cmd_map },
     { &cmd_predict_info, cmd_predict },
+    { &cmd_serve_info, cmd_serve },
     { &cmd_suggest_info, cmd_suggest },
     { &cmd_train_info, cmd_train },
     { &cmd_vectors_info, cmd_vectors },

@@ -16,7 +16,7 @@ pipeline follows features.h: pooled vectors (mean; tf-idf weighted with
 smoothed idf from the training rows; SIF weights a/(a + p(w)) with a = 1e-3
 and the first singular vector of the training rows removed), standardised,
 then LogisticRegression(C=1, lbfgs) or SVC(rbf, C=1, gamma='scale',
-probability=True); bag of words: TfidfVectorizer(ngram_range=(1, 2)), which
+probability=True); bag of words: TfidfVectorizer(min_df=2), which
 is what our bow does.  Tokens: lower-cased runs of letters and digits (a
 simplification of our tokeniser).  Scores are printed side by side as a
 sanity check; they need not be equal (tokenisers and solvers differ).
@@ -150,7 +150,7 @@ def grid_cell(texts, y, folds, C, mat, pool, clf):
             tr = np.flatnonzero(fold != f)
             if pool == "bow":
                 tv = TfidfVectorizer(tokenizer=svdvec.tokens, lowercase=False, token_pattern=None,
-                                     ngram_range=(1, 2))
+                                     min_df=2)
                 Xtr = tv.fit_transform([texts[i] for i in tr])
                 Xte = tv.transform([texts[i] for i in te])
             else:

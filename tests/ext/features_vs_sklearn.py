@@ -7,7 +7,8 @@ by tests/tools/tokens_dump, so the reference sees exactly what we tokenised.
 
 1. Sparse bag of words (`vecsift features --pool bow --term-names`, with and
    without --sublinear-tf) against scikit-learn's TfidfVectorizer(tokenizer =
-   identity on our tokens, lowercase=False, smooth_idf=True, ngram_range=(1, 2),
+   identity on our tokens, lowercase=False, smooth_idf=True, min_df=2 (our
+   default since issue 14: words of one training row are dropped), unigrams,
    norm='l2', sublinear_tf the same): same terms, every weight within 1e-9.
 2. Pooled word vectors (`--pool mean|tfidf|sif --no-scale`, and tfidf scaled)
    against numpy on the same vectors (seeded random, packed with
@@ -31,6 +32,7 @@ from sklearn.feature_extraction.text import TfidfVectorizer
 from sklearn.preprocessing import StandardScaler
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+import pooled_ref  # noqa: E402
 import sotu_passages  # noqa: E402
 from vs_common import SRC, VECSIFT, Tally, identity, read_features, run, tool  # noqa: E402
 
@@ -51,7 +53,7 @@ def check_bow(tag, data, cols, tmp):
             "--pool", "bow", "--term-names", "-q", "-o", out, *(["--sublinear-tf"] if sub else []))
         terms, _, ours = read_features(out)
         ref = TfidfVectorizer(tokenizer=identity, preprocessor=identity, token_pattern=None, lowercase=False,
-                              smooth_idf=True, ngram_range=(1, 2), norm="l2", sublinear_tf=sub)
+                              smooth_idf=True, min_df=2, norm="l2", sublinear_tf=sub)
         M = ref.fit_transform(toks).toarray()
         vocab = ref.vocabulary_
         same_terms = sorted(terms) == sorted(vocab) and len(terms) == len(set(terms))
@@ -67,50 +69,10 @@ def check_bow(tag, data, cols, tmp):
 
 def check_pooled(tag, data, cols, tmp):
     toks = tokens_of(data, cols)
-    words = sorted({t for doc in toks for t in doc})
-    rng = np.random.default_rng(11)
     E = 16
-    has = rng.random(len(words)) < 0.85     # about 15% of words get no vector
-    # k/1024 is exact in float32 and in a short decimal: the packed store
-    # and numpy hold the same numbers.
-    V = rng.integers(-2048, 2048, size=(len(words), E)) / 1024.0
-    vec = {}
-    txt = os.path.join(tmp, "v.txt")
-    with open(txt, "w", encoding="utf-8") as fp:
-        for w, h, v in zip(words, has, V):
-            if h:
-                vec[w] = v
-                fp.write(w + " " + " ".join(repr(float(x)) for x in v) + "\n")
-    vecs = os.path.join(tmp, "v.vecs")
-    run(VECSIFT, "vectors", "pack", txt, "-o", vecs, "-q")
+    vec, vecs = pooled_ref.pack_random_vectors(toks, tmp, 11, E)  # about 15% of words get no vector
     textargs = [a for c in cols for a in ("--text-col", c)]
-    n = len(toks)
-    # sklearn idf on unigrams of our tokens (all training rows)
-    tv = TfidfVectorizer(tokenizer=identity, preprocessor=identity, token_pattern=None, lowercase=False,
-                         smooth_idf=True, norm=None)
-    tv.fit(toks)
-    idf = dict(zip(tv.get_feature_names_out(), tv.idf_))
-    total = sum(len(d) for d in toks)
-    count = {}
-    for d in toks:
-        for t in d:
-            count[t] = count.get(t, 0) + 1
-    a = 1e-3
-    want = {"mean": np.zeros((n, E)), "tfidf": np.zeros((n, E)), "sif": np.zeros((n, E))}
-    for i, d in enumerate(toks):
-        tf = {}
-        for t in d:
-            tf[t] = tf.get(t, 0) + 1
-        kept = [t for t in tf if t in vec]
-        if not kept:
-            continue
-        occ = sum(tf[t] for t in kept)
-        want["mean"][i] = sum(tf[t] * vec[t] for t in kept) / occ
-        wt = {t: tf[t] * idf[t] for t in kept}
-        want["tfidf"][i] = sum(wt[t] * vec[t] for t in kept) / sum(wt.values())
-        want["sif"][i] = sum(tf[t] * a / (a + count[t] / total) * vec[t] for t in kept) / occ
-    u = np.linalg.svd(want["sif"], full_matrices=False)[2][0]
-    want["sif"] = want["sif"] - np.outer(want["sif"] @ u, u)
+    want = pooled_ref.pooled_rows(toks, vec, E)
     for pool in ("mean", "tfidf", "sif"):
         out = os.path.join(tmp, pool + ".csv")
         run(VECSIFT, "features", data, *textargs, "--label-col", "era" if "sotu" in tag else "queue",

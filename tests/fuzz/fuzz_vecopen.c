@@ -1,10 +1,12 @@
 /* fuzz_vecopen.c -- libFuzzer harness for opening a packed store
  * (src/vecset.c): map the input as a .vecs file; when it opens, touch every
  * row, word and norm, look each word up, verify the fingerprint and ask for
- * neighbours.  A lying header must be refused at open, never read past the
- * mapping. */
+ * neighbours; with pieces (format 1.1), touch every piece row, find each
+ * bucket and compose vectors for words the store lacks.  A lying header
+ * must be refused at open, never read past the mapping. */
 #include "fuzz_common.h"
 
+#include <stdlib.h>
 #include <string.h>
 
 #include "vecsift/err.h"
@@ -29,6 +31,19 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
             (void)vecset_find(v, vecset_word(v, i));
         }
         (void)vecset_find(v, "account");
+        for (size_t i = 0; i < vecset_piece_count(v); i++) {
+            const float *r = vecset_piece_row(v, i);
+            for (size_t j = 0; j < d; j++)
+                sink += r[j];
+            (void)vecset_piece_find(v, vecset_piece_bucket(v, i));
+        }
+        if (vecset_pieces(v)) {
+            float *q = calloc(d, sizeof *q);
+            static const char *const probe[] = { "acount", "refnud", "\xc3\xa9t\xc3\xa9", "x", "" };
+            for (size_t k = 0; q && k < sizeof probe / sizeof probe[0]; k++)
+                sink += (double)vecset_compose(v, probe[k], strlen(probe[k]), q);
+            free(q);
+        }
         (void)vecset_verify(v, &e);
         if (n > 0) {
             struct vecset_hit hits[3];
