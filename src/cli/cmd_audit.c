@@ -248,6 +248,7 @@ int cmd_audit(int argc, char **argv)
     data_args_dataset(&a.da, 1, &dopt);
     if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
     if (c.ds.nlabels < 2) {
         err_set(&e, data, 0, "an audit needs at least 2 labels, the data has %zu", c.ds.nlabels);
         goto fail;
