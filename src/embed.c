@@ -417,14 +417,39 @@ struct worker {
     pthread_t tid;
 };
 
-/* The sigmoid is computed exactly with expf rather than read from a table:
- * each (word, context) pair costs (K + 1) x 3D multiply-adds, against which
- * K + 1 expf calls are a few per cent at D = 100, and exact values avoid
- * the table's quantisation and its hard cut-off (gradient set to zero or
- * one beyond |x| = 6). */
+/* The sigmoid is computed rather than read from a table: each (word,
+ * context) pair costs (K + 1) x 3D multiply-adds, against which K + 1
+ * exponentials are a few per cent at D = 100, and computed values avoid the
+ * table's quantisation and its hard cut-off (gradient set to zero or one
+ * beyond |x| = 6).  Not with expf: glibc picks an FMA variant of it where
+ * the CPU has one, which need not round the same, and one-thread runs must
+ * give the same bits on every CPU.  Instead plain IEEE float arithmetic in
+ * a fixed order (common practice, the method of Cody and Waite 1980,
+ * "Software Manual for the Elementary Functions"): e^t = 2^n e^r with
+ * n = round(t / ln 2), r = t - n ln 2 in two parts (ln 2's high part has
+ * few enough bits that n times it is exact), e^r by its Taylor series to
+ * r^7 (|r| <= ln 2 / 2: truncation error under 1e-8 relative), 2^n put in
+ * the exponent bits.  t is clamped to [-87, 87], inside float's range; the
+ * sigmoid there is 0 or 1 to float precision anyway. */
 static inline float sigmoid(float x)
 {
-    return 1.0f / (1.0f + expf(-x));
+    float t = -x;
+    t = t < 87.0f ? t : 87.0f; /* NaN (a run diverged) too: no undefined conversion below */
+    t = t > -87.0f ? t : -87.0f;
+    /* round to nearest by adding and taking away 1.5 x 2^23 (no libm call) */
+    float n = (t * 1.44269504f + 12582912.0f) - 12582912.0f;
+    float r = (t - n * 0.693145751953125f) - n * 1.42860677e-06f;
+    float p = 1.0f + r * (1.0f + r * (0.5f + r * (1.0f / 6 + r * (1.0f / 24 + r * (1.0f / 120 +
+              r * (1.0f / 720 + r * (1.0f / 5040)))))));
+    uint32_t bits = (uint32_t)((int32_t)n + 127) << 23;
+    float two_n;
+    memcpy(&two_n, &bits, sizeof two_n);
+    return 1.0f / (1.0f + p * two_n);
+}
+
+float embed_sigmoid(float x)
+{
+    return sigmoid(x);
 }
 
 /* Hand-blocked by four floats with GCC/Clang vector extensions: the build

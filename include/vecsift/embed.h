@@ -141,6 +141,10 @@ int embed_train_pieces(const struct embed_corpus *c, const struct embed_params *
  * released code; embed.c says why).  1 when t is 0. */
 double embed_keep_prob(uint64_t count, uint64_t total, double t);
 
+/* 1 / (1 + e^-x) as training computes it: plain float arithmetic, the same
+ * bits on every CPU (embed.c says how); within a few ulp of the true value. */
+float embed_sigmoid(float x);
+
 /* The noise distribution: P(w) proportional to count(w)^power (the paper
  * uses 3/4), sampled in O(1) with Walker's alias method. */
 typedef struct embed_noise embed_noise;

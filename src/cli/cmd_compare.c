@@ -207,6 +207,7 @@ int cmd_compare(int argc, char **argv)
         goto fail;
     if (common_load_labelled(&c, data, da, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
 
     /* The set-ups: bow with each classifier, then vectors x pool x classifier. */
     rows = compare_grid_rows(a.vectors.path, a.vectors.n, a.pools, a.clfs, &vidx, &n);

@@ -127,6 +127,7 @@ int cmd_curve(int argc, char **argv)
         goto fail;
     if (common_load_labelled(&c, data, &cv->da, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
 
     pt = xcalloc(a.sizes.n, sizeof *pt);
     int tiny = 0, unconverged = 0;

@@ -115,6 +115,7 @@ int cmd_evaluate(int argc, char **argv)
     }
     if (common_load_labelled(&c, data, &cv->da, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
     if (common_open_vectors(&cv->fa, &vs, &e) < 0)
         goto fail;
     if (!cli_quiet) {

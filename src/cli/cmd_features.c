@@ -92,6 +92,7 @@ int cmd_features(int argc, char **argv)
     int labelled = 0;
     if (common_load_maybe_labelled(&c, data, da, asked_label, &labelled, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
     rows = common_all_rows(&c);
     if (model_path) {
         f = pipeline_featurizer(m.pipe);

@@ -94,6 +94,7 @@ int cmd_map(int argc, char **argv)
     int labelled = 0;
     if (common_load_maybe_labelled(&c, data, &a.da, a.da.label_col, &labelled, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
     if (c.ds.n < 4) {
         err_set(&e, data, 0, "a map needs at least 4 rows, the data has %zu", c.ds.n);
         goto fail;

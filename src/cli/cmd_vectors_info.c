@@ -13,7 +13,7 @@ struct info_args {
 };
 
 static const struct cli_opt info_opts[] = {
-    CLI_OPT_FLAG("verify", 0, "read every row and check the fingerprint (default: header only)", struct info_args,
+    CLI_OPT_FLAG("verify", 0, "read every row: check values, stored lengths and the fingerprint (default: header only)", struct info_args,
                  verify),
     CLI_OPT_END,
 };

@@ -64,7 +64,7 @@ static const struct cli_opt opts[] = {
     COMMON_OPT_MASK_NUMBERS("replace numbers by a placeholder token (default: keep them)", A, da),
     COMMON_OPT_KEEP_EMAILS("keep e-mail addresses and URLs (default: masked: personal data)", A, da),
     COMMON_OPT_SEED("random seed (default: 1)", A, da),
-    COMMON_OPT_THREADS("training threads (default: 1, which repeats exactly)", A, da),
+    COMMON_OPT_THREADS("training threads, 1 to 256 (default: 1, which repeats exactly)", A, da),
     CLI_OPT_QUIET("no progress or summary on stderr"),
     CLI_OPT_END,
 };

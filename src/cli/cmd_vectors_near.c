@@ -10,14 +10,15 @@
 #include "vecsift/xalloc.h"
 
 struct near_args {
-    long k, threads;
-    int keep_accents;
+    long k;
+    int threads, keep_accents;
 };
 
 #define A struct near_args
 static const struct cli_opt near_opts[] = {
     CLI_OPT_LONG("count", 'k', "<n>", "how many neighbours (default: 10)", A, k, 1, 100000),
-    CLI_OPT_LONG("threads", 0, "<n>", "scanning threads (default: processors online)", A, threads, 1, 64),
+    CLI_OPT_INT("threads", 0, "<n>", "scanning threads, 1 to 256 (default: processors online)", A, threads, 1,
+                CLI_MAX_THREADS),
     CLI_OPT_FLAG("keep-accents", 0, "the store was packed with --keep-accents", A, keep_accents),
     CLI_OPT_END,
 };
@@ -83,6 +84,8 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
     for (size_t i = 0; i < nw; i++) {
         const float *r = vecset_row(v, rows[i]);
         float n = vecset_norm(v, rows[i]);
+        if (vecset_check_row(v, rows[i], &e) < 0)
+            goto fail; /* damage, not a zero vector */
         if (!(n > 0)) {
             err_set(&e, vecset_path(v), 0, "'%s' has the zero vector: no direction to compare", p.pos[1 + i]);
             goto fail;
@@ -92,8 +95,10 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
             q[j] += (float)(s * r[j]);
     }
     hits = xcalloc((size_t)a.k, sizeof *hits);
-    size_t n = vecset_nearest(v, q, (size_t)a.k, rows, nw, (int)a.threads, hits);
-    vectors_print_hits(v, hits, n);
+    long n = vecset_nearest(v, q, (size_t)a.k, rows, nw, a.threads, hits, &e);
+    if (n < 0)
+        goto fail;
+    vectors_print_hits(v, hits, (size_t)n);
     rc = ERR_OK;
     goto out;
 fail:

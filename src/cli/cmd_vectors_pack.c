@@ -15,13 +15,14 @@
 struct pack_args {
     struct common_data da; /* its text options only */
     const char *out;
-    long threads;
+    int threads;
 };
 
 #define A struct pack_args
 static const struct cli_opt pack_opts[] = {
     CLI_OPT_STR("output", 'o', "<file>", "packed store to write (required)", A, out),
-    CLI_OPT_LONG("threads", 0, "<n>", "parsing threads (default: processors online)", A, threads, 1, 64),
+    CLI_OPT_INT("threads", 0, "<n>", "parsing threads, 1 to 256 (default: processors online)", A, threads, 1,
+                CLI_MAX_THREADS),
     COMMON_OPT_KEEP_ACCENTS("keep accents on Latin letters (default: strip them, as text is)", A, da),
     CLI_OPT_QUIET("no summary on stderr"),
     COMMON_OPT_MASK_NUMBERS("as the data will be read: number tokens become a placeholder (default: kept)", A, da),
@@ -57,7 +58,7 @@ int vectors_pack(int argc, char **argv)
         return cli_usage(cmd, "'vectors pack' needs -o <file> for the packed store");
     const char *out = a.out;
     struct vecset_pack_stats st;
-    if (ofile_check_distinct(out, &in, 1, &e) < 0 || vecset_pack_text(in, out, &a.da.text, (int)a.threads, &st, &e) < 0)
+    if (ofile_check_distinct(out, &in, 1, &e) < 0 || vecset_pack_text(in, out, &a.da.text, a.threads, &st, &e) < 0)
         return cli_fail(&e);
     vecset *v = vecset_open(out, &e);
     if (!v)

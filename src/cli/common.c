@@ -16,8 +16,7 @@
 
 int common_cores(void)
 {
-    long n = sysconf(_SC_NPROCESSORS_ONLN);
-    return n < 1 ? 1 : n > 256 ? 256 : (int)n;
+    return cli_default_threads();
 }
 
 void common_cut_format(double p, char *buf, size_t n)

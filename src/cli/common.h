@@ -81,7 +81,7 @@ cli_take_fn common_take_class_weight; /* int: 1 balanced, 0 none */
     CLI_OPT_FN("keep-emails", 0, NULL, HELP, T, D.text, struct text_options, common_take_keep_emails)
 #define COMMON_OPT_SEED(HELP, T, D) \
     CLI_OPT_U64("seed", 's', "<n>", HELP, T, D.seed, 0, 0x7fffffffffffffffL)
-#define COMMON_OPT_THREADS(HELP, T, D) CLI_OPT_INT("threads", 't', "<n>", HELP, T, D.threads, 1, 256)
+#define COMMON_OPT_THREADS(HELP, T, D) CLI_OPT_INT("threads", 't', "<n>", HELP, T, D.threads, 1, CLI_MAX_THREADS)
 #define COMMON_OPT_VECTORS(HELP, T, F) CLI_OPT_STR("vectors", 'v', "<file>", HELP, T, F.vectors)
 #define COMMON_OPT_POOL(HELP, T, F) \
     CLI_OPT_FN("pool", 'p', "<how>", HELP, T, F.spec.feat.pool, enum features_pool, common_take_pool)
@@ -112,7 +112,7 @@ cli_take_fn common_take_class_weight; /* int: 1 balanced, 0 none */
 
 #define COMMON_RUN_OPTIONS(T, D) \
     COMMON_OPT_SEED("seed for every random choice (default: 1)", T, D), \
-    COMMON_OPT_THREADS("worker threads (default: all cores)", T, D), \
+    COMMON_OPT_THREADS("worker threads, 1 to 256 (default: all cores)", T, D), \
     CLI_OPT_QUIET("no progress or notes on stderr")
 
 #define COMMON_FIT_OPTIONS(T, F) \
@@ -177,7 +177,7 @@ int *common_cv_groups(struct cv_params *cp, const struct corpus *c);
 /* Open the vector set when the pooling needs one (error when missing). */
 int common_open_vectors(const struct common_fit *f, struct vecset **vs, struct err *e);
 
-/* Online cores, 1 to 256. */
+/* Online cores, 1 to CLI_MAX_THREADS (cli_default_threads). */
 int common_cores(void);
 
 /* A confidence cut-off as every command prints it: the shortest decimal
