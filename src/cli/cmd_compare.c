@@ -27,7 +27,8 @@ static const struct cli_opt opts[] = {
     { "pool", 'p', "<list>", "comma-separated: mean, tfidf, sif, bow, bow+mean, bow+tfidf,\n"
       "                              bow+sif (default: tfidf and bow+tfidf; bow is always added)" },
     { "classifier", 'c', "<list>", "comma-separated: logreg, svm-linear, svm-rbf (default: logreg)" },
-    { "C", 'C', "<x>", "inverse regularisation strength, > 0, for every set-up (default: 1)" },
+    { "C", 'C', "<x>", "inverse regularisation strength, > 0, for every set-up\n"
+      "                              (" PIPELINE_C_HELP ")" },
     { "gamma", 0, "<x>", "svm-rbf kernel width (default: 1 / (dimensions * variance))" },
     { "class-weight", 0, "<how>", "none | balanced: weight labels by n / (k * n_label) (default: none)" },
     { "sublinear-tf", 0, NULL, "use 1 + ln(tf) instead of raw term counts" },

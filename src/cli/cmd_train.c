@@ -304,8 +304,9 @@ int cmd_train(int argc, char **argv)
         goto fail;
 
     if (!cli_quiet) {
-        fprintf(stderr, "trained %s on %zu rows, %zu labels, pooling %s", pipeline_classifier_name(fa.spec.clf),
-                c.ds.n, m.k, features_pool_name(fa.spec.feat.pool));
+        fprintf(stderr, "trained %s (C %g) on %zu rows, %zu labels, pooling %s",
+                pipeline_classifier_name(fa.spec.clf), pipeline_spec(m.pipe)->C, c.ds.n, m.k,
+                features_pool_name(fa.spec.feat.pool));
         if (info.stats.tokens)
             fprintf(stderr, "; %.1f%% of tokens %s", 100.0 * (double)info.stats.with_vector / (double)info.stats.tokens,
                     vs ? "had a vector" : "were in the vocabulary");

@@ -51,7 +51,8 @@ struct data_args {
     { "pool", 'p', "<how>", "mean | tfidf | sif | bow | bow+mean | bow+tfidf | bow+sif\n" \
       "                              (default: tfidf; bow needs no vectors; bow+P: both side by side)" }, \
     { "classifier", 'c', "<name>", "logreg | svm-linear | svm-rbf (default: logreg)" }, \
-    { "C", 'C', "<x>", "inverse regularisation strength, > 0 (default: 1)" }, \
+    { "C", 'C', "<x>", "inverse regularisation strength, > 0\n" \
+      "                              (" PIPELINE_C_HELP ")" }, \
     { "gamma", 0, "<x>", "svm-rbf kernel width (default: 1 / (dimensions * variance))" }, \
     { "class-weight", 0, "<how>", "none | balanced: weight labels by n / (k * n_label) (default: none)" }, \
     { "sublinear-tf", 0, NULL, "use 1 + ln(tf) instead of raw term counts" }, \

@@ -60,7 +60,8 @@ run "$VECSIFT" audit "$D/keep.csv" --pool bow -o "$D/keep.csv"
 expect_status 2; if cmp -s "$D/data.csv" "$D/keep.csv"; then ok; else bad_here "input overwritten"; fi
 
 # ---- suggest ----
-run "$VECSIFT" train "$D/data.csv" --pool bow -o "$D/model.json"
+# --C 1: the margins this pool was written for (bow defaults to a weaker penalty)
+run "$VECSIFT" train "$D/data.csv" --pool bow --C 1 -o "$D/model.json"
 expect_status 0
 {
   echo "id,text,note"
