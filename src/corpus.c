@@ -32,6 +32,9 @@ int corpus_load(struct corpus *c, const char *path, const struct dataset_options
             ptr[j] = text_token(&tt, j);
         tokdocs_add(&c->docs, ptr, tt.n);
         c->empty_docs += tt.n == 0;
+        if (tt.too_long > c->too_long && !c->too_long_line)
+            c->too_long_line = c->ds.line[i];
+        c->too_long = tt.too_long;
     }
     free(ptr);
     text_tokens_release(&tt);

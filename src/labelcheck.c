@@ -1,5 +1,5 @@
 /* labelcheck.c -- confident-learning label audit: thresholds, confident
- * joint, suspects ranked by normalized margin.  The method and its citation
+ * joint, suspects ranked by normalised margin or self-confidence.  The method and its citation
  * are in labelcheck.h.
  */
 #include "vecsift/labelcheck.h"
@@ -19,7 +19,86 @@ static int by_score_desc(const void *a, const void *b)
     return (x->row > y->row) - (x->row < y->row);
 }
 
-int labelcheck_run(const double *P, const int *given, size_t N, int K,
+/* The ranking key of row 'p' given label 'g' (labelcheck.h, step 4). */
+static double rank_score(const double *p, int g, int K, enum labelcheck_rank rank)
+{
+    if (rank == LABELCHECK_BY_CONFIDENCE)
+        return 1.0 - p[g];
+    double other = -1.0;
+    for (int j = 0; j < K; j++)
+        if (j != g && p[j] > other)
+            other = p[j];
+    return other - p[g];
+}
+
+/* A row given i and its P[j] - P[i]: sorted largest first, ties by row. */
+struct gap_row {
+    double gap;
+    size_t row;
+};
+
+static int by_gap_desc(const void *a, const void *b)
+{
+    const struct gap_row *x = a, *y = b;
+    if (x->gap != y->gap)
+        return x->gap > y->gap ? -1 : 1;
+    return (x->row > y->row) - (x->row < y->row);
+}
+
+/* Prune by noise rate (the paper's section 3.3): calibrate the confident
+ * joint so that each row sums to the number of rows given that label,
+ * normalise it to the joint distribution Q, and for every off-diagonal cell
+ * (i, j) flag the floor(N Q[i][j] + 0.5) rows given i with the largest
+ * P[j] - P[i].  'pick' (N) gets the suggested label of each flagged row
+ * (the cell's j of highest P[j] when several cells flag it), -1 elsewhere. */
+static void noise_rate_pick(const double *P, const int *given, size_t N, int K, const size_t *joint,
+                            const size_t *cnt, int *pick)
+{
+    size_t KK = (size_t)K * (size_t)K;
+    double *Q = xcalloc(KK, sizeof *Q), total = 0;
+    for (int i = 0; i < K; i++) {
+        size_t row = 0;
+        for (int j = 0; j < K; j++)
+            row += joint[(size_t)i * K + j];
+        for (int j = 0; j < K && row; j++)
+            Q[(size_t)i * K + j] = (double)joint[(size_t)i * K + j] / (double)row * (double)cnt[i];
+    }
+    for (size_t t = 0; t < KK; t++)
+        total += Q[t];
+    size_t *rows = xmalloc((N ? N : 1) * sizeof *rows);
+    struct gap_row *gr = xmalloc((N ? N : 1) * sizeof *gr);
+    for (size_t r = 0; r < N; r++)
+        pick[r] = -1;
+    for (int i = 0; i < K && total > 0; i++) {
+        size_t n = 0;
+        for (size_t r = 0; r < N; r++)
+            if (given[r] == i)
+                rows[n++] = r;
+        for (int j = 0; j < K; j++) {
+            if (j == i)
+                continue;
+            double want = floor((double)N * (Q[(size_t)i * K + j] / total) + 0.5);
+            size_t m = want < (double)n ? (size_t)want : n;
+            if (m == 0)
+                continue;
+            for (size_t t = 0; t < n; t++) {
+                const double *p = P + rows[t] * (size_t)K;
+                gr[t] = (struct gap_row){ p[j] - p[i], rows[t] };
+            }
+            qsort(gr, n, sizeof *gr, by_gap_desc);
+            for (size_t t = 0; t < m; t++) {
+                const double *p = P + gr[t].row * (size_t)K;
+                if (pick[gr[t].row] < 0 || p[j] > p[pick[gr[t].row]])
+                    pick[gr[t].row] = j;
+            }
+        }
+    }
+    free(gr);
+    free(rows);
+    free(Q);
+}
+
+int labelcheck_run(const double *P, const int *given, size_t N, int K, const struct labelcheck_opts *opt,
                    struct labelcheck_result *out, struct err *e)
 {
     *out = (struct labelcheck_result)LABELCHECK_RESULT_INIT;
@@ -47,24 +126,30 @@ int labelcheck_run(const double *P, const int *given, size_t N, int K,
     for (int j = 0; j < K; j++)
         out->threshold[j] = cnt[j] ? sum[j] / (double)cnt[j] : NAN;
 
-    size_t cap = 0;
+    int *pick = xmalloc((N ? N : 1) * sizeof *pick);
     for (size_t i = 0; i < N; i++) {
         const double *p = P + i * (size_t)K;
         int best = -1;
         for (int j = 0; j < K; j++)
             if (cnt[j] && p[j] >= out->threshold[j] && (best < 0 || p[j] > p[best]))
                 best = j;
-        if (best < 0)
-            continue;
-        out->joint[(size_t)given[i] * K + best]++;
-        if (best == given[i])
+        pick[i] = best < 0 || best == given[i] ? -1 : best;
+        if (best >= 0)
+            out->joint[(size_t)given[i] * K + best]++;
+    }
+    if (opt->select == LABELCHECK_NOISE_RATE)
+        noise_rate_pick(P, given, N, K, out->joint, cnt, pick);
+    size_t cap = 0;
+    for (size_t i = 0; i < N; i++) {
+        if (pick[i] < 0)
             continue;
         out->suspect = xgrow(out->suspect, &cap, out->n_suspects + 1, sizeof *out->suspect);
         out->suspect[out->n_suspects++] = (struct labelcheck_suspect){
-            i, given[i], best, p[best] - p[given[i]] };
+            i, given[i], pick[i], rank_score(P + i * (size_t)K, given[i], K, opt->rank) };
     }
     if (out->n_suspects > 1)
         qsort(out->suspect, out->n_suspects, sizeof *out->suspect, by_score_desc);
+    free(pick);
     free(cnt);
     free(sum);
     return 0;

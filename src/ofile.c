@@ -15,8 +15,9 @@
 
 struct ofile {
     char *path;     /* destination */
-    char *tmp;      /* temporary name, NULL for stdout */
+    char *tmp;      /* temporary name, NULL for stdout or a device */
     FILE *fp;
+    int direct;     /* writing straight to a device, FIFO or socket (not stdout) */
     int slot;       /* index in open_tmp[], -1 for stdout */
 };
 
@@ -81,6 +82,29 @@ ofile *ofile_open(const char *path, struct err *e)
         o->fp = stdout;
         return o;
     }
+    /* An existing file that is not a regular one (/dev/full, /dev/stdout, a
+     * FIFO, a terminal) is written in place: there is nothing to rename, and
+     * renaming over it would replace the device node with a plain file. */
+    struct stat st;
+    int exists = stat(path, &st) == 0;
+    if (exists && S_ISDIR(st.st_mode)) {
+        err_set(e, path, 0, "output path names a directory");
+        goto fail;
+    }
+    if (exists && !S_ISREG(st.st_mode)) {
+        int dfd = open(path, O_WRONLY | O_CLOEXEC);
+        if (dfd < 0) {
+            err_io(e, path, 0, "cannot open output: %s", strerror(errno));
+            goto fail;
+        }
+        if (!(o->fp = fdopen(dfd, "w"))) {
+            close(dfd);
+            err_io(e, path, 0, "cannot open output: %s", strerror(errno));
+            goto fail;
+        }
+        o->direct = 1;
+        return o;
+    }
     const char *slash = strrchr(path, '/');
     size_t dirlen = slash ? (size_t)(slash - path) + 1 : 0;
     const char *base = slash ? slash + 1 : path;
@@ -133,21 +157,39 @@ static void destroy(ofile *o)
     free(o);
 }
 
+/* Flush and check the stream: 0, or -1 with 'e' naming 'name'.  glibc keeps
+ * what a failed write could not hand over and retries it on fflush, so errno
+ * then says why (ENOSPC, EPIPE, EFBIG); an error seen earlier with nothing
+ * left to retry is reported as EIO. */
+static int flush_checked(FILE *fp, const char *name, struct err *e)
+{
+    errno = 0;
+    if (fflush(fp) != 0)
+        return err_io(e, name, 0, "write failed: %s", strerror(errno ? errno : EIO));
+    if (ferror(fp))
+        return err_io(e, name, 0, "write failed: %s", strerror(EIO));
+    return 0;
+}
+
 int ofile_commit(ofile *o, struct err *e)
 {
     int rc = 0;
-    if (!o->tmp) { /* stdout: the CLI checks fclose(stdout) at exit */
-        if (fflush(o->fp) != 0 || ferror(o->fp))
-            rc = err_io(e, "<stdout>", 0, "write failed: %s", strerror(errno ? errno : EIO));
+    if (!o->tmp && !o->direct) { /* stdout: main.c closes it at exit and checks again */
+        rc = flush_checked(o->fp, "<stdout>", e);
         destroy(o);
         return rc;
     }
-    errno = 0;
-    if (fflush(o->fp) != 0 || ferror(o->fp)) {
-        rc = err_io(e, o->path, 0, "write failed: %s", strerror(errno ? errno : EIO));
-    } else if (fsync(fileno(o->fp)) != 0 && errno != EINVAL && errno != EROFS) {
-        rc = err_io(e, o->path, 0, "write failed: %s", strerror(errno));
+    if (o->direct) { /* a device or FIFO: no sync, nothing to rename or remove */
+        rc = flush_checked(o->fp, o->path, e);
+        if (fclose(o->fp) != 0 && rc == 0)
+            rc = err_io(e, o->path, 0, "write failed: %s", strerror(errno));
+        o->fp = NULL;
+        destroy(o);
+        return rc;
     }
+    rc = flush_checked(o->fp, o->path, e);
+    if (rc == 0 && fsync(fileno(o->fp)) != 0 && errno != EINVAL && errno != EROFS)
+        rc = err_io(e, o->path, 0, "write failed: %s", strerror(errno));
     if (fclose(o->fp) != 0 && rc == 0)
         rc = err_io(e, o->path, 0, "write failed: %s", strerror(errno));
     o->fp = NULL;
@@ -163,7 +205,7 @@ void ofile_abort(ofile *o)
 {
     if (!o)
         return;
-    if (o->fp && o->tmp)
+    if (o->fp && (o->tmp || o->direct))
         fclose(o->fp);
     if (o->tmp)
         unlink(o->tmp);

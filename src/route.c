@@ -1,6 +1,7 @@
 /* route.c -- raw text in, routing out (see route.h). */
 #include "vecsift/route.h"
 
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -124,7 +125,13 @@ int route_text(route_worker *w, const char *const *parts, size_t nparts, double 
     res->label = best;
     res->confidence = prob[best];
     res->empty = st.with_vector == 0;
-    res->review = res->empty || prob[best] < w->p.cut || rc < 0;
+    /* A probability that is not a finite number (a damaged vector set: open
+     * reads no row) compares false with the cut-off; such a text always
+     * goes to a person.  predict refuses the whole run instead. */
+    int finite = 1;
+    for (size_t k = 0; k < K; k++)
+        finite &= isfinite(prob[k]) != 0;
+    res->review = res->empty || !finite || prob[best] < w->p.cut || rc < 0;
     if (w->p.explain && rc == 0) {
         size_t nw = pipeline_explain(m->pipe, w->ptr, nt, prob, best, w->p.explain, w->words, w->push);
         if (nw) {

@@ -427,13 +427,18 @@ static void end_token(struct text_tokens *t, size_t start)
 }
 
 /* End the token being built; 'as_number' replaces it by TEXT_MASK_NUMBER
- * (room for it was reserved when the token started). */
+ * (room for it was reserved when the token started).  A token longer than
+ * TEXT_MAX_TOKEN is dropped and counted (text.h says why). */
 static void close_token(struct text_tokens *t, size_t start, int as_number)
 {
     if (as_number) {
         t->len = start;
         memcpy(t->buf + t->len, TEXT_MASK_NUMBER, sizeof TEXT_MASK_NUMBER - 1);
         t->len += sizeof TEXT_MASK_NUMBER - 1;
+    } else if (t->len - start > TEXT_MAX_TOKEN) {
+        t->len = start;
+        t->too_long++;
+        return;
     }
     end_token(t, start);
 }

@@ -555,3 +555,85 @@ Test(text, splitting_matches_a_plain_reading_of_the_rules)
     }
     text_tokens_release(&t);
 }
+
+/* ---- the token length cap (TEXT_MAX_TOKEN, text.h) ---- */
+
+static char *repeat(const char *unit, size_t times, const char *before, const char *after)
+{
+    size_t u = strlen(unit), b = strlen(before), a = strlen(after);
+    char *s = malloc(b + u * times + a + 1);
+    memcpy(s, before, b);
+    for (size_t i = 0; i < times; i++)
+        memcpy(s + b + i * u, unit, u);
+    memcpy(s + b + u * times, after, a + 1);
+    return s;
+}
+
+Test(text, token_of_the_cap_is_kept_one_byte_more_is_skipped_and_counted)
+{
+    struct text_tokens t = TEXT_TOKENS_INIT;
+    struct err e = ERR_INIT;
+    char *at = repeat("k", TEXT_MAX_TOKEN, "a ", " b");
+    cr_assert_eq(text_tokenize(at, strlen(at), NULL, &t, &e), 3);
+    cr_assert_eq(strlen(text_token(&t, 1)), TEXT_MAX_TOKEN);
+    cr_assert_eq(t.too_long, 0);
+    text_tokens_clear(&t);
+    char *over = repeat("k", TEXT_MAX_TOKEN + 1, "a ", " b");
+    cr_assert_eq(text_tokenize(over, strlen(over), NULL, &t, &e), 2, "the long run is left out");
+    cr_assert_str_eq(text_token(&t, 0), "a");
+    cr_assert_str_eq(text_token(&t, 1), "b");
+    cr_assert_eq(t.too_long, 1);
+    text_tokens_clear(&t); /* the count adds up over rows */
+    cr_assert_eq(text_tokenize(over, strlen(over), NULL, &t, &e), 2);
+    cr_assert_eq(t.too_long, 2);
+    text_tokens_release(&t);
+    free(at);
+    free(over);
+}
+
+/* The cap counts bytes of normalised UTF-8: 512 Greek alphas (2 bytes each,
+ * U+03B1, UTF-8 per RFC 3629) are 1024 bytes, 513 are over. */
+Test(text, cap_counts_bytes_of_the_normalised_text)
+{
+    struct text_tokens t = TEXT_TOKENS_INIT;
+    struct err e = ERR_INIT;
+    char *at = repeat("\xce\xb1", TEXT_MAX_TOKEN / 2, "", "");
+    cr_assert_eq(text_tokenize(at, strlen(at), NULL, &t, &e), 1);
+    text_tokens_clear(&t);
+    char *over = repeat("\xce\xb1", TEXT_MAX_TOKEN / 2 + 1, "", "");
+    cr_assert_eq(text_tokenize(over, strlen(over), NULL, &t, &e), 0);
+    cr_assert_eq(t.too_long, 1);
+    text_tokens_clear(&t);
+    /* upper-case alphas fold to the same bytes: the cap applies after folding */
+    char *upper = repeat("\xce\x91", TEXT_MAX_TOKEN / 2 + 1, "", "");
+    cr_assert_eq(text_tokenize(upper, strlen(upper), NULL, &t, &e), 0);
+    cr_assert_eq(t.too_long, 2);
+    text_tokens_release(&t);
+    free(at);
+    free(over);
+    free(upper);
+}
+
+Test(text, long_joined_word_and_long_number)
+{
+    struct text_tokens t = TEXT_TOKENS_INIT;
+    struct err e = ERR_INIT;
+    /* hyphens inside a word count towards its length */
+    char *joined = repeat("ab-", TEXT_MAX_TOKEN / 3 + 1, "x ", "c");
+    cr_assert_eq(text_tokenize(joined, strlen(joined), NULL, &t, &e), 1);
+    cr_assert_str_eq(text_token(&t, 0), "x");
+    cr_assert_eq(t.too_long, 1);
+    text_tokens_clear(&t);
+    /* a masked number becomes the placeholder, whatever its length */
+    struct text_options o = TEXT_OPTIONS_INIT;
+    o.mask_number = 1;
+    char *digits = repeat("7", 5000, "", "");
+    cr_assert_eq(text_tokenize(digits, strlen(digits), &o, &t, &e), 1);
+    cr_assert_str_eq(text_token(&t, 0), TEXT_MASK_NUMBER);
+    cr_assert_eq(t.too_long, 1, "unchanged from before");
+    text_tokens_release(&t);
+    /* a vector-file entry that long can never match running text */
+    cr_assert_null(text_normalize_token(digits, strlen(digits), NULL));
+    free(joined);
+    free(digits);
+}

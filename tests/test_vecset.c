@@ -84,7 +84,7 @@ Test(vecset, nearest_by_hand)
     struct vecset_hit h[4];
     float q[2] = { 1, 0 };
     size_t ex = 0;
-    size_t n = vecset_nearest(v, q, 4, &ex, 1, 2, h);
+    long n = vecset_nearest(v, q, 4, &ex, 1, 2, h, &e);
     /* east excluded; northeast cos 1/sqrt(2); north 0; west -1 */
     cr_assert_eq(n, 3);
     cr_assert_eq(h[0].row, 2);
@@ -118,28 +118,36 @@ Test(vecset, fingerprint_follows_content)
     vecset_close(v);
 }
 
-/* The answer must not depend on the thread count (DESIGN.md conventions). */
-Test(vecset, nearest_same_for_any_thread_count)
+/* tmp(0, "rand.vecs"): N x D normal draws (seeded), words w0, w1, ...;
+ * returns the rows. */
+enum { N = 5000, D = 16 };
+static const float *rand_store(uint64_t seed, struct err *e)
 {
-    struct err e = ERR_INIT;
-    enum { N = 5000, D = 16 };
     static float rows[N * D];
     static char names[N][8];
     static const char *words[N];
     struct rng r;
-    rng_seed(&r, 3);
+    rng_seed(&r, seed);
     for (size_t i = 0; i < N * D; i++)
         rows[i] = (float)rng_normal(&r);
     for (int i = 0; i < N; i++) {
         snprintf(names[i], sizeof names[i], "w%d", i);
         words[i] = names[i];
     }
+    cr_assert_eq(vecset_write(tmp(0, "rand.vecs"), words, rows, N, D, e), 0);
+    return rows;
+}
+
+/* The answer must not depend on the thread count (DESIGN.md conventions). */
+Test(vecset, nearest_same_for_any_thread_count)
+{
+    struct err e = ERR_INIT;
+    const float *rows = rand_store(3, &e);
     const char *p = tmp(0, "rand.vecs");
-    cr_assert_eq(vecset_write(p, words, rows, N, D, &e), 0);
     vecset *v = vecset_open(p, &e);
     struct vecset_hit a[20], b[20];
-    size_t na = vecset_nearest(v, rows, 20, NULL, 0, 1, a);
-    size_t nb = vecset_nearest(v, rows, 20, NULL, 0, 7, b);
+    long na = vecset_nearest(v, rows, 20, NULL, 0, 1, a, &e);
+    long nb = vecset_nearest(v, rows, 20, NULL, 0, 7, b, &e);
     cr_assert_eq(na, 20);
     cr_assert_eq(nb, 20);
     cr_assert_eq(memcmp(a, b, sizeof a), 0);
@@ -476,6 +484,116 @@ Test(vecset, random_plain_tokens_normalise_as_text_does)
         vecset_close(v);
     }
     free(body);
+}
+
+/* ---- damage found where rows are read (open reads no row) ---- */
+
+/* Overwrite the float at 'index' of the section whose offset the header
+ * keeps at byte 'field' (48: rows, 64: norms; docs/vecs-format.md). */
+static void poke_float(const char *path, int field, size_t index, float value)
+{
+    FILE *fp = fopen(path, "r+b");
+    cr_assert_not_null(fp);
+    uint64_t off = 0;
+    cr_assert_eq(fseek(fp, field, SEEK_SET), 0);
+    cr_assert_eq(fread(&off, 8, 1, fp), 1);
+    cr_assert_eq(fseek(fp, (long)(off + 4 * index), SEEK_SET), 0);
+    cr_assert_eq(fwrite(&value, 4, 1, fp), 1);
+    fclose(fp);
+}
+
+static vecset *four_poked(int field, size_t index, float value, struct err *e)
+{
+    const char *p = tmp(0, "four.vecs");
+    cr_assert_eq(vecset_write(p, W4, R4, 4, 2, e), 0, "%s", e->msg);
+    poke_float(p, field, index, value);
+    vecset *v = vecset_open(p, e);
+    cr_assert_not_null(v, "open stays flat and reads no row: %s", e->msg);
+    return v;
+}
+
+Test(vecset, nan_in_a_row_is_damage_where_read)
+{
+    struct err e = ERR_INIT;
+    vecset *v = four_poked(48, 3, NAN, &e); /* north = (0, NaN) */
+    cr_assert_eq(vecset_check_row(v, 0, &e), 0, "east is intact");
+    cr_assert_eq(vecset_check_row(v, 1, &e), -1);
+    cr_assert_eq(e.code, ERR_INPUT);
+    cr_assert(strstr(e.msg, "damaged packed store: the vector of 'north' (row 2) holds NaN at position 2"), "%s",
+              e.msg);
+    struct vecset_hit h[4];
+    float q[2] = { 1, 0 };
+    struct err e2 = ERR_INIT;
+    cr_assert_eq(vecset_nearest(v, q, 4, NULL, 0, 1, h, &e2), -1, "near must not rank a NaN");
+    cr_assert_str_eq(e2.msg, e.msg);
+    struct err e3 = ERR_INIT;
+    cr_assert_eq(vecset_verify(v, &e3), -1);
+    cr_assert(strstr(e3.msg, "'north' (row 2) holds NaN"), "%s", e3.msg);
+    vecset_close(v);
+    err_clear(&e);
+    v = four_poked(48, 6, -INFINITY, &e); /* west */
+    cr_assert_eq(vecset_check_row(v, 3, &e), -1);
+    cr_assert(strstr(e.msg, "'west' (row 4) holds an infinity at position 1"), "%s", e.msg);
+    cr_assert_eq(vecset_nearest(v, q, 4, NULL, 0, 1, h, &e), -1);
+    vecset_close(v);
+}
+
+/* A damaged norm used to pass for "the zero vector". */
+Test(vecset, damaged_norm_is_damage_not_a_zero_vector)
+{
+    struct err e = ERR_INIT;
+    struct vecset_hit h[4];
+    float q[2] = { 0, 1 };
+    const float bad[] = { 0, NAN, -2, INFINITY, 1 }; /* north's norm is 2 */
+    for (size_t b = 0; b < sizeof bad / sizeof bad[0]; b++) {
+        err_clear(&e);
+        vecset *v = four_poked(64, 1, bad[b], &e);
+        cr_assert_eq(vecset_check_row(v, 1, &e), -1, "norm %g", bad[b]);
+        cr_assert(strstr(e.msg, "damaged packed store: the stored length of 'north' (row 2) is "), "%s", e.msg);
+        cr_assert(strstr(e.msg, "its vector's is 2"), "%s", e.msg);
+        struct err e2 = ERR_INIT;
+        /* 1: cos 2 > 1, caught by the Cauchy-Schwarz bound */
+        cr_assert_eq(vecset_nearest(v, q, 4, NULL, 0, 1, h, &e2), -1, "norm %g", bad[b]);
+        cr_assert(strstr(e2.msg, "'north' (row 2)"), "%s", e2.msg);
+        vecset_close(v);
+    }
+}
+
+Test(vecset, true_zero_vector_is_not_damage)
+{
+    struct err e = ERR_INIT;
+    static const char *const w[] = { "a", "nothing", "b" };
+    static const float r[] = { 1, 0, 0, 0, 0, 1 };
+    const char *p = tmp(0, "zero.vecs");
+    cr_assert_eq(vecset_write(p, w, r, 3, 2, &e), 0);
+    vecset *v = vecset_open(p, &e);
+    cr_assert_eq(vecset_check_row(v, 1, &e), 0, "%s", e.msg);
+    cr_assert_eq(vecset_norm(v, 1), 0.0f);
+    struct vecset_hit h[3];
+    float q[2] = { 1, 1 };
+    cr_assert_eq(vecset_nearest(v, q, 3, NULL, 0, 1, h, &e), 2, "the zero row never matches: %s", e.msg);
+    cr_assert_eq(vecset_verify(v, &e), 0, "%s", e.msg);
+    vecset_close(v);
+}
+
+/* The first damaged row is named whatever the thread count (each thread
+ * stops at the first in its part; parts are taken in row order). */
+Test(vecset, damage_named_the_same_for_any_thread_count)
+{
+    struct err e = ERR_INIT;
+    const float *rows = rand_store(4, &e);
+    const char *p = tmp(0, "rand.vecs");
+    poke_float(p, 48, (size_t)4000 * D + 5, NAN);
+    poke_float(p, 48, (size_t)1200 * D + 3, NAN);
+    vecset *v = vecset_open(p, &e);
+    cr_assert_not_null(v);
+    struct vecset_hit h[5];
+    for (int t = 1; t <= 7; t++) {
+        struct err et = ERR_INIT;
+        cr_assert_eq(vecset_nearest(v, rows, 5, NULL, 0, t, h, &et), -1);
+        cr_assert(strstr(et.msg, "'w1200' (row 1201) holds NaN at position 4"), "threads %d: %s", t, et.msg);
+    }
+    vecset_close(v);
 }
 
 /* ---- pieces (format 1.1) ---- */

@@ -22,6 +22,8 @@ struct corpus {
     struct tokdocs docs;        /* docs.n == ds.n */
     struct text_options text;
     size_t empty_docs;          /* rows with no token at all */
+    size_t too_long;            /* tokens over TEXT_MAX_TOKEN bytes skipped */
+    long too_long_line;         /* the line of the first of them, 0 if none */
 };
 
 /* Load 'path' with 'o' and tokenise every row with 't'.  Returns 0, or -1

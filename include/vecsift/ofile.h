@@ -4,6 +4,10 @@
  * directory and is renamed into place only when complete (DESIGN.md,
  * Conventions).  A failed, interrupted or killed run leaves no half-written
  * file and never truncates an existing one.  "-" writes to standard output.
+ * A path naming an existing device, FIFO or socket (/dev/full, /dev/stdout,
+ * a named pipe) is written in place: renaming over it would replace the
+ * device node with a plain file.  Every write to any of them is checked: a
+ * failed write, flush or close is an error, never a silent success.
  *
  * This module holds the one piece of process-wide state outside the CLI: the
  * list of temporary names still open, so that a SIGINT/SIGTERM handler can
@@ -21,7 +25,8 @@ typedef struct ofile ofile;
 /* Start writing 'path' ("-" for stdout).  The temporary file is created next
  * to 'path' with the permissions a new file would get.  Returns a handle owned
  * by the caller (finish with ofile_commit or ofile_abort), or NULL with 'e'
- * set (ERR_IO) when the directory is missing or not writable. */
+ * set: ERR_IO when the directory is missing or not writable (or the device
+ * cannot be opened), ERR_INPUT when 'path' is a directory. */
 ofile *ofile_open(const char *path, struct err *e);
 
 /* The stream to write to.  Borrowed; valid until commit/abort. */
@@ -30,9 +35,12 @@ FILE *ofile_fp(ofile *o);
 /* The destination path given to ofile_open.  Borrowed. */
 const char *ofile_path(const ofile *o);
 
-/* Flush, check for write errors (a full disk is an error), sync, close and
- * rename into place.  Frees 'o' in every case; on failure removes the
- * temporary file and returns -1 with 'e' set (ERR_IO).  Returns 0 on success. */
+/* Flush, check for write errors (a full disk, a closed pipe, a file-size
+ * limit), sync, close and rename into place; a device is flushed and closed,
+ * stdout only flushed (the CLI closes it at exit).  The message is "write
+ * failed: REASON" naming the path, or "<stdout>".  Frees 'o' in every case; on
+ * failure removes the temporary file and returns -1 with 'e' set (ERR_IO).
+ * Returns 0 on success. */
 int ofile_commit(ofile *o, struct err *e);
 
 /* Close and remove the temporary file; the destination is untouched.

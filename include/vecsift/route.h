@@ -34,7 +34,8 @@ struct route_params {
 struct route_result {
     int label;          /* the most probable label (the first of equals) */
     double confidence;  /* its probability */
-    int review;         /* 1: goes to a person (below the cut-off, or empty) */
+    int review;         /* 1: goes to a person (below the cut-off, empty, or a
+                         * probability that is not a finite number) */
     int empty;          /* no token had a vector or a column */
     size_t nwords;      /* top words written, <= explain */
     char **words;       /* (nwords) owned; route_result_release frees them */

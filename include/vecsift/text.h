@@ -35,6 +35,16 @@ struct text_options {
 #define TEXT_MASK_URL "_link_"
 #define TEXT_MASK_NUMBER "_number_"
 
+/* The longest token kept, in bytes of normalised UTF-8.  A longer run of
+ * word characters (a pasted attachment in base64, a hex dump, a log line
+ * with no separators) is skipped and counted, not kept whole: one such run
+ * of tens of megabytes would otherwise become a vocabulary entry of that
+ * size in every model.  Skipped rather than cut: a prefix of such a run is
+ * still a string no other text shares.  1024 bytes leave room for scripts
+ * written without spaces, which come out as one token per clause (341 CJK
+ * characters, see text.c). */
+#define TEXT_MAX_TOKEN 1024
+
 /* A growing list of tokens, owned by the caller.  Tokens are NUL-terminated
  * and stored back to back in 'buf'; tok i starts at buf + off[i]. */
 struct text_tokens {
@@ -46,8 +56,11 @@ struct text_tokens {
      * private to text.c. */
     void *scratch, *work;
     size_t scratch_cap, work_cap;
+    /* Tokens longer than TEXT_MAX_TOKEN skipped since TEXT_TOKENS_INIT;
+     * text_tokens_clear keeps the count, so it adds up over rows. */
+    size_t too_long;
 };
-#define TEXT_TOKENS_INIT { NULL, 0, 0, NULL, 0, 0, NULL, NULL, 0, 0 }
+#define TEXT_TOKENS_INIT { NULL, 0, 0, NULL, 0, 0, NULL, NULL, 0, 0, 0 }
 
 static inline const char *text_token(const struct text_tokens *t, size_t i)
 {

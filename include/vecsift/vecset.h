@@ -150,9 +150,16 @@ int vecset_writer_commit(vecset_writer *w, struct err *e);
 void vecset_writer_abort(vecset_writer *w);
 
 /* Recompute the fingerprint over every row (a full scan, unlike open) and
- * compare it with the header's.  Returns 0, or -1 with 'e' set (ERR_INPUT)
- * when the content does not match or a string entry is damaged. */
+ * compare it with the header's, checking every row as vecset_check_row does.
+ * Returns 0, or -1 with 'e' set (ERR_INPUT) when the content does not match,
+ * a row is damaged or a string entry is damaged. */
 int vecset_verify(const vecset *v, struct err *e);
+
+/* Open reads no row (it stays as fast for a million rows as for ten), so
+ * the code that takes a row as a query checks it first: every value finite,
+ * and the stored norm the row's own (relative 1e-5).  Returns 0, or -1 with
+ * 'e' set (ERR_INPUT, "damaged packed store: ...", naming word and row). */
+int vecset_check_row(const vecset *v, size_t i, struct err *e);
 
 /* ---- neighbours ---- */
 
@@ -165,8 +172,11 @@ struct vecset_hit {
  * row; rows in 'exclude' (nexclude of them) are skipped; zero rows never
  * match.  Exact scan over 'threads' threads; the result does not depend on
  * the thread count.  'hits' must hold k entries; returns how many were
- * filled. */
-size_t vecset_nearest(const vecset *v, const float *query, size_t k, const size_t *exclude,
-                      size_t nexclude, int threads, struct vecset_hit *hits);
+ * filled.  The scan reads every row, so it also finds damage (a row holding
+ * NaN or an infinity, a stored norm that is not finite or positive, zero for
+ * a non-zero row, or too small for its row): then it returns -1 with 'e' set
+ * (ERR_INPUT) naming the first damaged row, the same for any thread count. */
+long vecset_nearest(const vecset *v, const float *query, size_t k, const size_t *exclude, size_t nexclude,
+                    int threads, struct vecset_hit *hits, struct err *e);
 
 #endif

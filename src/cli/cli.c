@@ -7,8 +7,10 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "vecsift/err.h"
+#include "vecsift/text.h"
 #include "vecsift/xalloc.h"
 
 int cli_quiet = 0;
@@ -234,6 +236,32 @@ int cli_long(const struct cli_cmd *cmd, const char *opt, const char *val, long l
     }
     *out = v;
     return 0;
+}
+
+void cli_warn_too_long(const char *path, long line, size_t n)
+{
+    if (n == 0)
+        return;
+    char where[64] = "";
+    if (line > 0)
+        snprintf(where, sizeof where, ":%ld", line);
+    cli_warn("%s%s: %zu token%s longer than %d bytes left out%s; no word is that long (a pasted attachment "
+             "or dump?)", path, where, n, n == 1 ? "" : "s", TEXT_MAX_TOKEN, line > 0 ? ", the first on this line" : "");
+}
+
+int cli_threads(const struct cli_cmd *cmd, const char *val, int *out)
+{
+    long v;
+    if (cli_long(cmd, "threads", val, 1, CLI_MAX_THREADS, &v) < 0)
+        return -1;
+    *out = (int)v;
+    return 0;
+}
+
+int cli_default_threads(void)
+{
+    long n = sysconf(_SC_NPROCESSORS_ONLN);
+    return n < 1 ? 1 : n > CLI_MAX_THREADS ? CLI_MAX_THREADS : (int)n;
 }
 
 int cli_double(const struct cli_cmd *cmd, const char *opt, const char *val, double lo, double hi, double *out)

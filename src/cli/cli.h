@@ -66,6 +66,13 @@ int cli_usage(const struct cli_cmd *cmd, const char *fmt, ...)
 int cli_long(const struct cli_cmd *cmd, const char *opt, const char *val, long lo, long hi, long *out);
 int cli_double(const struct cli_cmd *cmd, const char *opt, const char *val, double lo, double hi, double *out);
 
+/* --threads, the same in every command: a whole number from 1 to
+ * CLI_MAX_THREADS, parsed and refused with one message.  The default is the
+ * processors online, capped the same way. */
+#define CLI_MAX_THREADS 256
+int cli_threads(const struct cli_cmd *cmd, const char *val, int *out);
+int cli_default_threads(void);
+
 /* Print an error the one way: "vecsift: MSG" then "hint: HINT".  Returns the
  * exit status carried by the error (1 or 2). */
 int cli_fail(const struct err *e);
@@ -74,6 +81,11 @@ int cli_fail(const struct err *e);
 extern int cli_quiet;
 void cli_note(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 void cli_warn(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
+
+/* The warning for tokens over TEXT_MAX_TOKEN bytes that the tokeniser
+ * skipped: "PATH:LINE: N tokens longer than 1024 bytes skipped ..." (LINE 0:
+ * no line).  Nothing when n is 0. */
+void cli_warn_too_long(const char *path, long line, size_t n);
 
 /* Levenshtein distance, for suggestions. */
 size_t cli_distance(const char *a, const char *b);

@@ -227,6 +227,7 @@ int cmd_compare(int argc, char **argv)
     data_args_dataset(&a.da, 1, &dopt);
     if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
 
     /* The set-ups: bow with each classifier, then vectors x pool x classifier. */
     rows = compare_grid_rows(a.vectors, a.nvec, a.pools, a.clfs, &vidx, &n);

@@ -157,6 +157,7 @@ int cmd_curve(int argc, char **argv)
     data_args_dataset(&a.da, 1, &dopt);
     if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
 
     pt = xcalloc(a.nsizes, sizeof *pt);
     int tiny = 0, unconverged = 0;

@@ -155,6 +155,7 @@ int cmd_evaluate(int argc, char **argv)
     data_args_dataset(&a.da, 1, &dopt);
     if (corpus_load(&c, data, &dopt, &a.da.text, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
     if (fit_args_open_vectors(&a.fa, &vs, &e) < 0)
         goto fail;
     if (!cli_quiet) {

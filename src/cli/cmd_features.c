@@ -129,6 +129,7 @@ int cmd_features(int argc, char **argv)
     data_args_dataset(&da, labelled, &dopt);
     if (corpus_load(&c, data, &dopt, &da.text, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
     rows = xcalloc(c.ds.n ? c.ds.n : 1, sizeof *rows);
     for (size_t r = 0; r < c.ds.n; r++)
         rows[r] = r;

@@ -125,6 +125,7 @@ int cmd_map(int argc, char **argv)
     data_args_dataset(&da, labelled, &dopt);
     if (corpus_load(&c, data, &dopt, &da.text, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
     if (c.ds.n < 4) {
         err_set(&e, data, 0, "a map needs at least 4 rows, the data has %zu", c.ds.n);
         goto fail;

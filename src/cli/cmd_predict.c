@@ -6,6 +6,7 @@
  * depends on that row and the model alone, so the output is identical for
  * any --threads and for any split of the input into parts.
  */
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -68,6 +69,7 @@ struct run {
     route_worker **w;   /* one per thread */
     size_t routed, review, rows;
     int header_done;
+    int out_failed;     /* the output stream failed: ofile_commit says why */
     char *why;          /* the writer's buffer for the top words */
     size_t whycap;
     struct err e;       /* the reader's error */
@@ -130,14 +132,37 @@ static void stream_work(void *ctx, void *chunk, size_t worker)
  * only once the next one has been read, so a bad row among the first
  * 2 x PREDICT_CHUNK rows leaves nothing on stdout, where no temporary file
  * can be thrown away (a file output is discarded anyway). */
+/* Refuse a chunk holding a confidence that is not a finite number rather
+ * than route on it (NaN compares false with the cut-off, so the row would go
+ * out automatically).  Open reads no vector row, so a NaN or infinity in a
+ * damaged vector set first shows here. */
+static int batch_finite(struct run *u, const struct batch *bt)
+{
+    size_t K = u->m->k;
+    for (size_t r = 0; r < bt->n; r++)
+        for (size_t k = 0; k < K; k++)
+            if (!isfinite(bt->prob[r * K + k])) {
+                err_set(&u->e, csv_path(u->r), 0,
+                        "data row %zu: the model's confidence is not a finite number, so it is not routed", u->rows + r + 1);
+                return err_hint(&u->e, "the vector set may be damaged: 'vecsift vectors info FILE --verify' checks every row");
+            }
+    return 0;
+}
+
 static int stream_write(void *ctx, void *chunk)
 {
     struct run *u = ctx;
+    if (batch_finite(u, chunk) < 0)
+        return -1;
     if (!u->header_done) {
         write_header(u->fp, u->r, u->ltop, u->lexplain);
         u->header_done = 1;
     }
     write_batch(u, chunk);
+    if (ferror(u->fp)) { /* a full disk or a closed pipe: stop reading */
+        u->out_failed = 1;
+        return -1;
+    }
     return 0;
 }
 
@@ -285,7 +310,7 @@ int cmd_predict(int argc, char **argv)
     /* Chunks are read in order, routed on any thread and written in
      * input order (par.h): the output does not depend on --threads. */
     struct par_stream ps = { slot, S, stream_read, stream_work, stream_write, &u };
-    if (par_stream_run((int)T, &ps) < 0) {
+    if (par_stream_run((int)T, &ps) < 0 && !u.out_failed) {
         e = u.e;
         goto fail;
     }

@@ -203,6 +203,7 @@ int cmd_train(int argc, char **argv)
     data_args_dataset(&da, 1, &dopt);
     if (corpus_load(&c, data, &dopt, &da.text, &e) < 0)
         goto fail;
+    cli_warn_too_long(data, c.too_long_line, c.too_long);
     rows_per = xcalloc(c.ds.nlabels ? c.ds.nlabels : 1, sizeof *rows_per);
     if (check_labels(&c, rows_per, &e) < 0)
         goto fail;

@@ -74,8 +74,7 @@ int cmd_vectors(int argc, char **argv)
 
 int vectors_default_threads(void)
 {
-    long n = sysconf(_SC_NPROCESSORS_ONLN);
-    return n < 1 ? 1 : n > 64 ? 64 : (int)n;
+    return cli_default_threads();
 }
 
 int vectors_find_words(const vecset *v, char **words, size_t n, int keep_accents, size_t *rows, struct err *e)

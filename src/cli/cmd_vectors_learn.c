@@ -50,7 +50,7 @@ static const struct cli_opt opts[] = {
     { "mask-numbers", 0, NULL, "replace numbers by a placeholder token (default: keep them)" },
     { "keep-emails", 0, NULL, "keep e-mail addresses and URLs (default: masked: personal data)" },
     { "seed", 's', "<n>", "random seed (default: 1)" },
-    { "threads", 't', "<n>", "training threads (default: 1, which repeats exactly)" },
+    { "threads", 't', "<n>", "training threads, 1 to 256 (default: 1, which repeats exactly)" },
     { "quiet", 'q', NULL, "no progress or summary on stderr" },
     { NULL, 0, NULL, NULL },
 };

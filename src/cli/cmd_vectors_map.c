@@ -176,9 +176,13 @@ int vectors_map(int argc, char **argv)
         add_row(rows, &n, given[w]);
         if (k == 0)
             continue;
+        if (vecset_check_row(v, given[w], &e) < 0)
+            goto fail;
         memcpy(q, vecset_row(v, given[w]), D * sizeof *q);
-        size_t nh = vecset_nearest(v, q, (size_t)k, &given[w], 1, vectors_default_threads(), hits);
-        for (size_t h = 0; h < nh; h++)
+        long nh = vecset_nearest(v, q, (size_t)k, &given[w], 1, vectors_default_threads(), hits, &e);
+        if (nh < 0)
+            goto fail;
+        for (long h = 0; h < nh; h++)
             add_row(rows, &n, hits[h].row);
     }
     if (n < 4) {
@@ -191,6 +195,8 @@ int vectors_map(int argc, char **argv)
     for (size_t r = 0; r < n; r++) {
         const float *row = vecset_row(v, rows[r]);
         double norm = vecset_norm(v, rows[r]);
+        if (vecset_check_row(v, rows[r], &e) < 0)
+            goto fail; /* damage, not a zero vector */
         if (!(norm > 0)) {
             err_set(&e, vecset_path(v), 0, "'%s' has the zero vector: no direction to map",
                     vecset_word(v, rows[r]));

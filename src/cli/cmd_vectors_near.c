@@ -11,7 +11,7 @@
 
 static const struct cli_opt near_opts[] = {
     { "count", 'k', "<n>", "how many neighbours (default: 10)" },
-    { "threads", 0, "<n>", "scanning threads (default: processors online)" },
+    { "threads", 0, "<n>", "scanning threads, 1 to 256 (default: processors online)" },
     { "keep-accents", 0, NULL, "the store was packed with --keep-accents" },
     { NULL, 0, NULL, NULL },
 };
@@ -47,7 +47,8 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
     struct cli_parser p;
     struct err e = ERR_INIT;
     const char *val;
-    long k = 10, threads = vectors_default_threads();
+    long k = 10;
+    int threads = vectors_default_threads();
     int keep_accents = 0, rc = ERR_INPUT, o;
     vecset *v = NULL;
     size_t *rows = NULL;
@@ -57,7 +58,7 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
     while ((o = cli_next(&p, &val)) >= 0) {
         switch (o) {
         case 0: if (cli_long(cmd, "count", val, 1, 100000, &k) < 0) goto out; break;
-        case 1: if (cli_long(cmd, "threads", val, 1, 64, &threads) < 0) goto out; break;
+        case 1: if (cli_threads(cmd, val, &threads) < 0) goto out; break;
         case 2: keep_accents = 1; break;
         }
     }
@@ -86,6 +87,8 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
     for (size_t i = 0; i < nw; i++) {
         const float *r = vecset_row(v, rows[i]);
         float n = vecset_norm(v, rows[i]);
+        if (vecset_check_row(v, rows[i], &e) < 0)
+            goto fail; /* damage, not a zero vector */
         if (!(n > 0)) {
             err_set(&e, vecset_path(v), 0, "'%s' has the zero vector: no direction to compare", p.pos[1 + i]);
             goto fail;
@@ -95,8 +98,10 @@ static int query(const struct cli_cmd *cmd, int argc, char **argv, size_t nwords
             q[j] += (float)(s * r[j]);
     }
     hits = xcalloc((size_t)k, sizeof *hits);
-    size_t n = vecset_nearest(v, q, (size_t)k, rows, nw, (int)threads, hits);
-    vectors_print_hits(v, hits, n);
+    long n = vecset_nearest(v, q, (size_t)k, rows, nw, threads, hits, &e);
+    if (n < 0)
+        goto fail;
+    vectors_print_hits(v, hits, (size_t)n);
     rc = ERR_OK;
     goto out;
 fail:

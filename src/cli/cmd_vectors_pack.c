@@ -15,7 +15,7 @@
 
 static const struct cli_opt pack_opts[] = {
     { "output", 'o', "<file>", "packed store to write (required)" },
-    { "threads", 0, "<n>", "parsing threads (default: processors online)" },
+    { "threads", 0, "<n>", "parsing threads, 1 to 256 (default: processors online)" },
     { "keep-accents", 0, NULL, "keep accents on Latin letters (default: strip them, as text is)" },
     { "quiet", 'q', NULL, "no summary on stderr" },
     { "mask-numbers", 0, NULL, "as the data will be read: number tokens become a placeholder (default: kept)" },
@@ -41,13 +41,13 @@ int vectors_pack(int argc, char **argv)
     struct err e = ERR_INIT;
     struct text_options to = TEXT_OPTIONS_INIT;
     const char *out = NULL, *val;
-    long threads = vectors_default_threads();
+    int threads = vectors_default_threads();
     int rc = ERR_INPUT, o;
     cli_parser_init(&p, cmd, argc, argv);
     while ((o = cli_next(&p, &val)) >= 0) {
         switch (o) {
         case 0: out = val; break;
-        case 1: if (cli_long(cmd, "threads", val, 1, 64, &threads) < 0) goto out; break;
+        case 1: if (cli_threads(cmd, val, &threads) < 0) goto out; break;
         case 2: to.keep_accents = 1; break;
         case 3: cli_quiet = 1; break;
         case 4: to.mask_number = 1; break;
@@ -71,7 +71,7 @@ int vectors_pack(int argc, char **argv)
     const char *in = p.pos[0];
     struct vecset_pack_stats st;
     if (ofile_check_distinct(out, (const char *const *)&in, 1, &e) < 0 ||
-        vecset_pack_text(in, out, &to, (int)threads, &st, &e) < 0) {
+        vecset_pack_text(in, out, &to, threads, &st, &e) < 0) {
         rc = cli_fail(&e);
         goto out;
     }
@@ -152,7 +152,7 @@ out:
 /* ---- info ---- */
 
 static const struct cli_opt info_opts[] = {
-    { "verify", 0, NULL, "read every row and check the fingerprint (default: header only)" },
+    { "verify", 0, NULL, "read every row: check values, stored lengths and the fingerprint (default: header only)" },
     { NULL, 0, NULL, NULL },
 };
 

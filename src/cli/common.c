@@ -15,8 +15,7 @@
 
 int cores(void)
 {
-    long n = sysconf(_SC_NPROCESSORS_ONLN);
-    return n < 1 ? 1 : n > 256 ? 256 : (int)n;
+    return cli_default_threads();
 }
 
 void cut_format(double p, char *buf, size_t n)
@@ -70,9 +69,8 @@ int data_args_option(struct data_args *a, const struct cli_cmd *cmd, const char 
             return -1;
         a->seed = (uint64_t)v;
     } else if (strcmp(name, "threads") == 0) {
-        if (cli_long(cmd, name, val, 1, 256, &v) < 0)
+        if (cli_threads(cmd, val, &a->threads) < 0)
             return -1;
-        a->threads = (int)v;
     } else if (strcmp(name, "quiet") == 0) {
         cli_quiet = 1;
     } else {

@@ -43,7 +43,7 @@ struct data_args {
 
 #define RUN_OPTIONS \
     { "seed", 's', "<n>", "seed for every random choice (default: 1)" }, \
-    { "threads", 't', "<n>", "worker threads (default: all cores)" }, \
+    { "threads", 't', "<n>", "worker threads, 1 to 256 (default: all cores)" }, \
     { "quiet", 'q', NULL, "no progress or notes on stderr" }
 
 #define PIPELINE_OPTIONS \

@@ -9,6 +9,7 @@
  *   4. add tests: tests/test_cli_NAME.c or cases in tests/cli/, and document
  *      it in README.md and vecsift.1.
  */
+#include <errno.h>
 #include <signal.h>
 #include <stdio.h>
 #include <string.h>
@@ -87,16 +88,23 @@ static void on_signal(int sig)
     raise(sig);
 }
 
+/* Every command's return passes through here: whatever it printed to stdout
+ * (tables, help, near's answers, "-o -" outputs) is flushed and closed, and a
+ * write that failed -- a full disk, a closed pipe, /dev/full -- turns a
+ * success into exit 1 with one line naming the output (STYLE C15).  A command
+ * that already failed has said why; the exit status stays its own. */
 static int finish(int status)
 {
-    /* A report written to a full disk must not exit 0 (STYLE C15). */
-    if (fflush(stdout) != 0 || ferror(stdout)) {
-        fprintf(stderr, "vecsift: <stdout>: write failed\n");
-        return status ? status : ERR_IO;
+    errno = 0;
+    int bad = fflush(stdout) != 0 || ferror(stdout);
+    int why = errno;
+    if (fclose(stdout) != 0 && !bad) {
+        bad = 1;
+        why = errno;
     }
-    if (fclose(stdout) != 0) {
-        fprintf(stderr, "vecsift: <stdout>: write failed\n");
-        return status ? status : ERR_IO;
+    if (bad && status == ERR_OK) {
+        fprintf(stderr, "vecsift: <stdout>: write failed: %s\n", strerror(why ? why : EIO));
+        return ERR_IO;
     }
     return status;
 }

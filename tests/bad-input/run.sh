@@ -14,6 +14,12 @@
 #                     scratch directory)
 #   limit  KB         run the command under 'ulimit -f KB' (a full disk)
 #   stdin  FILE       feed FILE to the command (default /dev/null)
+#   stdout WHERE      'full': standard output is /dev/full (every write
+#                     fails with ENOSPC); 'closed-pipe': a pipe whose reading
+#                     end was closed before the command started (EPIPE);
+#                     default: a file the runner keeps
+#   lines  N          stderr must have exactly N lines (one message, no echo
+#                     of it from a second place)
 #   exit   N          the expected exit status
 #   message REGEX     an extended regex the stderr must match
 #   absent FILE       a file that must not exist afterwards (an output)
@@ -34,6 +40,15 @@ pass=0 fail=0
 top=$(mktemp -d)
 trap 'chmod -R u+w "$top" 2>/dev/null; rm -rf "$top"' EXIT
 
+# Runs argv with its stdout on a pipe whose reading end is already closed,
+# and exits with the child's status.
+CLOSED_PIPE='import os, subprocess, sys
+r, w = os.pipe()
+os.close(r)
+rc = subprocess.call(sys.argv[1:], stdout=w)
+sys.exit(rc if rc >= 0 else 128 - rc)'
+export CLOSED_PIPE
+
 inventory() { # inventory DIR: "sha256  path" of every file, sorted
   (cd "$1" && find . -type f -print0 | sort -z | xargs -0 -r sha256sum)
 }
@@ -44,7 +59,7 @@ for c in "${cases[@]}"; do
   name=$(basename "$c" .case)
   w="$top/$name"
   mkdir -p "$w"
-  cmd="" want="" re="" limit="" stdin=/dev/null absent=() created=() setup_ok=1
+  cmd="" want="" re="" limit="" stdin=/dev/null stdout="" lines="" absent=() created=() setup_ok=1
   while IFS= read -r line || [ -n "$line" ]; do
     case "$line" in
       ''|'#'*) continue ;;
@@ -56,6 +71,8 @@ for c in "${cases[@]}"; do
       cmd) cmd=$val ;;
       limit) limit=$val ;;
       stdin) stdin=$val ;;
+      stdout) stdout=$val ;;
+      lines) lines=$val ;;
       exit) want=$val ;;
       message) re=$val ;;
       absent) absent+=("$val") ;;
@@ -71,7 +88,13 @@ for c in "${cases[@]}"; do
   (
     cd "$w" || exit 99
     [ -n "$limit" ] && ulimit -f "$limit"
-    eval "exec \"\$VECSIFT\" $cmd" <"$stdin" >"$top/$name.out" 2>"$top/$name.err"
+    case "$stdout" in
+      '') eval "exec \"\$VECSIFT\" $cmd" <"$stdin" >"$top/$name.out" 2>"$top/$name.err" ;;
+      full) eval "exec \"\$VECSIFT\" $cmd" <"$stdin" >/dev/full 2>"$top/$name.err" ;;
+      closed-pipe) # the reader is gone before the first write: no race
+        eval "exec /usr/bin/python3 -c \"\$CLOSED_PIPE\" \"\$VECSIFT\" $cmd" <"$stdin" 2>"$top/$name.err" ;;
+      *) echo "unknown stdout '$stdout'" >"$top/$name.err"; exit 99 ;;
+    esac
   )
   got=$?
   for a in "${created[@]}"; do
@@ -83,6 +106,9 @@ for c in "${cases[@]}"; do
   problems_pre=""
   [ "$got" -eq "$want" ] || problems+=("exit status $got, expected $want")
   grep -Eq -- "$re" "$top/$name.err" || problems+=("stderr does not match /$re/")
+  if [ -n "$lines" ] && [ "$(wc -l <"$top/$name.err")" -ne "$lines" ]; then
+    problems+=("stderr has $(wc -l <"$top/$name.err") lines, expected $lines")
+  fi
   if grep -Eq 'AddressSanitizer|LeakSanitizer|runtime error:|Segmentation|Aborted' "$top/$name.err"; then
     problems+=("sanitizer or crash report on stderr")
   fi

@@ -59,6 +59,23 @@ cp "$D/data.csv" "$D/keep.csv"
 run "$VECSIFT" audit "$D/keep.csv" --pool bow -o "$D/keep.csv"
 expect_status 2; if cmp -s "$D/data.csv" "$D/keep.csv"; then ok; else bad_here "input overwritten"; fi
 
+# --rank and --probabilities
+run "$VECSIFT" audit "$D/data.csv" --pool bow --rank loudest
+expect_status 2; expect_err_lines 1; expect_err "'--rank' takes margin or confidence"
+run "$VECSIFT" audit "$D/data.csv" --pool bow --probabilities -
+expect_status 2; expect_err_lines 1; expect_err 'cannot both go to stdout'
+run "$VECSIFT" audit "$D/data.csv" --pool bow --probabilities "$D/data.csv" -o "$D/none.csv"
+expect_status 2; expect_no_file "$D/none.csv"; if cmp -s "$D/data.csv" "$D/keep.csv"; then ok; else bad_here "input overwritten"; fi
+run "$VECSIFT" audit "$D/data.csv" --pool tfidf --probabilities "$D/p.csv" -o "$D/none.csv"
+expect_status 2; expect_no_file "$D/p.csv"; expect_no_file "$D/none.csv"
+run "$VECSIFT" audit "$D/data.csv" --pool bow --rank confidence --repeats 2 --probabilities "$D/p.csv" -o "$D/sus2.csv"
+expect_status 0; expect_file "$D/sus2.csv"; expect_err '5 folds x 2 repeats'
+# one line per data row plus the header; label cells guarded
+if [ "$(wc -l <"$D/p.csv")" -eq 81 ] && head -1 "$D/p.csv" | grep -q '^row,label,prob:+fruit,prob:-tools' && sed -n 8p "$D/p.csv" | grep -q "^7,'-tools,"; then ok; else bad_here "probabilities: $(head -2 "$D/p.csv")"; fi
+# row 7 (the planted fruit text labelled -tools): score = 1 - p(given) by confidence
+if awk -F, 'NR == 8 { p = $4 } END { exit !(p < 0.5) }' "$D/p.csv" \
+   && sed -n 2p "$D/sus2.csv" | grep -q "^7,'-tools,'+fruit,"; then ok; else bad_here "confidence: $(sed -n 2p "$D/sus2.csv")"; fi
+
 # ---- suggest ----
 # --C 1: the margins this pool was written for (bow defaults to a weaker penalty)
 run "$VECSIFT" train "$D/data.csv" --pool bow --C 1 -o "$D/model.json"

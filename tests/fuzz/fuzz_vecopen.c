@@ -26,6 +26,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
             for (size_t j = 0; j < d; j++)
                 sink += r[j];
             sink += vecset_norm(v, i);
+            (void)vecset_check_row(v, i, &e);
             sink += (double)strlen(vecset_word(v, i));
             (void)vecset_find(v, vecset_word(v, i));
         }
@@ -46,7 +47,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
         (void)vecset_verify(v, &e);
         if (n > 0) {
             struct vecset_hit hits[3];
-            (void)vecset_nearest(v, vecset_row(v, 0), 3, NULL, 0, 1, hits);
+            (void)vecset_nearest(v, vecset_row(v, 0), 3, NULL, 0, 1, hits, &e);
         }
         (void)sink;
         vecset_close(v);
