@@ -29,6 +29,8 @@ static const struct cli_opt opts[] = {
       "                              or a simpler set-up not significantly worse (table in the model)" },
     { "folds", 'k', "<n>", "with --choose: folds, >= 2 (default: 5)" },
     { "repeats", 'R', "<n>", "with --choose: repeats with fresh shuffles (default: 3)" },
+    { "group-col", 'g', "<name>", "with --choose: keep rows sharing this column's value (a customer, a thread,\n"
+      "                              passages of one document) in one fold" },
     RUN_OPTIONS,
     { NULL, 0, NULL, NULL }
 };
@@ -243,9 +245,19 @@ int cmd_train(int argc, char **argv)
         }
         cp.seed = da.seed;
         cp.threads = da.threads;
+        int *groups = cv_args_groups(&cp, &c);
+        if (groups && !folds_given && cp.n_groups < cp.folds) {
+            cp.folds = cp.n_groups < 2 ? 2 : cp.n_groups;
+            if (!cli_quiet)
+                fprintf(stderr, "note: column '%s' has %d values, so the choice cross-validates with %d folds\n",
+                        da.group_col, cp.n_groups, cp.folds);
+        }
         struct pipeline_spec pick;
-        if (compare_grid_choose(&c, data, &da, &fa, vs, &cp, cli_quiet ? NULL : strcmp(out, "-") ? stdout : stderr,
-                                &pick, &m.choice, &e) < 0)
+        int crc = compare_grid_choose(&c, data, &da, &fa, vs, &cp,
+                                      cli_quiet ? NULL : strcmp(out, "-") ? stdout : stderr, &pick, &m.choice, &e);
+        free(groups);
+        cp.group = NULL;
+        if (crc < 0)
             goto fail;
         fa.spec = pick;
         if (!features_pool_needs_vectors(pick.feat.pool)) { /* the model then holds no vectors */
