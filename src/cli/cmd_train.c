@@ -127,6 +127,32 @@ static int check_labels(const struct corpus *c, size_t *rows_per, struct err *e)
     return 0;
 }
 
+/* The first label whose rows all share one group, or nlabels if none does
+ * (or there are no groups). */
+static size_t one_group_label(const struct corpus *c, const int *groups)
+{
+    if (!groups)
+        return c->ds.nlabels;
+    int *first = xcalloc(c->ds.nlabels ? c->ds.nlabels : 1, sizeof *first);
+    char *many = xcalloc(c->ds.nlabels ? c->ds.nlabels : 1, 1);
+    for (size_t k = 0; k < c->ds.nlabels; k++)
+        first[k] = -1;
+    for (size_t i = 0; i < c->ds.n; i++) {
+        int k = c->ds.y[i];
+        if (first[k] < 0)
+            first[k] = groups[i];
+        else if (first[k] != groups[i])
+            many[k] = 1;
+    }
+    size_t lone = c->ds.nlabels;
+    for (size_t k = 0; k < c->ds.nlabels && lone == c->ds.nlabels; k++)
+        if (!many[k])
+            lone = k;
+    free(first);
+    free(many);
+    return lone;
+}
+
 int cmd_train(int argc, char **argv)
 {
     const struct cli_cmd *cmd = &cmd_train_info;
@@ -246,6 +272,16 @@ int cmd_train(int argc, char **argv)
         cp.seed = da.seed;
         cp.threads = da.threads;
         int *groups = cv_args_groups(&cp, &c);
+        size_t lone = one_group_label(&c, groups);
+        if (groups && lone < c.ds.nlabels) {
+            /* a fold would hold all of that label's rows and leave none to train on */
+            cli_warn("label '%s' lies in one value of '%s': the choice cross-validates rows, not groups",
+                     c.ds.labels[lone], da.group_col);
+            free(groups);
+            groups = NULL;
+            cp.group = NULL;
+            cp.n_groups = 0;
+        }
         if (groups && !folds_given && cp.n_groups < cp.folds) {
             cp.folds = cp.n_groups < 2 ? 2 : cp.n_groups;
             if (!cli_quiet)

@@ -123,6 +123,14 @@ run "$VECSIFT" train "$IN" "${TXT[@]}" --choose --group-col customer "${CV[@]}" 
 expect_status 0; expect_file "$D/g.json"
 run "$VECSIFT" train "$IN" "${TXT[@]}" --choose --group-col nosuch "${CV[@]}" -o "$D/g2.json" -q
 expect_status 2; expect_err "nosuch"; expect_no_file "$D/g2.json"
+# a label all in one group cannot be left out of a fold's training rows:
+# the choice warns and cross-validates rows
+{
+  echo "text,label,g"
+  for i in 1 2 3 4 5 6; do echo "apple pear fig $i,fruit,orchard"; echo "hammer saw nail $i,tools,shed$((i % 3))"; done
+} >"$D/lone.csv"
+run "$VECSIFT" train "$D/lone.csv" --choose --group-col g --folds 2 --repeats 1 -o "$D/g3.json"
+expect_status 0; expect_err "label 'fruit' lies in one value of 'g'"; expect_file "$D/g3.json"
 run "$VECSIFT" predict "$D/m.json" "$NEW" -o "$D/p.csv" -q
 expect_status 0
 expect_file "$D/p.csv"
