@@ -210,7 +210,7 @@ static void fit_one(struct ctx *x, size_t j, size_t task, size_t rep, const size
         o->failed = 1;
         return;
     }
-    o->C = spec.C;
+    o->C = pipeline_spec_C(&spec);
     o->gamma = spec.gamma < 0 ? -spec.gamma : 1.0;
     struct pipeline_fit_info info;
     pipeline *pl = pipeline_fit_cached(&spec, &x->c->docs, x->c->ds.y, K, tr, ntr, x->vs, x->cache, &info, &o->e);
@@ -262,7 +262,7 @@ static void fit_shared(struct ctx *x, size_t task, size_t rep, const size_t *tr,
         struct task_out *o = &x->out[j * T + task];
         const struct pipeline_spec *s = &x->s[j];
         o->ntrain = ntr;
-        o->C = s->C;
+        o->C = pipeline_spec_C(s);
         o->gamma = s->gamma < 0 ? -s->gamma : 1.0;
         o->st = st;
         struct pipeline_fit_info info;

@@ -95,6 +95,22 @@ static int fit_classifier(pipeline *p, const struct fmat *X, const int *y, struc
     return 0;
 }
 
+double pipeline_default_C(enum features_pool pool, enum pipeline_classifier clf)
+{
+    if (clf != CLF_LOGREG)
+        return 1.0;
+    if (pool == POOL_BOW)
+        return PIPELINE_C_BOW;
+    if (pool == POOL_BOW_MEAN || pool == POOL_BOW_TFIDF || pool == POOL_BOW_SIF)
+        return PIPELINE_C_BOW_POOLED;
+    return 1.0;
+}
+
+double pipeline_spec_C(const struct pipeline_spec *s)
+{
+    return s->C > 0 ? s->C : pipeline_default_C(s->feat.pool, s->clf);
+}
+
 pipeline *pipeline_fit(const struct pipeline_spec *s, const struct tokdocs *d, const int *y, size_t k,
                        const size_t *rows, size_t n, const vecset *vs, struct pipeline_fit_info *info,
                        struct err *e)
@@ -106,12 +122,13 @@ pipeline *pipeline_fit_cached(const struct pipeline_spec *s, const struct tokdoc
                               const size_t *rows, size_t n, const vecset *vs, const features_cache *cache,
                               struct pipeline_fit_info *info, struct err *e)
 {
-    if (!(s->C > 0)) {
+    if (!(s->C >= 0)) {
         err_set(e, NULL, 0, "C must be positive");
         return NULL;
     }
     pipeline *p = xcalloc(1, sizeof *p);
     p->s = *s;
+    p->s.C = pipeline_spec_C(s); /* the model stores the C it was fitted with */
     p->k = k;
     struct fmat X = FMAT_INIT;
     int *yy = xcalloc(n ? n : 1, sizeof *yy);
@@ -137,13 +154,14 @@ fail:
 int pipeline_fit_proba_featurized(const struct pipeline_spec *s, size_t k, const struct fmat *X, const int *y,
                                   const struct fmat *Xte, double *P, struct pipeline_fit_info *info, struct err *e)
 {
-    if (!(s->C > 0)) {
+    if (!(s->C >= 0)) {
         err_set(e, NULL, 0, "C must be positive");
         return -1;
     }
     pipeline p;
     memset(&p, 0, sizeof p);
     p.s = *s;
+    p.s.C = pipeline_spec_C(s);
     p.k = k;
     int rc = fit_classifier(&p, X, y, info, e);
     for (size_t i = 0; rc == 0 && i < Xte->n; i++)

@@ -233,12 +233,37 @@ Test(pipeline, fit_errors)
     const size_t *rows = ALL;
     struct pipeline_spec s = PIPELINE_SPEC_INIT;
     struct err e = ERR_INIT;
-    s.C = 0;
+    s.C = -1;
     cr_assert_null(pipeline_fit(&s, &d, Y, K, rows, N, NULL, NULL, &e));
     cr_assert(strstr(e.msg, "C must be positive"), "%s", e.msg);
     err_clear(&e);
     s.C = 1;
     cr_assert_null(pipeline_fit(&s, &d, Y, K, rows, N, NULL, NULL, &e)); /* tfidf without vectors */
     cr_assert(strstr(e.msg, "needs a vector set"), "%s", e.msg);
+    tokdocs_release(&d);
+}
+
+/* An unset C (0) resolves per route, and the fitted pipeline (what the
+ * model file stores) holds the resolved value; an explicit C wins. */
+Test(pipeline, default_C_per_route)
+{
+    struct tokdocs d;
+    fx_docs(&d, TEXTS, N);
+    struct pipeline_spec s = PIPELINE_SPEC_INIT;
+    struct err e = ERR_INIT;
+    cr_assert_eq(s.C, 0);
+    s.feat.pool = POOL_BOW;
+    pipeline *p = pipeline_fit(&s, &d, Y, K, ALL, N, NULL, NULL, &e);
+    cr_assert_not_null(p, "%s", e.msg);
+    cr_assert_eq(pipeline_spec(p)->C, PIPELINE_C_BOW);
+    pipeline_free(p);
+    s.C = 2.5;
+    p = pipeline_fit(&s, &d, Y, K, ALL, N, NULL, NULL, &e);
+    cr_assert_not_null(p, "%s", e.msg);
+    cr_assert_eq(pipeline_spec(p)->C, 2.5);
+    pipeline_free(p);
+    cr_assert_eq(pipeline_default_C(POOL_BOW_TFIDF, CLF_LOGREG), PIPELINE_C_BOW_POOLED);
+    cr_assert_eq(pipeline_default_C(POOL_MEAN, CLF_LOGREG), 1.0);
+    cr_assert_eq(pipeline_default_C(POOL_BOW, CLF_SVM_RBF), 1.0);
     tokdocs_release(&d);
 }

@@ -25,7 +25,8 @@ enum pipeline_classifier { CLF_LOGREG = 0, CLF_SVM_LINEAR, CLF_SVM_RBF };
 struct pipeline_spec {
     struct features_params feat;
     enum pipeline_classifier clf;
-    double C;           /* inverse regularisation strength, > 0 (default 1) */
+    double C;           /* inverse regularisation strength, > 0; 0: the route's
+                         * default (pipeline_default_C) */
     double gamma;       /* svm-rbf width: > 0 this value; 0: 1 / (D * variance);
                          * < 0: |gamma| times that default */
     int balanced;       /* class weights n / (K * n_label) */
@@ -35,7 +36,21 @@ struct pipeline_spec {
                          * for train's one */
     uint64_t seed;      /* svm: libsvm's probability estimate */
 };
-#define PIPELINE_SPEC_INIT { FEATURES_PARAMS_INIT, CLF_LOGREG, 1.0, 0.0, 0, 1000, 1e-6, 1 }
+#define PIPELINE_SPEC_INIT { FEATURES_PARAMS_INIT, CLF_LOGREG, 0.0, 0.0, 0, 1000, 1e-6, 1 }
+
+/* The C an unset --C (C = 0) takes for a pooling and classifier, chosen on
+ * tests/bench/bench_accuracy's grid of C per route (docs/accuracy.md):
+ * logistic regression on a bag-of-words block (bow and bow+P, whose rows
+ * are unit length) underfits badly at C = 1 with a few hundred rows, so it
+ * gets PIPELINE_C_BOW; standardised pooled vectors, and the SVMs (not
+ * measured per route), keep 1. */
+#define PIPELINE_C_BOW 30.0
+#define PIPELINE_C_BOW_POOLED 10.0
+#define PIPELINE_C_HELP "default: 1; logreg on bow 30, on bow+P 10"
+double pipeline_default_C(enum features_pool pool, enum pipeline_classifier clf);
+/* s->C when set (> 0), otherwise the default for s's pooling and classifier:
+ * the value every fit uses and everything that prints or stores C shows. */
+double pipeline_spec_C(const struct pipeline_spec *s);
 
 /* The gradient tolerance of the model train writes.  Cross-validation's
  * 1e-6 leaves probabilities up to 1.3e-4 from the exact optimum (measured

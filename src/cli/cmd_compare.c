@@ -47,7 +47,8 @@ static const struct cli_opt opts[] = {
                A, pools, int *, take_pools),
     CLI_OPT_FN("classifier", 'c', "<list>", "comma-separated: logreg, svm-linear, svm-rbf (default: logreg)", A, clfs,
                int *, take_classifiers),
-    COMMON_OPT_C("inverse regularisation strength, > 0, for every set-up (default: 1)", A, cv.fa),
+    COMMON_OPT_C("inverse regularisation strength, > 0, for every set-up\n"
+                 "                              (" PIPELINE_C_HELP ")", A, cv.fa),
     COMMON_OPT_GAMMA(A, cv.fa),
     COMMON_OPT_CLASS_WEIGHT(A, cv.fa),
     COMMON_OPT_SUBLINEAR_TF(A, cv.fa),

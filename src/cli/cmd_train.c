@@ -41,6 +41,8 @@ static const struct cli_opt opts[] = {
                  choose),
     CLI_OPT_INT("folds", 'k', "<n>", "with --choose: folds, >= 2 (default: 5)", A, cv.cp.folds, 2, 1000),
     COMMON_OPT_REPEATS("with --choose: repeats with fresh shuffles (default: 3)", A, cv.cp),
+    CLI_OPT_STR("group-col", 'g', "<name>", "with --choose: keep rows sharing this column's value (a customer, a thread,\n"
+                "                              passages of one document) in one fold", A, cv.da.group_col),
     COMMON_RUN_OPTIONS(A, cv.da),
     CLI_OPT_END
 };
@@ -138,6 +140,32 @@ static int check_labels(const struct corpus *c, size_t *rows_per, struct err *e)
     return 0;
 }
 
+/* The first label whose rows all share one group, or nlabels if none does
+ * (or there are no groups). */
+static size_t one_group_label(const struct corpus *c, const int *groups)
+{
+    if (!groups)
+        return c->ds.nlabels;
+    int *first = xcalloc(c->ds.nlabels ? c->ds.nlabels : 1, sizeof *first);
+    char *many = xcalloc(c->ds.nlabels ? c->ds.nlabels : 1, 1);
+    for (size_t k = 0; k < c->ds.nlabels; k++)
+        first[k] = -1;
+    for (size_t i = 0; i < c->ds.n; i++) {
+        int k = c->ds.y[i];
+        if (first[k] < 0)
+            first[k] = groups[i];
+        else if (first[k] != groups[i])
+            many[k] = 1;
+    }
+    size_t lone = c->ds.nlabels;
+    for (size_t k = 0; k < c->ds.nlabels && lone == c->ds.nlabels; k++)
+        if (!many[k])
+            lone = k;
+    free(first);
+    free(many);
+    return lone;
+}
+
 int cmd_train(int argc, char **argv)
 {
     const struct cli_cmd *cmd = &cmd_train_info;
@@ -225,9 +253,29 @@ int cmd_train(int argc, char **argv)
         }
         cp.seed = da->seed;
         cp.threads = da->threads;
+        int *groups = common_cv_groups(&cp, &c);
+        size_t lone = one_group_label(&c, groups);
+        if (groups && lone < c.ds.nlabels) {
+            /* a fold would hold all of that label's rows and leave none to train on */
+            cli_warn("label '%s' lies in one value of '%s': the choice cross-validates rows, not groups",
+                     c.ds.labels[lone], da->group_col);
+            free(groups);
+            groups = NULL;
+            cp.group = NULL;
+            cp.n_groups = 0;
+        }
+        if (groups && !folds_given && cp.n_groups < cp.folds) {
+            cp.folds = cp.n_groups < 2 ? 2 : cp.n_groups;
+            if (!cli_quiet)
+                fprintf(stderr, "note: column '%s' has %d values, so the choice cross-validates with %d folds\n",
+                        da->group_col, cp.n_groups, cp.folds);
+        }
         struct pipeline_spec pick;
-        if (compare_grid_choose(&c, data, da, fa, vs, &cp, cli_quiet ? NULL : strcmp(out, "-") ? stdout : stderr,
-                                &pick, &m.choice, &e) < 0)
+        int crc = compare_grid_choose(&c, data, da, fa, vs, &cp,
+                                      cli_quiet ? NULL : strcmp(out, "-") ? stdout : stderr, &pick, &m.choice, &e);
+        free(groups);
+        cp.group = NULL;
+        if (crc < 0)
             goto fail;
         fa->spec = pick;
         if (!features_pool_needs_vectors(pick.feat.pool)) { /* the model then holds no vectors */
@@ -287,8 +335,9 @@ int cmd_train(int argc, char **argv)
         goto fail;
 
     if (!cli_quiet) {
-        fprintf(stderr, "trained %s on %zu rows, %zu labels, pooling %s", pipeline_classifier_name(fa->spec.clf),
-                c.ds.n, m.k, features_pool_name(fa->spec.feat.pool));
+        fprintf(stderr, "trained %s (C %g) on %zu rows, %zu labels, pooling %s",
+                pipeline_classifier_name(fa->spec.clf), pipeline_spec(m.pipe)->C, c.ds.n, m.k,
+                features_pool_name(fa->spec.feat.pool));
         if (info.stats.tokens)
             fprintf(stderr, "; %.1f%% of tokens %s", 100.0 * (double)info.stats.with_vector / (double)info.stats.tokens,
                     vs ? "had a vector" : "were in the vocabulary");

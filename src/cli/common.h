@@ -122,7 +122,8 @@ cli_take_fn common_take_class_weight; /* int: 1 balanced, 0 none */
                     T, F), \
     CLI_OPT_FN("classifier", 'c', "<name>", "logreg | svm-linear | svm-rbf (default: logreg)", T, \
                F.spec.clf, enum pipeline_classifier, common_take_classifier), \
-    COMMON_OPT_C("inverse regularisation strength, > 0 (default: 1)", T, F), \
+    COMMON_OPT_C("inverse regularisation strength, > 0\n" \
+                 "                              (" PIPELINE_C_HELP ")", T, F), \
     COMMON_OPT_GAMMA(T, F), \
     COMMON_OPT_CLASS_WEIGHT(T, F), \
     COMMON_OPT_SUBLINEAR_TF(T, F), \

@@ -215,7 +215,10 @@ cJSON *compare_json(const struct compare_row *rows, const size_t *order, size_t 
     cJSON_AddNumberToObject(st, "folds", s->cp->folds);
     cJSON_AddNumberToObject(st, "repeats", (double)s->cp->repeats);
     cJSON_AddNumberToObject(st, "seed", (double)s->cp->seed);
-    cJSON_AddItemToObject(st, "C", jsonv_number_new(s->base->C));
+    if (s->base->C > 0)
+        cJSON_AddItemToObject(st, "C", jsonv_number_new(s->base->C));
+    else
+        cJSON_AddStringToObject(st, "C", "each set-up's default (its result's C)");
     if (s->base->gamma > 0)
         cJSON_AddItemToObject(st, "gamma", jsonv_number_new(s->base->gamma));
     else
@@ -242,6 +245,10 @@ cJSON *compare_json(const struct compare_row *rows, const size_t *order, size_t 
             cJSON_AddNullToObject(o, "vectors");
         cJSON_AddStringToObject(o, "pool", features_pool_name(r->pool));
         cJSON_AddStringToObject(o, "classifier", pipeline_classifier_name(r->clf));
+        struct pipeline_spec rs = *s->base;
+        rs.feat.pool = r->pool;
+        rs.clf = r->clf;
+        cJSON_AddItemToObject(o, "C", jsonv_number_new(pipeline_spec_C(&rs)));
         cJSON_AddItemToObject(o, "macro_f1", compare_spread_json(r->r.spread.macro_f1));
         cJSON_AddItemToObject(o, "accuracy", compare_spread_json(r->r.spread.accuracy));
         cJSON_AddItemToObject(o, "log_loss", compare_spread_json(r->r.spread.log_loss));

@@ -290,7 +290,7 @@ cJSON *evaluate_json(const struct cv_result *r, const struct corpus *c, const st
     cJSON_AddStringToObject(st, "pool", features_pool_name(sp->feat.pool));
     cJSON_AddBoolToObject(st, "sublinear_tf", sp->feat.sublinear_tf);
     cJSON_AddStringToObject(st, "classifier", pipeline_classifier_name(sp->clf));
-    cJSON_AddItemToObject(st, "C", jsonv_number_new(sp->C));
+    cJSON_AddItemToObject(st, "C", jsonv_number_new(pipeline_spec_C(sp)));
     if (sp->clf == CLF_SVM_RBF)
         cJSON_AddItemToObject(st, "gamma", sp->gamma > 0 ? jsonv_number_new(sp->gamma) : cJSON_CreateString("default"));
     cJSON_AddStringToObject(st, "class_weight", sp->balanced ? "balanced" : "none");

@@ -47,7 +47,7 @@ int evaluate_html(const char *path, const struct cv_result *r, const struct corp
     if (r->chosen_C)
         snprintf(cval, sizeof cval, "C chosen in each fold");
     else
-        snprintf(cval, sizeof cval, "C %g", s->fa->spec.C);
+        snprintf(cval, sizeof cval, "C %g", pipeline_spec_C(&s->fa->spec));
     snprintf(para, sizeof para, "%s, %s, class weight %s.", what, cval, s->fa->spec.balanced ? "balanced" : "none");
     report_html_section(fp, "Summary", para);
     /* the overall figures as a small table, so they stand out */

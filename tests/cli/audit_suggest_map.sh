@@ -77,7 +77,8 @@ if awk -F, 'NR == 8 { p = $4 } END { exit !(p < 0.5) }' "$D/p.csv" \
    && sed -n 2p "$D/sus2.csv" | grep -q "^7,'-tools,'+fruit,"; then ok; else bad_here "confidence: $(sed -n 2p "$D/sus2.csv")"; fi
 
 # ---- suggest ----
-run "$VECSIFT" train "$D/data.csv" --pool bow -o "$D/model.json"
+# --C 1: the margins this pool was written for (bow defaults to a weaker penalty)
+run "$VECSIFT" train "$D/data.csv" --pool bow --C 1 -o "$D/model.json"
 expect_status 0
 {
   echo "id,text,note"

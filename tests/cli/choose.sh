@@ -105,8 +105,32 @@ p = m["pipeline"]
 assert p["features"]["pool"] == c["pool"] and p["classifier"]["kind"] == c["classifier"], (p["features"]["pool"], c)
 assert (m["vectors"] is None) == (c["pool"] == "bow")
 print("chose", c["pool"], c["classifier"], "rank", c["rank"], "of", len(res))
+# the second level, C: five values around the route's default on the same
+# folds, so the default's score is the first level's to the last bit; the
+# highest mean kept (a tie: the smaller C), and the model fitted with it
+cr = ch["C_results"]
+assert len(cr) == 5 and [r["C"] for r in cr] == sorted(r["C"] for r in cr), cr
+mid = cr[2]
+assert mid["macro_f1"] == c["macro_f1"]["mean"], (mid, c["macro_f1"])
+top = max(r["macro_f1"] for r in cr)
+want = [r for r in cr if r["macro_f1"] == top][0]
+assert [r for r in cr if r["chosen"]] == [want], cr
+assert ch["C"] == want["C"] == p["classifier"]["C"], (ch["C"], want, p["classifier"]["C"])
 PYEOF
 expect_status 0
+# --group-col: rows of one customer in one fold; a missing column is bad input
+run "$VECSIFT" train "$IN" "${TXT[@]}" --choose --group-col customer "${CV[@]}" --threads 1 -o "$D/g.json" -q
+expect_status 0; expect_file "$D/g.json"
+run "$VECSIFT" train "$IN" "${TXT[@]}" --choose --group-col nosuch "${CV[@]}" -o "$D/g2.json" -q
+expect_status 2; expect_err "nosuch"; expect_no_file "$D/g2.json"
+# a label all in one group cannot be left out of a fold's training rows:
+# the choice warns and cross-validates rows
+{
+  echo "text,label,g"
+  for i in 1 2 3 4 5 6; do echo "apple pear fig $i,fruit,orchard"; echo "hammer saw nail $i,tools,shed$((i % 3))"; done
+} >"$D/lone.csv"
+run "$VECSIFT" train "$D/lone.csv" --choose --group-col g --folds 2 --repeats 1 -o "$D/g3.json"
+expect_status 0; expect_err "label 'fruit' lies in one value of 'g'"; expect_file "$D/g3.json"
 run "$VECSIFT" predict "$D/m.json" "$NEW" -o "$D/p.csv" -q
 expect_status 0
 expect_file "$D/p.csv"
