@@ -257,15 +257,6 @@ void cli_warn_too_long(const char *path, long line, size_t n)
              "or dump?)", path, where, n, n == 1 ? "" : "s", TEXT_MAX_TOKEN, line > 0 ? ", the first on this line" : "");
 }
 
-int cli_threads(const struct cli_cmd *cmd, const char *val, int *out)
-{
-    long v;
-    if (cli_long(cmd, "threads", val, 1, CLI_MAX_THREADS, &v) < 0)
-        return -1;
-    *out = (int)v;
-    return 0;
-}
-
 int cli_default_threads(void)
 {
     long n = sysconf(_SC_NPROCESSORS_ONLN);

@@ -157,7 +157,6 @@ int cli_double(const struct cli_cmd *cmd, const char *opt, const char *val, doub
  * CLI_MAX_THREADS, parsed and refused with one message.  The default is the
  * processors online, capped the same way. */
 #define CLI_MAX_THREADS 256
-int cli_threads(const struct cli_cmd *cmd, const char *val, int *out);
 int cli_default_threads(void);
 
 /* Print an error the one way: "vecsift: MSG" then "hint: HINT".  Returns the

@@ -24,6 +24,9 @@
 #include "vecsift/vocab.h"
 #include "vecsift/xalloc.h"
 
+/* No --pool given (not a pooling: set before parsing, replaced after). */
+#define POOL_UNSET ((enum features_pool)-1)
+
 struct audit_args {
     struct common_cv cv;
     const char *out, *proba_out;
@@ -94,8 +97,10 @@ const struct cli_cmd cmd_audit_info = {
     "row (1-based data row), given, suggested, score (the --rank key: 1 minus\n"
     "the probability of the given label, or the probability of the most likely\n"
     "other label minus that of the given one), excerpt, p_given, p_suggested.\n"
-    "Vectors learned from your unlabelled text (--vectors) usually find more\n"
-    "wrong labels than --pool bow.  A suspect is a row to look at, not a proven\n"
+    "Without --pool, audit scores with the route that found the most planted\n"
+    "wrong labels on open data (docs/benchmarks.md, label audit): bow+tfidf\n"
+    "with --vectors, bow without; vectors learned from your unlabelled text\n"
+    "usually find more wrong labels than bow alone.  A suspect is a row to look at, not a proven\n"
     "mistake: some are texts that really belong to two queues.  A summary goes\n"
     "to stderr."
 };
@@ -194,6 +199,7 @@ int cmd_audit(int argc, char **argv)
     memset(&a, 0, sizeof a);
     common_keep_freed_memory();
     common_cv_init(&a.cv, 1);
+    a.cv.fa.spec.feat.pool = POOL_UNSET; /* audit's own default, below */
     a.out = "-";
     a.excerpt = 160;
     struct labelcheck_opts lo0 = LABELCHECK_OPTS_INIT;
@@ -202,6 +208,8 @@ int cmd_audit(int argc, char **argv)
     int rc = cli_parse_exact(&cmd_audit_info, argc, argv, &a, 1, &data, "audit takes one data file");
     if (rc != CLI_END)
         return rc;
+    if (a.cv.fa.spec.feat.pool == POOL_UNSET)
+        a.cv.fa.spec.feat.pool = a.cv.fa.vectors ? POOL_BOW_TFIDF : POOL_BOW;
     rc = ERR_OK;
     if (a.proba_out && strcmp(a.proba_out, "-") == 0 && strcmp(a.out, "-") == 0)
         return cli_usage(&cmd_audit_info, "the suspects and --probabilities cannot both go to stdout");
